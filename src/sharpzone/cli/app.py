@@ -1,0 +1,51 @@
+"""The typer application and its global options. Command groups register themselves here."""
+
+from __future__ import annotations
+
+from typing import Annotated, Optional
+
+import typer
+
+from sharpzone.cli.main import SharpzoneGroup
+from sharpzone.cli.state import CliState
+
+app = typer.Typer(
+    cls=SharpzoneGroup,
+    name="sharpzone",
+    help="Which frames of a shoot held the subject sharp, why not, and what would have worked.",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+    context_settings={"help_option_names": ["-h", "--help"]},
+)
+
+
+@app.callback()
+def main(
+    ctx: typer.Context,
+    catalog: Annotated[
+        Optional[str],
+        typer.Option(
+            "--catalog",
+            envvar="SHARPZONE_CATALOG",
+            help="Catalogue to use: a SQLite file path or a SQLAlchemy URL "
+            "(postgresql+psycopg://…). Default: a file in your user data folder.",
+            show_default=False,
+        ),
+    ] = None,
+    debug: Annotated[bool, typer.Option("--debug", help="Show a traceback when something fails.")] = False,
+) -> None:
+    """Which frames of a shoot held the subject sharp, why not, and what would have worked."""
+    ctx.obj = CliState(catalog=catalog, debug=debug)
+
+
+def _register_commands() -> None:
+    # Each command module adds its commands or sub-groups to ``app``; imports stay light
+    # (heavy libraries are imported inside the commands that need them).
+    from sharpzone.cli import optics_commands
+
+    optics_commands.register(app)
+
+
+_register_commands()

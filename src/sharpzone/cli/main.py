@@ -1,0 +1,70 @@
+"""Entry point: runs the typer app and renders every user-facing error exactly once."""
+
+from __future__ import annotations
+
+import os
+import sys
+
+import click
+from typer.core import TyperGroup
+
+from sharpzone.errors import SharpzoneError
+
+PROG = "sharpzone"
+
+
+def _say_error(message: str) -> None:
+    click.echo(f"{PROG}: error: {message}", err=True)
+
+
+def _one_line(text: str) -> str:
+    return " ".join(str(text).split())
+
+
+class SharpzoneGroup(TyperGroup):
+    """The top-level command group: one clear line on stderr for any error we can explain.
+
+    Exit codes: 0 success, 1 a ``SharpzoneError`` (2 for bad values and usage), 130 on
+    Ctrl-C. A traceback is shown only with ``--debug``. A closed pipe (``| head``) is quiet.
+    """
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):  # noqa: D102
+        argv = list(sys.argv[1:] if args is None else args)
+        debug = "--debug" in argv
+        try:
+            result = super().main(argv, prog_name or PROG, complete_var, standalone_mode=False, **extra)
+            code = result if isinstance(result, int) else 0
+        except click.exceptions.Exit as exit_:
+            code = exit_.exit_code
+        except click.exceptions.Abort:
+            code = 130
+        except KeyboardInterrupt:
+            code = 130
+        except click.UsageError as error:
+            where = f"{error.ctx.command_path}: " if error.ctx is not None else ""
+            _say_error(where + _one_line(error.format_message()))
+            code = 2
+        except click.ClickException as error:
+            _say_error(_one_line(error.format_message()))
+            code = error.exit_code
+        except SharpzoneError as error:
+            if debug:
+                raise
+            _say_error(_one_line(str(error)))
+            code = error.exit_code
+        except BrokenPipeError:
+            # The reader went away (``sharpzone frames | head``): say nothing, and keep
+            # Python from complaining again when it flushes stdout at exit.
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            code = 1
+        if standalone_mode:
+            sys.exit(code)
+        return code
+
+
+def run() -> None:
+    """Console-script entry point (``sharpzone``)."""
+    from sharpzone.cli.app import app
+
+    app()

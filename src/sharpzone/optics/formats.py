@@ -1,0 +1,44 @@
+"""Sensor (film) formats as the optics sees them: a frame of width × height millimetres."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from sharpzone.errors import InvalidValue
+
+# The 36 × 24 mm frame: the reference for "35 mm equivalent" focal lengths (EXIF
+# FocalLengthIn35mmFilm, CIPA DC-008) and crop factors.
+FULL_FRAME_DIAGONAL_MM = math.hypot(36.0, 24.0)
+
+
+@dataclass(frozen=True)
+class SensorFormat:
+    """A named image area; ``coc_divisor`` is the default diagonal / k rule for this format."""
+
+    name: str
+    width_mm: float
+    height_mm: float
+    coc_divisor: float = 1500.0
+
+    def __post_init__(self) -> None:
+        if not self.name or not self.name.strip():
+            raise InvalidValue("a sensor format needs a name")
+        for label, value in (("width", self.width_mm), ("height", self.height_mm)):
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
+                raise InvalidValue(f"format {self.name!r}: {label} {value!r} mm must be a positive number")
+        if not (math.isfinite(self.coc_divisor) and self.coc_divisor > 0):
+            raise InvalidValue(f"format {self.name!r}: CoC divisor {self.coc_divisor!r} must be positive")
+
+    @property
+    def diagonal_mm(self) -> float:
+        return math.hypot(self.width_mm, self.height_mm)
+
+    @property
+    def crop_factor(self) -> float:
+        """How much smaller the diagonal is than 36 × 24 mm (1.0 for that frame)."""
+        return FULL_FRAME_DIAGONAL_MM / self.diagonal_mm
+
+    @property
+    def aspect_ratio(self) -> float:
+        return max(self.width_mm, self.height_mm) / min(self.width_mm, self.height_mm)
