@@ -15,6 +15,8 @@ from sharpzone.ingest.records import CaptureRecord
 # f/0.5 is the limit for a lens in air (N = 1 / (2 NA) with numerical aperture NA <= 1;
 # encyclopedia article "F-number", section on numerical aperture).
 MIN_F_NUMBER = 0.5
+# APEX Av 32 is f/65536: anything beyond is damage, not a lens.
+_MAX_APERTURE_VALUE = 32
 # Focus closer than 1 mm from the sensor is physically meaningless for a camera.
 MIN_FOCUS_MM = 1.0
 
@@ -88,7 +90,8 @@ def _positive(tags: dict, name: str, label: str, unit: str, warnings: list[str])
         return None
     number = _number(tags[name])
     if number is None or number <= 0:
-        warnings.append(f"{label} {tags[name]!r} {unit} ignored: expected a positive number")
+        shown = f"{tags[name]!r} {unit}".rstrip()
+        warnings.append(f"{label} {shown} ignored: expected a positive number")
         return None
     return number
 
@@ -103,9 +106,13 @@ def _positive_int(tags: dict, names: tuple[str, ...], warnings: list[str]) -> in
 
 def _f_number(tags: dict, warnings: list[str]) -> float | None:
     f_number = _positive(tags, "FNumber", "f-number", "", warnings)
-    if f_number is None and _number(tags.get("ApertureValue")) is not None:
+    aperture_value = _number(tags.get("ApertureValue"))
+    if f_number is None and aperture_value is not None:
+        if aperture_value > _MAX_APERTURE_VALUE:
+            warnings.append(f"ApertureValue {aperture_value:g} ignored: beyond f/{2 ** (_MAX_APERTURE_VALUE / 2):g}")
+            return None
         # APEX (EXIF 2.3, ApertureValue): Av = 2 log2(N), so N = 2^(Av/2).
-        f_number = 2 ** (_number(tags["ApertureValue"]) / 2)
+        f_number = 2 ** (aperture_value / 2)
         warnings.append("f-number taken from ApertureValue (FNumber missing)")
     if f_number is not None and f_number < MIN_F_NUMBER:
         warnings.append(f"f-number {f_number:g} ignored: below f/{MIN_F_NUMBER:g}, the limit for a lens in air")
