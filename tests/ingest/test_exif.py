@@ -261,6 +261,15 @@ def test_error_message_names_the_file_printably(written):
     str(caught.value).encode("utf-8")  # printable on a strict UTF-8 stream
 
 
+def test_read_error_pickles_for_worker_processes(written):
+    import pickle
+
+    with pytest.raises(FileReadError) as caught:
+        read_tags(written("empty.jpg", b""))
+    copy = pickle.loads(pickle.dumps(caught.value))
+    assert (copy.path, copy.reason, str(copy)) == (caught.value.path, "empty file", str(caught.value))
+
+
 # --- fuzz ---------------------------------------------------------------------------------
 
 _SEED_FILES = {

@@ -124,6 +124,22 @@ def test_unreadable_folder_is_a_problem(shoot):
         os.chmod(locked, 0o755)
 
 
+def test_unreadable_folder_is_a_problem_even_when_running_as_root(shoot, monkeypatch):
+    real_scandir = os.scandir
+    locked = os.fsencode(shoot / "day2")
+
+    def scandir(path):
+        if os.fsencode(path) == locked:
+            raise PermissionError(13, "Permission denied")
+        return real_scandir(path)
+
+    monkeypatch.setattr(os, "scandir", scandir)
+    result = scan_paths([shoot])
+    assert [(os.path.basename(problem.path), problem.reason) for problem in result.problems] == [
+        ("day2", "permission denied")]
+    assert _names(result) == ["a.jpg", "b.TIF", "c.png"]
+
+
 def test_non_utf8_file_name(written, tmp_path):
     written(b"harbour-\xe9t\xe9.jpg", images.jpeg(images.exif_block()))  # Latin-1 bytes, not UTF-8
     candidate = scan_paths([os.fsencode(tmp_path)]).candidates[0]
