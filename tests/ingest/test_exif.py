@@ -46,6 +46,7 @@ def _assert_standard_tags(tags: dict) -> None:
     assert tags["FocalPlaneXResolution"] == pytest.approx(4233.333)
     assert tags["FocalPlaneResolutionUnit"] == 2
     assert tags["Make"] == "Korvath"
+    assert "ExifOffset" not in tags  # a pointer between IFDs, not information
     assert all(isinstance(value, PLAIN_TYPES) for value in tags.values())
 
 

@@ -33,6 +33,8 @@ TagValue = int | float | str | bytes | tuple | None
 # The IFDs whose tags describe the main image; thumbnails, maker notes and interoperability
 # data are left out. Later groups win when a name repeats.
 _KEPT_IFDS = ("Image", "GPS", "EXIF")
+# Offsets to the EXIF, GPS and interoperability IFDs: structure, not information.
+_POINTER_TAGS = frozenset({0x8769, 0x8825, 0xA005})
 # EXIF 2.3 (CIPA DC-008) SubjectDistance: numerator 0xFFFFFFFF means infinity.
 _INFINITE_NUMERATOR = 0xFFFFFFFF
 _SUBJECT_DISTANCE_TAG = 0x9206
@@ -170,8 +172,7 @@ def _png_exif_block(file: BinaryIO) -> bytes | None:
 
 def _heif_exif_block(file: BinaryIO) -> bytes | None:
     """Find the ``Exif`` item of a HEIF file (ISO/IEC 23008-12) through its meta box."""
-    size = os.fstat(file.fileno()).st_size if hasattr(file, "fileno") else None
-    meta = _find_top_level_box(file, b"meta", size)
+    meta = _find_top_level_box(file, b"meta", os.fstat(file.fileno()).st_size)
     if meta is None:
         return None
     children = dict(_child_boxes(meta, 4))  # meta is a full box: skip version and flags
@@ -198,7 +199,7 @@ def _heif_exif_block(file: BinaryIO) -> bytes | None:
     return block[6:] if block.startswith(b"Exif\x00\x00") else block
 
 
-def _find_top_level_box(file: BinaryIO, wanted: bytes, size: int | None) -> bytes | None:
+def _find_top_level_box(file: BinaryIO, wanted: bytes, size: int) -> bytes | None:
     position = 0
     file.seek(0)
     while True:
@@ -214,7 +215,7 @@ def _find_top_level_box(file: BinaryIO, wanted: bytes, size: int | None) -> byte
             (box_size,) = struct.unpack(">Q", large)
             header_size = 16
         elif box_size == 0:  # runs to the end of the file
-            box_size = (size - position) if size is not None else _MAX_METADATA_BYTES
+            box_size = size - position
         if box_size < header_size:
             raise _Unreadable("damaged HEIF box")
         if box_type == wanted:
@@ -336,7 +337,7 @@ def _tags_from_tiff(stream: BinaryIO) -> dict[str, TagValue]:
     for group in _KEPT_IFDS:
         prefix = group + " "
         for key, tag in raw.items():
-            if not key.startswith(prefix) or not hasattr(tag, "field_type"):
+            if not key.startswith(prefix) or not hasattr(tag, "field_type") or tag.tag in _POINTER_TAGS:
                 continue
             value = _plain_value(tag, stream, byte_order)
             if value is not None:
