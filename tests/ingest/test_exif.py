@@ -218,6 +218,18 @@ def test_broken_tiff_header(written, data):
     assert _reason(written("broken.tif", data)) == "broken TIFF header"
 
 
+def test_directory_running_past_the_end_is_refused_quickly(written):
+    import time
+
+    data = bytearray(images.pillow_image("TIFF", images.exif_block(), size=(4, 4)))
+    first_ifd = int.from_bytes(data[4:8], "little")
+    data[first_ifd : first_ifd + 2] = b"\xff\x8f"  # 36863 entries in a file of a few hundred bytes
+    start = time.perf_counter()
+    assert _reason(written("long-ifd.tif", bytes(data))) == "damaged EXIF (a directory runs past the end)"
+    # exifread alone walks every entry through garbage (about 0.4 s measured); refused up front.
+    assert time.perf_counter() - start < 0.1
+
+
 def test_truncated_png(written):
     data = images.pillow_image("PNG", images.exif_block())
     assert _reason(written("cut.png", data[: data.index(b"eXIf") + 20])) == "truncated PNG"

@@ -41,6 +41,9 @@ _SUBJECT_DISTANCE_TAG = 0x9206
 # A HEIF meta box or EXIF item beyond this is not metadata but damage.
 _MAX_METADATA_BYTES = 16 << 20
 _HEAD_BYTES = 4096
+# More IFDs than this (main image, thumbnail, EXIF, GPS, interoperability, raw previews...)
+# are not checked further; exifread has its own loop guard.
+_MAX_DIRECTORIES = 64
 
 _exifread_module = None
 
@@ -172,7 +175,8 @@ def _png_exif_block(file: BinaryIO) -> bytes | None:
 
 def _heif_exif_block(file: BinaryIO) -> bytes | None:
     """Find the ``Exif`` item of a HEIF file (ISO/IEC 23008-12) through its meta box."""
-    meta = _find_top_level_box(file, b"meta", os.fstat(file.fileno()).st_size)
+    size = os.fstat(file.fileno()).st_size
+    meta = _find_top_level_box(file, b"meta", size)
     if meta is None:
         return None
     children = dict(_child_boxes(meta, 4))  # meta is a full box: skip version and flags
@@ -186,7 +190,7 @@ def _heif_exif_block(file: BinaryIO) -> bytes | None:
         raise _Unreadable("damaged HEIF (Exif item has no location)")
     method, extents = locations[exif_ids[0]]
     if method == 0:
-        item = _read_file_extents(file, extents)
+        item = _read_file_extents(file, extents, size)
     elif method == 1:
         idat = children.get(b"idat", b"")
         item = b"".join(idat[offset : offset + length] for offset, length in extents)
@@ -226,6 +230,8 @@ def _find_top_level_box(file: BinaryIO, wanted: bytes, size: int) -> bytes | Non
                 raise _Unreadable("truncated HEIF")
             return payload
         position += box_size
+        if position >= size:
+            return None
         file.seek(position)
 
 
@@ -299,11 +305,13 @@ def _heif_item_locations(iloc: bytes) -> dict[int, tuple[int, list[tuple[int, in
     return locations
 
 
-def _read_file_extents(file: BinaryIO, extents: list[tuple[int, int]]) -> bytes:
+def _read_file_extents(file: BinaryIO, extents: list[tuple[int, int]], size: int) -> bytes:
     if sum(length for _, length in extents) > _MAX_METADATA_BYTES:
         raise _Unreadable("damaged HEIF (Exif item too large)")
     parts = []
     for offset, length in extents:
+        if offset + length > size:
+            raise _Unreadable("truncated HEIF")
         file.seek(offset)
         part = file.read(length)
         if len(part) < length:
@@ -328,10 +336,49 @@ def _exifread():
     return _exifread_module
 
 
+def _check_directories(stream: BinaryIO, byte_order: str, size: int) -> None:
+    """Refuse a TIFF whose IFDs run past its end (TIFF 6.0: 2-byte count, 12-byte entries).
+
+    exifread would walk such a directory entry by entry (up to 65535 of them, each with up
+    to 999 values) through garbage: most of a second per damaged file, not a clear reason.
+    """
+    # (offset, in the main chain?): only the IFD0 chain links on through next-IFD offsets;
+    # sub-IFDs (EXIF, GPS...) need not end with one, and exifread does not follow it there.
+    pending = [(_read_uint(stream, byte_order, 4, 4) or 0, True)]
+    seen: set[int] = set()
+    while pending and len(seen) < _MAX_DIRECTORIES:
+        offset, in_chain = pending.pop()
+        if offset == 0 or offset in seen:
+            continue
+        seen.add(offset)
+        entries = _read_uint(stream, byte_order, offset, 2)
+        if entries is None or offset + 2 + 12 * entries > size:
+            raise _Unreadable("damaged EXIF (a directory runs past the end)")
+        stream.seek(offset + 2)
+        table = stream.read(12 * entries)
+        for index in range(entries):
+            tag, _field_type, _count, value = struct.unpack_from(byte_order + "HHII", table, 12 * index)
+            if tag in _POINTER_TAGS:
+                pending.append((value, False))
+        if in_chain:
+            pending.append((_read_uint(stream, byte_order, offset + 2 + 12 * entries, 4) or 0, True))
+
+
+def _read_uint(stream: BinaryIO, byte_order: str, offset: int, width: int) -> int | None:
+    stream.seek(offset)
+    data = stream.read(width)
+    if len(data) < width:
+        return None
+    return int.from_bytes(data, "little" if byte_order == "<" else "big")
+
+
 def _tags_from_tiff(stream: BinaryIO) -> dict[str, TagValue]:
     exifread = _exifread()
+    stream.seek(0, os.SEEK_END)
+    size = stream.tell()
     stream.seek(0)
     byte_order = "<" if stream.read(2) == b"II" else ">"
+    _check_directories(stream, byte_order, size)
     raw = exifread.process_file(stream, details=False, extract_thumbnail=False)
     tags: dict[str, TagValue] = {}
     for group in _KEPT_IFDS:
