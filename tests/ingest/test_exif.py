@@ -162,6 +162,20 @@ def test_trap_foreign_exceptions_escape_exifread():
         exifread.process_file(io.BytesIO(b"\xff\xd8"), details=False)
 
 
+def test_trap_png_chunk_names_decoded_eagerly(written):
+    import struct
+    import zlib
+
+    png = images.pillow_image("PNG", images.exif_block())
+    # A private chunk whose name is not ASCII (damage), placed right after IHDR (8 + 25 bytes).
+    odd = b"\xe9tXt" + b"x"
+    chunk = struct.pack(">I", 1) + odd + struct.pack(">I", zlib.crc32(odd))
+    data = png[:33] + chunk + png[33:]
+    with pytest.raises(UnicodeDecodeError):  # the trap: a foreign exception from exifread
+        exifread.process_file(io.BytesIO(data), details=False)
+    _assert_standard_tags(read_tags(written("odd-chunk.png", data)))
+
+
 def test_trap_logger_writes_to_stderr_and_ours_is_quiet(tmp_path):
     path = tmp_path / "loop.tif"
     path.write_bytes(images.tiff_with_ifd_loop())

@@ -11,7 +11,7 @@ located ourselves, because its own container readers have traps (measured, see t
 * rationals are reduced fractions, so 0/0 raises on ``float()`` and the SubjectDistance
   infinity mark (numerator 0xFFFFFFFF) is lost unless the denominator is coprime with it:
   we re-read every rational's raw numerator and denominator;
-* errors other than its own escape (IndexError, UnicodeDecodeError, RecursionError...),
+* errors other than its own escape (IndexError, UnicodeDecodeError, ...),
   and its logger writes warnings to stderr.
 
 Every failure leaves this module as a ``FileReadError`` with a short reason.
