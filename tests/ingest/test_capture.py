@@ -73,3 +73,15 @@ def test_results_survive_a_process_pool(written):
     assert [result.focal_mm for result in results[:3]] == [24.0, 25.0, 26.0]
     assert results[3] == ReadProblem(paths[3], "not an image")
     assert pickle.loads(pickle.dumps(results)) == results
+
+
+def test_importing_the_read_stages_loads_no_heavy_library():
+    import subprocess
+    import sys
+
+    code = (
+        "import sys, sharpzone.ingest.capture, sharpzone.ingest.scan; "
+        "print(sorted(m for m in ('exifread', 'defusedxml', 'PIL', 'sqlalchemy', 'pandas') if m in sys.modules))"
+    )
+    run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert run.stdout.strip() == "[]"
