@@ -159,7 +159,8 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         focus_alone = missed & (better_label <= f_number * (1 + 1e-9))
         out_of_reach = missed & ~focus_alone & ~(better_label <= max_f_number * (1 + 1e-9))
         too_wide = missed & ~focus_alone & (needed_label > f_number)
-        refocus_and_stop_down = missed & ~focus_alone & ~out_of_reach & (better_label < needed_label)
+        # Refocusing is worth naming next to stopping down only when it saves a stop or more.
+        refocus_and_stop_down = missed & ~focus_alone & ~out_of_reach & (better_label * 2 ** 0.5 <= needed_label * (1 + 1e-9))
     if out_of_reach.any():
         rows = out_of_reach
         stack[rows] = stack_frame_counts(focal[rows], f_number[rows], coc[rows], required_near[rows],
