@@ -183,7 +183,11 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         "outside-plan": outside_plan,
     }
     flag_matrix = np.column_stack([flag_columns[name] for name in FLAGS]) if count else np.zeros((0, len(FLAGS)), bool)
-    result["flags"] = [[FLAGS[i] for i in np.flatnonzero(row)] for row in flag_matrix]
+    # Few distinct flag combinations occur: build each list once and share it between rows
+    # (treat them as read-only).
+    codes = flag_matrix.astype(np.int64) @ (1 << np.arange(len(FLAGS), dtype=np.int64))
+    combinations = {int(code): [FLAGS[i] for i in range(len(FLAGS)) if code >> i & 1] for code in np.unique(codes)}
+    result["flags"] = [combinations[code] for code in codes.tolist()]
     result["required_near_mm"] = required_near
     result["required_far_mm"] = required_far
     result["needed_f_number"] = needed_label
