@@ -12,7 +12,7 @@ import pytest
 from sharpzone.ingest.capture import read_capture
 from sharpzone.ingest.records import CaptureRecord
 
-from ingest import images  # tests/ is on sys.path (pytest rootdir-based import)
+from ..ingest import images
 
 FILES = 2000
 
