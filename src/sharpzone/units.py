@@ -140,3 +140,16 @@ def metres_or_inf(value_mm: float | None) -> float | str | None:
     if math.isinf(value_mm):
         return "inf"
     return value_mm / 1000.0
+
+
+_F_NUMBER = re.compile(r"^\s*(?:f\s*/?\s*)?((?:\d+(?:\.\d*)?|\.\d+))\s*$", re.IGNORECASE)
+
+
+def parse_f_number(text: str | float | int, *, what: str = "f-number") -> float:
+    """Parse an f-number written as ``8``, ``f8``, ``f/8`` or ``F/5.6``."""
+    if isinstance(text, (int, float)):
+        return float(text)
+    match = _F_NUMBER.match(str(text))
+    if not match:
+        raise InvalidValue(f"{what} {text!r} is not an f-number: expected a number such as 8, f8 or f/5.6")
+    return float(match.group(1))

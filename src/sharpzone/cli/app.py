@@ -13,7 +13,7 @@ app = typer.Typer(
     cls=SharpzoneGroup,
     name="sharpzone",
     help="Which frames of a shoot held the subject sharp, why not, and what would have worked.",
-    no_args_is_help=True,
+    invoke_without_command=True,
     add_completion=False,
     pretty_exceptions_enable=False,
     rich_markup_mode=None,
@@ -38,6 +38,9 @@ def main(
 ) -> None:
     """Which frames of a shoot held the subject sharp, why not, and what would have worked."""
     ctx.obj = CliState(catalog=catalog, debug=debug)
+    if ctx.invoked_subcommand is None:
+        typer.echo(ctx.get_help())
+        raise typer.Exit(0)
 
 
 def _register_commands() -> None:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import os
 import sys
 
-import click
+import typer
 from typer.core import TyperGroup
 
 from sharpzone.errors import SharpzoneError
@@ -14,7 +14,7 @@ PROG = "sharpzone"
 
 
 def _say_error(message: str) -> None:
-    click.echo(f"{PROG}: error: {message}", err=True)
+    typer.echo(f"{PROG}: error: {message}", err=True)
 
 
 def _one_line(text: str) -> str:
@@ -34,18 +34,15 @@ class SharpzoneGroup(TyperGroup):
         try:
             result = super().main(argv, prog_name or PROG, complete_var, standalone_mode=False, **extra)
             code = result if isinstance(result, int) else 0
-        except click.exceptions.Exit as exit_:
+        except typer.Exit as exit_:
             code = exit_.exit_code
-        except click.exceptions.Abort:
+        except (typer.Abort, KeyboardInterrupt):
             code = 130
-        except KeyboardInterrupt:
-            code = 130
-        except click.UsageError as error:
-            where = f"{error.ctx.command_path}: " if error.ctx is not None else ""
+        except typer.TyperException as error:
+            # Usage errors (unknown option, missing value, bad type) carry exit code 2.
+            context = getattr(error, "ctx", None)
+            where = f"{context.command_path}: " if context is not None else ""
             _say_error(where + _one_line(error.format_message()))
-            code = 2
-        except click.ClickException as error:
-            _say_error(_one_line(error.format_message()))
             code = error.exit_code
         except SharpzoneError as error:
             if debug:

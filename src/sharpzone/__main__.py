@@ -1,0 +1,5 @@
+"""``python -m sharpzone`` runs the command line."""
+
+from sharpzone.cli.main import run
+
+run()

@@ -1,0 +1,49 @@
+"""Option parsing shared by commands: every field type is parsed in ``sharpzone.units`` and
+every bad value names the option it came from."""
+
+from __future__ import annotations
+
+from sharpzone.errors import InvalidValue
+from sharpzone.units import parse_distance, parse_f_number, parse_length_mm
+
+REFERENCE_HELP = (
+    "where distances are measured from: 'sensor' (the focal-plane mark, as lens scales and "
+    "EXIF give them) or 'lens' (as optics texts give them)"
+)
+
+
+def _named(option: str, error: InvalidValue) -> InvalidValue:
+    return InvalidValue(f"{option}: {error.message}", error.hint)
+
+
+def distance_option(value: str, option: str) -> float:
+    """A distance option (``3m``, ``10ft``, ``inf``; bare number = metres) in mm."""
+    try:
+        return parse_distance(value, what="value")
+    except InvalidValue as error:
+        raise _named(option, error) from None
+
+
+def length_option(value: str, option: str) -> float:
+    """A small length option (focal length, CoC; bare number = mm) in mm."""
+    try:
+        return parse_length_mm(value, what="value")
+    except InvalidValue as error:
+        raise _named(option, error) from None
+
+
+def f_number_option(value: str, option: str) -> float:
+    """An f-number option (``8``, ``f/8``)."""
+    try:
+        return parse_f_number(value, what="value")
+    except InvalidValue as error:
+        raise _named(option, error) from None
+
+
+def choice_option(value: str, option: str, choices: tuple[str, ...]) -> str:
+    """One of a fixed set of words, case-insensitive."""
+    lowered = value.strip().lower()
+    if lowered not in choices:
+        expected = ", ".join(repr(c) for c in choices)
+        raise InvalidValue(f"{option}: {value!r} is not valid: expected one of {expected}")
+    return lowered

@@ -1,0 +1,1 @@
+"""Benchmarks run on demand only: ``pytest tests/benchmarks -m benchmark -s``."""

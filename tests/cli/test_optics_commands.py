@@ -1,0 +1,100 @@
+"""``sharpzone dof`` and ``sharpzone stack`` through typer's CliRunner."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from typer.testing import CliRunner
+
+from sharpzone.cli.app import app
+
+runner = CliRunner()
+
+
+def invoke(*args: str):
+    return runner.invoke(app, list(args))
+
+
+def test_dof_json_matches_the_exact_form():
+    # Open Photographic Society exact forms, lens-referenced, c = 0.03 mm (computed):
+    # H = 10.4667 m, near 2.3379 m, far 4.1853 m for 50 mm f/8 at 3 m.
+    result = invoke("dof", "--focal", "50", "--aperture", "8", "--distance", "3m", "--coc", "0.03",
+                    "--reference", "lens", "--json")
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    assert data["hyperfocal_m"] == pytest.approx(10.46667, abs=1e-5)
+    assert data["near_m"] == pytest.approx(2.33790, abs=1e-5)
+    assert data["far_m"] == pytest.approx(4.18527, abs=1e-5)
+    assert data["total_m"] == pytest.approx(data["far_m"] - data["near_m"])
+    assert data["coc_mm"] == 0.03
+
+
+def test_dof_json_contract_with_a_sensor():
+    result = invoke("dof", "--focal", "50", "--aperture", "8", "--distance", "3m", "--sensor", "36x24", "--json")
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    for key in ("hyperfocal_m", "near_m", "far_m", "total_m", "coc_mm"):
+        assert isinstance(data[key], float)
+    assert data["coc_mm"] == pytest.approx(43.2666 / 1500, rel=1e-4)
+    assert data["sensor"] == "36x24" and data["reference"] == "sensor"
+
+
+def test_infinity_is_the_string_inf():
+    result = invoke("dof", "-f", "24", "-a", "11", "-d", "inf", "--json")
+    data = json.loads(result.stdout)
+    assert data["far_m"] == "inf" and data["total_m"] == "inf" and data["focus_m"] == "inf"
+
+
+def test_human_output_carries_units_and_imperial_on_request():
+    metric = invoke("dof", "-f", "50", "-a", "8", "-d", "3m")
+    assert metric.exit_code == 0
+    assert "Hyperfocal distance" in metric.stdout and " m" in metric.stdout
+    imperial = invoke("dof", "-f", "50", "-a", "8", "-d", "10ft", "--imperial")
+    assert "ft" in imperial.stdout
+
+
+def test_closeup_and_diffraction_are_said():
+    result = invoke("dof", "-f", "100", "-a", "22", "-d", "40cm")
+    assert "Effective f-number" in result.stdout
+    assert "diffraction limit" in result.stdout
+
+
+@pytest.mark.parametrize(
+    "args, words",
+    [
+        (("-f", "50", "-a", "0", "-d", "3m"), "f-number 0"),
+        (("-f", "50", "-a", "8", "-d", "abc"), "'abc' is not a distance"),
+        (("-f", "50", "-a", "8", "-d", "10cm"), "too close"),
+        (("-f", "50", "-a", "8", "-d", "3m", "--reference", "middle"), "expected one of 'sensor', 'lens'"),
+        (("-f", "50", "-a", "8", "-d", "3m", "--sensor", "nosuch"), "no sensor format 'nosuch'"),
+        (("-f", "50", "-a", "8", "-d", "3m", "--coc-policy", "blurry"), "CoC policy 'blurry'"),
+        (("-f", "fifty", "-a", "8", "-d", "3m"), "'fifty'"),
+    ],
+)
+def test_bad_input_is_one_clear_line(args, words):
+    result = invoke("dof", *args)
+    assert result.exit_code in (1, 2)
+    assert result.stdout == ""
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and words in lines[0] and "Traceback" not in result.stderr
+
+
+def test_bad_values_exit_with_two():
+    assert invoke("dof", "-f", "50", "-a", "0", "-d", "3m").exit_code == 2
+    assert invoke("dof", "-f", "50", "-a", "8").exit_code == 2  # missing option: usage
+
+
+def test_stack_plan_json():
+    result = invoke("stack", "-f", "100", "-a", "8", "--near", "50cm", "--far", "60cm", "--json")
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    assert data["frame_count"] == len(data["frames"]) > 1
+    assert data["frames"][0]["near_m"] == pytest.approx(0.5)
+    assert data["frames"][-1]["far_m"] >= 0.6
+
+
+def test_stack_refuses_an_inverted_range():
+    result = invoke("stack", "-f", "100", "-a", "8", "--near", "60cm", "--far", "50cm")
+    assert result.exit_code == 2
+    assert "not beyond the near end" in result.stderr
