@@ -178,7 +178,7 @@ def format_add(
     with _unit_of_work(ctx) as session:
         row = add_format(
             session, name, length_option(width, "--width"), length_option(height, "--height"),
-            coc_divisor=_number_option(coc_divisor, "coc-divisor") or 1500.0, aliases=alias or [],
+            coc_divisor=1500.0 if coc_divisor is None else _number_option(coc_divisor, "coc-divisor"), aliases=alias or [],
             description=description or "", source=source or "",
         )
     _show(row, "format", title=f"Added format {row.name}")
@@ -366,8 +366,8 @@ def lens_add(
     if focal is None or aperture is None:
         raise InvalidValue("lens add needs --focal (e.g. 50 or 24-70) and --aperture (e.g. 2.8 or 3.5-5.6)")
     numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil)
-    numbers["min_aperture"] = numbers["min_aperture"] or 22.0
-    numbers["pupil_magnification"] = numbers["pupil_magnification"] or 1.0
+    defaults = {"min_aperture": 22.0, "pupil_magnification": 1.0}
+    numbers.update({key: value for key, value in defaults.items() if numbers[key] is None})
     with _unit_of_work(ctx) as session:
         row = add_lens(session, name, exif_names=exif_name or [], confirmed=not unconfirmed, **numbers)
     _show(row, "lens", title=f"Added lens {row.name}")
