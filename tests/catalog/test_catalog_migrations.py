@@ -160,3 +160,19 @@ def test_a_file_that_is_not_a_database_is_refused(tmp_path):
     path.write_text("shopping list: film, batteries\n" * 100)
     with pytest.raises(CatalogError, match="not a sharpzone catalogue or is damaged"):
         migrate.prepare_catalog(sqlite_url(path))
+
+
+# SQLite cannot reflect the expression index on body (checked by its own test above).
+@pytest.mark.filterwarnings("ignore:.*expression-based index:UserWarning")
+@pytest.mark.filterwarnings("ignore:.*expression-based index:sqlalchemy.exc.SAWarning")
+def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, monkeypatch):
+    import shutil
+
+    copy = tmp_path / "migrations"
+    shutil.copytree(migrate.migrations_folder(), copy, ignore=shutil.ignore_patterns("__pycache__"))
+    monkeypatch.setattr(migrate, "migrations_folder", lambda: copy)
+    path = migrate.new_revision("nothing changed")
+    assert path.parent == copy / "versions" and path.name.startswith("0003_")
+    draft = path.read_text(encoding="utf-8")
+    assert "revision = '0003'" in draft and "down_revision = '0002'" in draft
+    assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
