@@ -176,3 +176,17 @@ def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, mo
     draft = path.read_text(encoding="utf-8")
     assert "revision = '0003'" in draft and "down_revision = '0002'" in draft
     assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
+
+
+def test_two_programs_creating_one_catalogue_take_turns(tmp_path):
+    from concurrent.futures import ThreadPoolExecutor
+
+    url = sqlite_url(tmp_path / "shared.sqlite")
+    with ThreadPoolExecutor(max_workers=3) as pool:
+        results = list(pool.map(lambda _: migrate.prepare_catalog(url), range(3)))
+    assert sorted(result.created for result in results) == [False, False, True]
+    engine = create_engine(url)
+    with engine.connect() as connection:
+        count = connection.execute(text("SELECT count(*) FROM sensor_format")).scalar()
+    engine.dispose()
+    assert count == len(shipped_formats())
