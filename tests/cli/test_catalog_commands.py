@@ -185,14 +185,3 @@ def test_every_catalogue_command_and_option_has_help():
                 if parameter.name != "ctx":
                     assert getattr(parameter, "help", None), f"{group_name} {name} {parameter.name}"
 
-
-def test_every_catalogue_command_appears_in_the_readme():
-    from pathlib import Path
-
-    import typer.main
-
-    readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
-    group = typer.main.get_command(app)
-    for group_name in ("format", "body", "lens", "shoot", "catalog"):
-        for name in group.commands[group_name].commands:
-            assert f"{group_name} {name}" in readme, f"README.md does not mention '{group_name} {name}'"

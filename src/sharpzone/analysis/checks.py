@@ -159,7 +159,8 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         focus_alone = missed & (better_label <= f_number * (1 + 1e-9))
         out_of_reach = missed & ~focus_alone & ~(better_label <= max_f_number * (1 + 1e-9))
         too_wide = missed & ~focus_alone & (needed_label > f_number)
-        refocus_and_stop_down = missed & ~focus_alone & ~out_of_reach & (better_label < needed_label)
+        # Refocusing is worth naming next to stopping down only when it saves a stop or more.
+        refocus_and_stop_down = missed & ~focus_alone & ~out_of_reach & (better_label * 2 ** 0.5 <= needed_label * (1 + 1e-9))
     if out_of_reach.any():
         rows = out_of_reach
         stack[rows] = stack_frame_counts(focal[rows], f_number[rows], coc[rows], required_near[rows],
@@ -182,7 +183,11 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         "outside-plan": outside_plan,
     }
     flag_matrix = np.column_stack([flag_columns[name] for name in FLAGS]) if count else np.zeros((0, len(FLAGS)), bool)
-    result["flags"] = [[FLAGS[i] for i in np.flatnonzero(row)] for row in flag_matrix]
+    # Few distinct flag combinations occur: build each list once and share it between rows
+    # (treat them as read-only).
+    codes = flag_matrix.astype(np.int64) @ (1 << np.arange(len(FLAGS), dtype=np.int64))
+    combinations = {int(code): [FLAGS[i] for i in range(len(FLAGS)) if code >> i & 1] for code in np.unique(codes)}
+    result["flags"] = [combinations[code] for code in codes.tolist()]
     result["required_near_mm"] = required_near
     result["required_far_mm"] = required_far
     result["needed_f_number"] = needed_label
