@@ -9,6 +9,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterator
 from contextlib import contextmanager
+from dataclasses import dataclass
 from typing import Annotated, Optional
 
 import typer
@@ -53,41 +54,101 @@ def _json(value) -> None:
     typer.echo(dumps(value))
 
 
+@dataclass(frozen=True)
+class _Noun:
+    """What the list and show commands of one noun need: service functions, renderer
+    fields (names in ``sharpzone.report.catalog_tables``) and words for people."""
+
+    list_function: str
+    get_function: str
+    fields: str
+    plural_title: str
+    empty: str
+    argument_help: str
+    list_help: str
+    show_help: str
+    has_distances: bool
+
+
+_NOUNS = {
+    "format": _Noun("list_formats", "get_format", "FORMAT_FIELDS", "Sensor formats", "No sensor formats.",
+                    "Format name or alias.", "List the catalogue's sensor formats with size, crop factor and default CoC.",
+                    "Show one sensor format.", False),
+    "body": _Noun("list_bodies", "get_body", "BODY_FIELDS", "Camera bodies",
+                  "No camera bodies yet: add one with 'sharpzone body add'.", "Body name.",
+                  "List camera bodies with their EXIF names and sensor formats.", "Show one camera body.", False),
+    "lens": _Noun("list_lenses", "get_lens", "LENS_FIELDS", "Lenses", "No lenses yet: add one with 'sharpzone lens add'.",
+                  "Lens name.", "List lenses with focal range, apertures and EXIF names.", "Show one lens.", True),
+    "shoot": _Noun("list_shoots", "get_shoot", "SHOOT_FIELDS", "Shoots", "No shoots yet: add one with 'sharpzone shoot add'.",
+                   "Shoot name.", "List shoots, newest first, with their plans.", "Show one shoot and its plan.", True),
+}
+
+
+def _fields_of(noun: str):
+    from sharpzone.report import catalog_tables
+
+    return getattr(catalog_tables, _NOUNS[noun].fields)
+
+
 def _show(row, noun: str, *, as_json: bool = False, imperial: bool = False, title: str | None = None) -> None:
     from sharpzone.report import catalog_tables
 
-    fields = _FIELDS[noun]()
+    fields = _fields_of(noun)
     if as_json:
         _json(catalog_tables.row_json(row, fields))
     else:
         catalog_tables.render_record(row, fields, title=title or f"{noun.capitalize()} {row.name}", imperial=imperial)
 
 
-def _list(rows, noun: str, *, as_json: bool, imperial: bool = False, title: str, empty: str) -> None:
+def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool) -> None:
+    from sharpzone.catalog import service
     from sharpzone.report import catalog_tables
 
-    fields = _FIELDS[noun]()
+    spec = _NOUNS[noun]
+    with _unit_of_work(ctx) as session:
+        rows = getattr(service, spec.list_function)(session)
+    fields = _fields_of(noun)
     if as_json:
         _json([catalog_tables.row_json(row, fields) for row in rows])
     else:
-        catalog_tables.render_rows(rows, fields, title=title, empty=empty, imperial=imperial)
+        catalog_tables.render_rows(rows, fields, title=spec.plural_title, empty=spec.empty, imperial=imperial)
 
 
-def _fields(name: str):
-    def load():
-        from sharpzone.report import catalog_tables
+def _run_show(ctx: typer.Context, noun: str, name: str, as_json: bool, imperial: bool) -> None:
+    from sharpzone.catalog import service
 
-        return getattr(catalog_tables, name)
+    with _unit_of_work(ctx) as session:
+        row = getattr(service, _NOUNS[noun].get_function)(session, name)
+    _show(row, noun, as_json=as_json, imperial=imperial)
 
-    return load
+
+def _add_list_and_show(group: typer.Typer, noun: str) -> None:
+    """Give ``group`` its ``list`` and ``show`` commands (``--imperial`` where distances show)."""
+    spec = _NOUNS[noun]
+
+    if spec.has_distances:
+        def list_command(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False) -> None:
+            _run_list(ctx, noun, json, imperial)
+
+        def show_command(
+            ctx: typer.Context, name: str = typer.Argument(help=spec.argument_help), json: JsonOpt = False,
+            imperial: ImperialOpt = False,
+        ) -> None:
+            _run_show(ctx, noun, name, json, imperial)
+    else:
+        def list_command(ctx: typer.Context, json: JsonOpt = False) -> None:
+            _run_list(ctx, noun, json, False)
+
+        def show_command(ctx: typer.Context, name: str = typer.Argument(help=spec.argument_help), json: JsonOpt = False) -> None:
+            _run_show(ctx, noun, name, json, False)
+
+    group.command("list", help=spec.list_help)(list_command)
+    group.command("show", help=spec.show_help)(show_command)
 
 
-_FIELDS = {
-    "format": _fields("FORMAT_FIELDS"),
-    "body": _fields("BODY_FIELDS"),
-    "lens": _fields("LENS_FIELDS"),
-    "shoot": _fields("SHOOT_FIELDS"),
-}
+for _noun, _group in (("format", format_app), ("body", body_app), ("lens", lens_app), ("shoot", shoot_app)):
+    _add_list_and_show(_group, _noun)
+
 
 # ---- option types ----------------------------------------------------------------------
 
@@ -137,26 +198,6 @@ CocDivisorOpt = Annotated[Optional[str], typer.Option("--coc-divisor", help="Def
 FormatAliasOpt = Annotated[Optional[list[str]], typer.Option("--alias", help="Another name the format answers to; repeat for more (edit: replaces the list).")]
 DescriptionOpt = Annotated[Optional[str], typer.Option("--description", help="A line for people.")]
 SourceOpt = Annotated[Optional[str], typer.Option("--source", help="Where the size comes from.")]
-
-
-@format_app.command("list")
-def format_list(ctx: typer.Context, json: JsonOpt = False) -> None:
-    """List the catalogue's sensor formats with size, crop factor and default CoC."""
-    from sharpzone.catalog.service import list_formats
-
-    with _unit_of_work(ctx) as session:
-        rows = list_formats(session)
-    _list(rows, "format", as_json=json, title="Sensor formats", empty="No sensor formats.")
-
-
-@format_app.command("show")
-def format_show(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Format name or alias.")], json: JsonOpt = False) -> None:
-    """Show one sensor format."""
-    from sharpzone.catalog.service import get_format
-
-    with _unit_of_work(ctx) as session:
-        row = get_format(session, name)
-    _show(row, "format", as_json=json)
 
 
 @format_app.command("add")
@@ -227,26 +268,6 @@ SerialOpt = Annotated[Optional[str], typer.Option("--serial", help="EXIF body se
 FormatOpt = Annotated[Optional[str], typer.Option("--format", help="Sensor format name or alias (see 'sharpzone format list').")]
 PixelsOpt = Annotated[Optional[str], typer.Option("--pixels", help="Full image size in pixels, e.g. 6000x4000.")]
 ReassignOpt = Annotated[Optional[str], typer.Option("--reassign-to", help="Move the frames that use it to this one first.")]
-
-
-@body_app.command("list")
-def body_list(ctx: typer.Context, json: JsonOpt = False) -> None:
-    """List camera bodies with their EXIF names and sensor formats."""
-    from sharpzone.catalog.service import list_bodies
-
-    with _unit_of_work(ctx) as session:
-        rows = list_bodies(session)
-    _list(rows, "body", as_json=json, title="Camera bodies", empty="No camera bodies yet: add one with 'sharpzone body add'.")
-
-
-@body_app.command("show")
-def body_show(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Body name.")], json: JsonOpt = False) -> None:
-    """Show one camera body."""
-    from sharpzone.catalog.service import get_body
-
-    with _unit_of_work(ctx) as session:
-        row = get_body(session, name)
-    _show(row, "body", as_json=json)
 
 
 @body_app.command("add")
@@ -325,27 +346,6 @@ def _lens_numbers(focal, aperture, min_aperture, close_focus, pupil) -> dict:
         "close_focus_mm": _maybe(distance_option, close_focus, "--close-focus"),
         "pupil_magnification": _number_option(pupil, "pupil"),
     }
-
-
-@lens_app.command("list")
-def lens_list(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False) -> None:
-    """List lenses with focal range, apertures and EXIF names."""
-    from sharpzone.catalog.service import list_lenses
-
-    with _unit_of_work(ctx) as session:
-        rows = list_lenses(session)
-    _list(rows, "lens", as_json=json, imperial=imperial, title="Lenses", empty="No lenses yet: add one with 'sharpzone lens add'.")
-
-
-@lens_app.command("show")
-def lens_show(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Lens name.")], json: JsonOpt = False,
-              imperial: ImperialOpt = False) -> None:
-    """Show one lens."""
-    from sharpzone.catalog.service import get_lens
-
-    with _unit_of_work(ctx) as session:
-        row = get_lens(session, name)
-    _show(row, "lens", as_json=json, imperial=imperial)
 
 
 @lens_app.command("add")
@@ -455,27 +455,6 @@ def _shoot_values(folder, near, far, front, back, focal, aperture, focus, coc_po
         "coc_policy": coc_policy,
         "notes": notes,
     }
-
-
-@shoot_app.command("list")
-def shoot_list(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False) -> None:
-    """List shoots, newest first, with their plans."""
-    from sharpzone.catalog.service import list_shoots
-
-    with _unit_of_work(ctx) as session:
-        rows = list_shoots(session)
-    _list(rows, "shoot", as_json=json, imperial=imperial, title="Shoots", empty="No shoots yet: add one with 'sharpzone shoot add'.")
-
-
-@shoot_app.command("show")
-def shoot_show(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Shoot name.")], json: JsonOpt = False,
-               imperial: ImperialOpt = False) -> None:
-    """Show one shoot and its plan."""
-    from sharpzone.catalog.service import get_shoot
-
-    with _unit_of_work(ctx) as session:
-        row = get_shoot(session, name)
-    _show(row, "shoot", as_json=json, imperial=imperial)
 
 
 @shoot_app.command("add")
