@@ -185,3 +185,12 @@ def test_every_catalogue_command_and_option_has_help():
                 if parameter.name != "ctx":
                     assert getattr(parameter, "help", None), f"{group_name} {name} {parameter.name}"
 
+
+
+def test_catalogue_commands_load_no_database_library_until_run():
+    import subprocess
+    import sys
+
+    code = "import sys, sharpzone.cli.app; print(sorted(m for m in ('sqlalchemy', 'alembic', 'pandas') if m in sys.modules))"
+    output = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert output.strip() == "[]"
