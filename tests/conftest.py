@@ -18,15 +18,24 @@ def _isolated_user_folders(tmp_path_factory, monkeypatch):
 
 
 # ---- catalogue fixtures ---------------------------------------------------------------
-# Every catalogue test gets a fresh catalogue. SQLite always; PostgreSQL too when
-# SHARPZONE_TEST_POSTGRES_URL names a scratch database (its tables are dropped!). Adding a
-# backend means adding it to CATALOG_BACKENDS and a branch in ``catalog_url``.
+# Every catalogue test gets a fresh catalogue, once on SQLite and once on PostgreSQL. The
+# PostgreSQL run needs SHARPZONE_TEST_POSTGRES_URL naming a scratch database (its schema
+# "public" is dropped and made anew for each test); without it those tests are reported as
+# skipped, never silently left out. .ci/run starts a throwaway server and sets the variable.
 
 import itertools  # noqa: E402
 import os  # noqa: E402
 
 POSTGRES_URL_VAR = "SHARPZONE_TEST_POSTGRES_URL"
-CATALOG_BACKENDS = ["sqlite"] + (["postgres"] if os.environ.get(POSTGRES_URL_VAR) else [])
+CATALOG_BACKENDS = ["sqlite", "postgres"]
+
+
+def postgres_test_url() -> str:
+    """The scratch PostgreSQL database's URL; skips the calling test when none is set."""
+    url = os.environ.get(POSTGRES_URL_VAR, "").strip()
+    if not url:
+        pytest.skip(f"no PostgreSQL: set {POSTGRES_URL_VAR} to a scratch database (.ci/run starts one)")
+    return url
 
 
 def _empty_postgres(url: str) -> str:
@@ -35,10 +44,16 @@ def _empty_postgres(url: str) -> str:
 
     engine = create_engine(url)
     with engine.begin() as connection:
-        connection.execute(text("DROP SCHEMA public CASCADE"))
+        connection.execute(text("DROP SCHEMA IF EXISTS public CASCADE"))
         connection.execute(text("CREATE SCHEMA public"))
     engine.dispose()
     return url
+
+
+@pytest.fixture
+def postgres_url() -> str:
+    """URL of an empty scratch PostgreSQL database (the test skips without one)."""
+    return _empty_postgres(postgres_test_url())
 
 
 @pytest.fixture(params=CATALOG_BACKENDS)
@@ -46,7 +61,7 @@ def catalog_url(request, tmp_path) -> str:
     """URL of a catalogue that does not exist yet (opening it creates it at head)."""
     if request.param == "postgres":
         request.applymarker(pytest.mark.postgres)
-        return _empty_postgres(os.environ[POSTGRES_URL_VAR])
+        return request.getfixturevalue("postgres_url")
     from sharpzone.catalog.location import sqlite_url
 
     return sqlite_url(tmp_path / "catalog.sqlite")
