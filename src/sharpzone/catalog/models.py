@@ -26,6 +26,7 @@ from sqlalchemy import (
     MetaData,
     String,
     Text,
+    TypeDecorator,
     func,
     true,
 )
@@ -52,6 +53,23 @@ PLAN_KINDS = ("range", "depth")
 def utc_now() -> dt.datetime:
     """The current time as naive UTC, the form the catalogue stores its own timestamps in."""
     return dt.datetime.now(dt.timezone.utc).replace(tzinfo=None)
+
+
+class WallClockDateTime(TypeDecorator):
+    """A timestamp without a zone, stored as the wall-clock time it shows.
+
+    A zone-aware value loses its zone (the offset, where it matters, lives in its own
+    column), the same on every database: SQLite drops it on its own, but PostgreSQL would
+    first shift the value into the server's time zone, so one catalogue would read back
+    different times depending on where it lives."""
+
+    impl = DateTime
+    cache_ok = True
+
+    def process_bind_param(self, value, dialect):
+        if isinstance(value, dt.datetime) and value.tzinfo is not None:
+            return value.replace(tzinfo=None)
+        return value
 
 
 class Base(DeclarativeBase):
@@ -182,7 +200,7 @@ class Shoot(Base):
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(NAME_LENGTH), unique=True)
     root_folder: Mapped[Optional[str]] = mapped_column(Text)
-    created_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utc_now)
+    created_at: Mapped[dt.datetime] = mapped_column(WallClockDateTime, default=utc_now)
     plan_kind: Mapped[Optional[str]] = mapped_column(String(16))
     plan_near_mm: Mapped[Optional[float]] = mapped_column(Double)
     plan_far_mm: Mapped[Optional[float]] = mapped_column(Double)
@@ -209,7 +227,7 @@ class Frame(Base):
     path: Mapped[str] = mapped_column(Text, unique=True)
     file_size: Mapped[int] = mapped_column(BigInteger)
     file_mtime_ns: Mapped[int] = mapped_column(BigInteger)
-    captured_at: Mapped[Optional[dt.datetime]] = mapped_column(DateTime)
+    captured_at: Mapped[Optional[dt.datetime]] = mapped_column(WallClockDateTime)
     utc_offset_minutes: Mapped[Optional[int]] = mapped_column(Integer)
     body_id: Mapped[Optional[int]] = mapped_column(ForeignKey("body.id"), index=True)
     lens_id: Mapped[Optional[int]] = mapped_column(ForeignKey("lens.id"), index=True)
@@ -241,7 +259,7 @@ class IngestProblem(Base):
     shoot_id: Mapped[Optional[int]] = mapped_column(ForeignKey("shoot.id", ondelete="CASCADE"), index=True)
     path: Mapped[str] = mapped_column(Text)
     reason: Mapped[str] = mapped_column(Text)
-    seen_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utc_now)
+    seen_at: Mapped[dt.datetime] = mapped_column(WallClockDateTime, default=utc_now)
 
     shoot: Mapped[Optional[Shoot]] = relationship()
 

@@ -57,10 +57,18 @@ def positive_int(value: int | None, what: str) -> int | None:
     return int(value)
 
 
+def equal_ignoring_case(column, value: str):
+    """SQL condition: ``column`` equals ``value`` (outer spaces stripped) ignoring case.
+
+    Both sides go through the database's own ``lower()``: SQLite's folds ASCII letters
+    only, PostgreSQL's follows the database locale, and Python's ``str.lower`` folds more
+    than either, so lowering the value in Python would miss ``Ödland`` spelt exactly."""
+    return func.lower(column) == func.lower(value.strip())
+
+
 def find_by_name(session: Session, model: type[Row], name: str) -> Row | None:
     """The row of ``model`` whose ``name`` equals ``name`` ignoring case, or ``None``."""
-    wanted = name.strip().lower()
-    return session.scalars(select(model).where(func.lower(model.name) == wanted)).first()
+    return session.scalars(select(model).where(equal_ignoring_case(model.name, name))).first()
 
 
 def get_by_name(session: Session, model: type[Row], name: str, what: str, *, error=NotFound) -> Row:

@@ -7,12 +7,13 @@ back to that one (see ``find_body_for_exif``).
 
 from __future__ import annotations
 
-from sqlalchemy import func, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, Frame
 from sharpzone.catalog.service._common import (
     clean_name,
+    equal_ignoring_case,
     get_by_name,
     merged,
     optional_text,
@@ -39,8 +40,8 @@ def find_body_for_exif(session: Session, make: str, model: str, serial: str | No
     same serial, else the body of that make and model without a serial, else ``None``."""
     candidates = session.scalars(
         select(Body).where(
-            func.lower(Body.exif_make) == make.strip().lower(),
-            func.lower(Body.exif_model) == model.strip().lower(),
+            equal_ignoring_case(Body.exif_make, make),
+            equal_ignoring_case(Body.exif_model, model),
         )
     ).unique()
     by_serial = {body.serial: body for body in candidates}

@@ -113,6 +113,7 @@ def bundle_fields(model) -> list[BundleField]:
 
 
 def _kind(column_type) -> str:
+    column_type = getattr(column_type, "impl_instance", column_type)  # a TypeDecorator's storage type
     if isinstance(column_type, Boolean):
         return "bool"
     if isinstance(column_type, Double):
