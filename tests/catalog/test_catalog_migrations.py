@@ -11,8 +11,9 @@ from sqlalchemy import create_engine, select, text
 
 from sharpzone.catalog import migrate
 from sharpzone.catalog.engine import create_catalog_engine, open_catalog
-from sharpzone.catalog.location import sqlite_url
+from sharpzone.catalog.location import sqlite_path, sqlite_url
 from sharpzone.catalog.models import Base, Body, Frame, IngestProblem, Lens, LensAlias, SensorFormatRow, Shoot
+from sharpzone.catalog.service import add_lens
 from sharpzone.errors import CatalogError
 from sharpzone.seed import shipped_formats
 
@@ -78,11 +79,11 @@ def _fill_revision_0001(url: str) -> None:
         ))
         connection.execute(text(
             "INSERT INTO body (id, name, exif_make, exif_model, serial, format_id, pixel_width, pixel_height, confirmed) "
-            "VALUES (1, 'Korvath K1', 'Korvath', 'K1', NULL, 1, 6000, 4000, 1)"
+            "VALUES (1, 'Korvath K1', 'Korvath', 'K1', NULL, 1, 6000, 4000, TRUE)"
         ))
         connection.execute(text(
             "INSERT INTO lens (id, name, focal_min_mm, focal_max_mm, max_aperture_wide, max_aperture_tele, "
-            "min_aperture, close_focus_mm, confirmed) VALUES (1, 'Altamira 24-70', 24, 70, 2.8, 2.8, 22, 380, 0)"
+            "min_aperture, close_focus_mm, confirmed) VALUES (1, 'Altamira 24-70', 24, 70, 2.8, 2.8, 22, 380, FALSE)"
         ))
         connection.execute(text("INSERT INTO lens_alias (id, lens_id, exif_name) VALUES (1, 1, 'ALT 24-70mm F2.8')"))
         connection.execute(text(
@@ -101,9 +102,9 @@ def _fill_revision_0001(url: str) -> None:
     engine.dispose()
 
 
-def test_old_catalogue_with_rows_is_backed_up_and_upgraded_keeping_every_row(tmp_path):
-    path = tmp_path / "old.sqlite"
-    url = sqlite_url(path)
+def test_old_catalogue_with_rows_is_backed_up_and_upgraded_keeping_every_row(catalog_url, tmp_path):
+    # Rows written with their own ids, as a hand-made or copied catalogue would have them.
+    url = catalog_url
     migrate.upgrade(url, "0001")
     _fill_revision_0001(url)
 
@@ -123,7 +124,13 @@ def test_old_catalogue_with_rows_is_backed_up_and_upgraded_keeping_every_row(tmp
         assert session.scalars(select(IngestProblem)).all() == []
         assert session.scalars(select(LensAlias)).one().lens_id == 1
 
-    backups = list(tmp_path.glob("old.sqlite.bak-0001-*"))
+    with open_catalog(url) as catalog, catalog.session_scope() as session:  # new ids do not collide
+        lens = add_lens(session, "Altamira 50/1.4", focal_min_mm=50, max_aperture_wide=1.4)
+        assert lens.id == 2
+
+    if sqlite_path(url) is None:
+        return  # a server database is not copied: its upgrade is one transaction of DDL
+    backups = list(tmp_path.glob("catalog.sqlite.bak-0001-*"))
     assert len(backups) == 1
     kept = sqlite3.connect(backups[0])
     assert kept.execute("SELECT version_num FROM alembic_version").fetchone() == ("0001",)
@@ -178,10 +185,10 @@ def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, mo
     assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
 
 
-def test_two_programs_creating_one_catalogue_take_turns(tmp_path):
+def test_two_programs_creating_one_catalogue_take_turns(catalog_url):
     from concurrent.futures import ThreadPoolExecutor
 
-    url = sqlite_url(tmp_path / "shared.sqlite")
+    url = catalog_url
     with ThreadPoolExecutor(max_workers=3) as pool:
         results = list(pool.map(lambda _: migrate.prepare_catalog(url), range(3)))
     assert sorted(result.created for result in results) == [False, False, True]

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from sharpzone.catalog.location import display_url, sqlite_path, sqlite_url
+from sharpzone.catalog.upsert import sync_id_sequences
 from sharpzone.errors import CatalogError
 
 if TYPE_CHECKING:
@@ -125,6 +126,7 @@ def prepare_catalog(url: str) -> PreparedCatalog:
     engine = create_catalog_engine(url, enforce_foreign_keys=False, lock_on_begin=True)
     try:
         with engine.begin() as connection:
+            _lock_for_schema_change(connection)
             found = current_revision(connection)  # again, now that we hold the write lock
             if found == head:
                 return PreparedCatalog(revision=head)
@@ -147,11 +149,26 @@ def prepare_catalog(url: str) -> PreparedCatalog:
             backup = _back_up_sqlite(url, found)
             upgrade_connection(connection)
             _check_foreign_keys(connection)
+            sync_id_sequences(connection)  # rows an older program or a person wrote with ids
             return PreparedCatalog(revision=head, upgraded_from=found, backup_path=backup)
     except DBAPIError as error:
         raise translate_database_error(error, url) from error
     finally:
         engine.dispose()
+
+
+# Any fixed number will do: it names the lock that programs creating or upgrading one
+# PostgreSQL catalogue take turns on ("sz" in ASCII).
+SCHEMA_LOCK_KEY = 0x737A
+
+
+def _lock_for_schema_change(connection: Connection) -> None:
+    """Make programs creating or upgrading one catalogue at once take turns. SQLite's
+    ``BEGIN IMMEDIATE`` already did; PostgreSQL takes a lock held until the commit."""
+    if connection.dialect.name == "postgresql":
+        from sqlalchemy import text
+
+        connection.execute(text("SELECT pg_advisory_xact_lock(:key)"), {"key": SCHEMA_LOCK_KEY})
 
 
 def _back_up_sqlite(url: str, revision: str) -> Path | None:
