@@ -41,13 +41,13 @@ _pg_install() {
     fi
     _pg_say "installing PostgreSQL from Debian packages"
     export DEBIAN_FRONTEND=noninteractive
-    apt-get update -qq
+    apt-get update -qq || return 1
     # The common package first, told not to create and start a system-wide cluster: the
     # tests use their own, which stops with the run.
-    apt-get install -y -qq postgresql-common </dev/null >/dev/null
+    apt-get install -y -qq postgresql-common </dev/null >/dev/null || return 1
     sed -ri 's/^#?[[:space:]]*create_main_cluster[[:space:]]*=.*$/create_main_cluster = false/' \
-        /etc/postgresql-common/createcluster.conf
-    apt-get install -y -qq postgresql </dev/null >/dev/null
+        /etc/postgresql-common/createcluster.conf || return 1
+    apt-get install -y -qq postgresql </dev/null >/dev/null || return 1
 }
 
 _pg_as_owner() {
