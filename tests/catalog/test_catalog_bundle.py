@@ -13,7 +13,7 @@ from sharpzone.catalog.engine import open_catalog
 from sharpzone.catalog.location import sqlite_url
 from sharpzone.catalog.models import TABLES_IN_DEPENDENCY_ORDER, IngestProblem
 from sharpzone.catalog.service import export_catalog, import_catalog
-from sharpzone.catalog.service.bundle import bundle_fields, bundle_tables
+from sharpzone.catalog.service.bundle import bundle_fields, bundle_tables, import_tables
 from sharpzone.errors import Conflict, InvalidValue
 
 
@@ -146,3 +146,35 @@ def test_bundle_name_must_say_its_form(catalog_session, tmp_path):
     with pytest.raises(InvalidValue, match=r"must end in .json \(one JSON file\) or .zip \(CSV files\)"):
         export_catalog(catalog_session, tmp_path / "bundle.txt")
     assert not (tmp_path / "bundle.txt").exists()
+
+
+def test_bundle_moves_a_catalogue_to_the_other_database(filled_catalog, tmp_path, request):
+    # A studio moving its SQLite catalogue onto a shared PostgreSQL server, and back.
+    bundle = tmp_path / "move.zip"
+    with filled_catalog.session_scope() as session:
+        before = bundle_tables(session)
+        export_catalog(session, bundle)
+    on_sqlite = filled_catalog.engine.dialect.name == "sqlite"
+    target = request.getfixturevalue("postgres_url") if on_sqlite else sqlite_url(tmp_path / "back.sqlite")
+    with open_catalog(target) as moved:
+        with moved.session_scope() as session:
+            import_catalog(session, bundle)
+        with moved.session_scope() as session:
+            assert bundle_tables(session) == before
+            # ids were given by the target database: a new row still fits in
+            session.add(IngestProblem(path="/photos/later.jpg", reason="unreadable"))
+
+
+def test_a_large_bundle_imports_in_bulk_with_exact_counts(catalog, tmp_path):
+    frames = [{"path": f"/cards/{n:05d}.jpg", "file_size": n + 1, "file_mtime_ns": n, "focus_mm": "inf" if n % 7 else 2500.0}
+              for n in range(3000)]
+    with catalog.session_scope() as session:
+        result = import_tables(session, {"frame": frames})
+    assert result.added["frame"] == 3000
+    frames[5]["focus_mm"] = 1234.5
+    with catalog.session_scope() as session:
+        result = import_tables(session, {"frame": frames}, replace=True)
+    assert (result.added["frame"], result.replaced["frame"], result.unchanged["frame"]) == (0, 1, 2999)
+    with catalog.session_scope() as session:
+        stored = {row["path"]: row["focus_mm"] for row in bundle_tables(session)["frame"]}
+    assert len(stored) == 3000 and stored["/cards/00005.jpg"] == 1234.5 and stored["/cards/00001.jpg"] == "inf"

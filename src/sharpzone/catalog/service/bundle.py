@@ -247,7 +247,12 @@ def import_catalog(session: Session, source: str | os.PathLike, *, replace: bool
 
 
 def import_tables(session: Session, tables: dict[str, list[dict]], *, replace: bool = False) -> ImportResult:
-    """Import bundle-form ``tables`` (as ``read_bundle`` or ``bundle_tables`` give them)."""
+    """Import bundle-form ``tables`` (as ``read_bundle`` or ``bundle_tables`` give them).
+
+    Each table is decided row by row against the catalogue and the rows before it, then
+    written in bulk (``upsert_rows``), parents before children."""
+    from sharpzone.catalog.upsert import upsert_rows
+
     known = {model.__tablename__ for model in TABLES_IN_DEPENDENCY_ORDER}
     unknown = sorted(set(tables) - known)
     if unknown:
@@ -255,29 +260,41 @@ def import_tables(session: Session, tables: dict[str, list[dict]], *, replace: b
     result = ImportResult()
     for model in TABLES_IN_DEPENDENCY_ORDER:
         table = model.__tablename__
+        records = tables.get(table) or []
+        fields = bundle_fields(model)
+        ids_by_name = {f.refers_to: _ids_by_name(session, f.refers_to) for f in fields if f.refers_to}
+        decoded = [_decode_row(model, fields, ids_by_name, record, f"bundle {table} row {number}")
+                   for number, record in enumerate(records, start=1)]
+        natural_key = NATURAL_KEYS[model]
+        known_rows = _existing_rows(session, model, decoded)
+        to_write: list[dict] = []
         added = replaced = unchanged = 0
-        for number, record in enumerate(tables.get(table) or [], start=1):
-            values = _decode_row(session, model, record, f"bundle {table} row {number}")
-            existing = _find_existing(session, model, values)
+        for values in decoded:
+            key = _key_of(model, values)
+            existing = known_rows.get(key)
             if existing is None:
-                session.add(model(**values))
+                to_write.append(values)
                 added += 1
-            elif all(_same(getattr(existing, column), value) for column, value in values.items()):
+            elif all(_same(existing.get(column), value) for column, value in values.items()):
                 unchanged += 1
+                continue
             elif replace:
-                for column, value in values.items():
-                    setattr(existing, column, value)
+                to_write.append(values)
                 replaced += 1
             else:
-                key = ", ".join(f"{k}={values[k]!r}" for k in NATURAL_KEYS[model])
-                raise Conflict(f"{table} {key} already exists with other values: say --replace to overwrite it")
-            session.flush()
+                shown = ", ".join(f"{k}={values[k]!r}" for k in natural_key)
+                raise Conflict(f"{table} {shown} already exists with other values: say --replace to overwrite it")
+            known_rows[key] = {**(existing or {}), **values}
+        written = upsert_rows(session, model, to_write, natural_key or ())
+        if written.inserted != added:
+            raise Conflict(f"another program changed {table} rows during the import; nothing was imported: run it again")
         result.added[table], result.replaced[table], result.unchanged[table] = added, replaced, unchanged
     return result
 
 
-def _decode_row(session: Session, model, record: dict, where: str) -> dict:
-    fields = bundle_fields(model)
+def _decode_row(model, fields: list[BundleField], ids_by_name: dict, record: dict, where: str) -> dict:
+    if not isinstance(record, dict):
+        raise InvalidValue(f"{where}: expected an object of fields, got {type(record).__name__}")
     extra = sorted(set(record) - {f.name for f in fields})
     if extra:
         raise InvalidValue(f"{where}: unknown field {extra[0]!r}")
@@ -289,10 +306,9 @@ def _decode_row(session: Session, model, record: dict, where: str) -> dict:
             continue
         value = _decode_value(record[f.name], f, where)
         if f.refers_to is not None and value is not None:
-            target = session.scalars(select(f.refers_to).where(f.refers_to.name == value)).first()
-            if target is None:
+            if value not in ids_by_name[f.refers_to]:
                 raise InvalidValue(f"{where}: {f.name} {value!r} is not in the bundle or the catalogue")
-            value = target.id
+            value = ids_by_name[f.refers_to][value]
         values[f.column] = value
     return values
 
@@ -323,12 +339,6 @@ def _decode_value(raw, f: BundleField, where: str):
         raise InvalidValue(f"{where}: {f.name} {raw!r} is not a valid {f.kind}") from None
 
 
-def _find_existing(session: Session, model, values: dict):
-    key = NATURAL_KEYS[model] or tuple(values)
-    conditions = [getattr(model, column).is_(None) if values.get(column) is None else getattr(model, column) == values[column] for column in key]
-    return session.scalars(select(model).where(*conditions)).first()
-
-
 def _same(stored, incoming) -> bool:
     if isinstance(stored, float) and isinstance(incoming, (int, float)):
         return stored == incoming or (math.isnan(stored) and math.isnan(incoming))
@@ -337,6 +347,38 @@ def _same(stored, incoming) -> bool:
 
 def _names_by_id(session: Session, model) -> dict[int, str]:
     return {row_id: name for row_id, name in session.execute(select(model.id, model.name))}
+
+
+def _ids_by_name(session: Session, model) -> dict[str, int]:
+    return {name: row_id for row_id, name in _names_by_id(session, model).items()}
+
+
+def _key_of(model, values: dict) -> tuple:
+    """A row's natural key; an ingest problem's key is the whole row."""
+    columns = NATURAL_KEYS[model] or tuple(column.name for column in model.__table__.columns if not column.primary_key)
+    return tuple(_key_value(values.get(column)) for column in columns)
+
+
+def _key_value(value):
+    return value.isoformat() if isinstance(value, dt.datetime) else value
+
+
+def _existing_rows(session: Session, model, decoded: list[dict]) -> dict[tuple, dict]:
+    """Rows already in the catalogue that share a natural key with ``decoded``, by key."""
+    table = model.__table__
+    natural_key = NATURAL_KEYS[model]
+    statements = []
+    if natural_key is None:  # few rows (problems): compare the whole table
+        statements.append(select(table))
+    elif decoded:
+        wanted = sorted({values[natural_key[0]] for values in decoded if natural_key[0] in values})
+        column = table.columns[natural_key[0]]
+        statements = [select(table).where(column.in_(wanted[start:start + 1000])) for start in range(0, len(wanted), 1000)]
+    found = {}
+    for statement in statements:
+        for row in session.execute(statement).mappings():
+            found[_key_of(model, row)] = dict(row)
+    return found
 
 
 def _check_header(header: dict, path: Path) -> None:
