@@ -15,3 +15,151 @@ def _isolated_user_folders(tmp_path_factory, monkeypatch):
     monkeypatch.setenv("XDG_CACHE_HOME", str(home / ".cache"))
     monkeypatch.delenv("SHARPZONE_CATALOG", raising=False)
     yield home
+
+
+# ---- catalogue fixtures ---------------------------------------------------------------
+# Every catalogue test gets a fresh catalogue. SQLite always; PostgreSQL too when
+# SHARPZONE_TEST_POSTGRES_URL names a scratch database (its tables are dropped!). Adding a
+# backend means adding it to CATALOG_BACKENDS and a branch in ``catalog_url``.
+
+import itertools  # noqa: E402
+import os  # noqa: E402
+
+POSTGRES_URL_VAR = "SHARPZONE_TEST_POSTGRES_URL"
+CATALOG_BACKENDS = ["sqlite"] + (["postgres"] if os.environ.get(POSTGRES_URL_VAR) else [])
+
+
+def _empty_postgres(url: str) -> str:
+    """Drop every table in the scratch PostgreSQL database so each test starts empty."""
+    from sqlalchemy import create_engine, text
+
+    engine = create_engine(url)
+    with engine.begin() as connection:
+        connection.execute(text("DROP SCHEMA public CASCADE"))
+        connection.execute(text("CREATE SCHEMA public"))
+    engine.dispose()
+    return url
+
+
+@pytest.fixture(params=CATALOG_BACKENDS)
+def catalog_url(request, tmp_path) -> str:
+    """URL of a catalogue that does not exist yet (opening it creates it at head)."""
+    if request.param == "postgres":
+        request.applymarker(pytest.mark.postgres)
+        return _empty_postgres(os.environ[POSTGRES_URL_VAR])
+    from sharpzone.catalog.location import sqlite_url
+
+    return sqlite_url(tmp_path / "catalog.sqlite")
+
+
+@pytest.fixture
+def catalog(catalog_url):
+    """An open ``Catalog`` (created at the newest schema, shipped formats seeded)."""
+    from sharpzone.catalog.engine import open_catalog
+
+    with open_catalog(catalog_url) as opened:
+        yield opened
+
+
+@pytest.fixture
+def catalog_session(catalog):
+    """A session in one unit of work on ``catalog``; committed when the test ends."""
+    with catalog.session_scope() as session:
+        yield session
+
+
+_factory_numbers = itertools.count(1)
+
+
+def _saved(session, row):
+    session.add(row)
+    session.flush()
+    return row
+
+
+@pytest.fixture
+def make_format(catalog_session):
+    """``make_format(**fields)`` → a new ``SensorFormatRow`` (36 × 24 mm unless told)."""
+    from sharpzone.catalog.models import SensorFormatRow
+
+    def make(**fields):
+        values = {"name": f"test-format-{next(_factory_numbers)}", "width_mm": 36.0, "height_mm": 24.0, **fields}
+        return _saved(catalog_session, SensorFormatRow(**values))
+
+    return make
+
+
+@pytest.fixture
+def make_body(catalog_session, make_format):
+    """``make_body(**fields)`` → a new confirmed ``Body`` by the invented maker Korvath."""
+    from sharpzone.catalog.models import Body
+
+    def make(**fields):
+        number = next(_factory_numbers)
+        values = {"name": f"Test body {number}", "exif_make": "Korvath", "exif_model": f"KV-{number}", **fields}
+        if "sensor_format" not in values and "format_id" not in values:
+            values["sensor_format"] = make_format()
+        return _saved(catalog_session, Body(**values))
+
+    return make
+
+
+@pytest.fixture
+def make_lens(catalog_session):
+    """``make_lens(**fields)`` → a new 50 mm f/2 prime (min f/22); ``exif_names=[...]`` adds aliases."""
+    from sharpzone.catalog.models import Lens, LensAlias
+
+    def make(exif_names=(), **fields):
+        number = next(_factory_numbers)
+        values = {
+            "name": f"Altamira Optical {number} 50/2",
+            "focal_min_mm": 50.0,
+            "focal_max_mm": 50.0,
+            "max_aperture_wide": 2.0,
+            "max_aperture_tele": 2.0,
+            "min_aperture": 22.0,
+            **fields,
+        }
+        return _saved(catalog_session, Lens(**values, aliases=[LensAlias(exif_name=name) for name in exif_names]))
+
+    return make
+
+
+@pytest.fixture
+def make_shoot(catalog_session):
+    """``make_shoot(**fields)`` → a new ``Shoot`` without a plan unless told."""
+    from sharpzone.catalog.models import Shoot
+
+    def make(**fields):
+        return _saved(catalog_session, Shoot(**{"name": f"Test shoot {next(_factory_numbers)}", **fields}))
+
+    return make
+
+
+@pytest.fixture
+def make_frame(catalog_session, make_body, make_lens):
+    """``make_frame(**fields)`` → a new ``Frame``: 50 mm, f/8, focused at 3 m (from EXIF),
+    on a fresh body and lens unless ``body=``/``lens=`` are given (``None`` leaves them out)."""
+    from sharpzone.catalog.models import Frame
+
+    def make(**fields):
+        number = next(_factory_numbers)
+        values = {
+            "path": f"/photos/test/frame-{number:05d}.jpg",
+            "file_size": 2_000_000 + number,
+            "file_mtime_ns": 1_700_000_000_000_000_000 + number,
+            "focal_mm": 50.0,
+            "f_number": 8.0,
+            "exposure_s": 1 / 125,
+            "iso": 200,
+            "focus_mm": 3000.0,
+            "focus_source": "exif",
+            **fields,
+        }
+        if "body" not in values and "body_id" not in values:
+            values["body"] = make_body()
+        if "lens" not in values and "lens_id" not in values:
+            values["lens"] = make_lens()
+        return _saved(catalog_session, Frame(**values))
+
+    return make

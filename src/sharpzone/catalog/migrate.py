@@ -1,0 +1,272 @@
+"""The migration runner: Alembic driven from Python, with the scripts shipped in the package.
+
+No ``alembic.ini`` is needed: ``alembic_config`` points Alembic at the installed
+``sharpzone.migrations`` folder. Developers add a revision with::
+
+    python -m sharpzone.catalog.migrate revision -m "what changes"
+
+(see DEVELOPERS.md); ``upgrade``, ``current`` and ``heads`` are there for inspection.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+import sqlite3
+import tempfile
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+from sharpzone.catalog.location import display_url, sqlite_path, sqlite_url
+from sharpzone.errors import CatalogError
+
+if TYPE_CHECKING:
+    from alembic.config import Config
+    from alembic.script import ScriptDirectory
+    from sqlalchemy.engine import Connection
+
+
+@dataclass(frozen=True)
+class PreparedCatalog:
+    """What ``prepare_catalog`` did: created a new catalogue, upgraded one (with the backup
+    it made first, for a SQLite file), or nothing (already current)."""
+
+    revision: str
+    created: bool = False
+    upgraded_from: str | None = None
+    backup_path: Path | None = None
+
+
+def migrations_folder() -> Path:
+    """The folder holding ``env.py`` and ``versions/``, wherever the package is installed."""
+    return Path(str(resources.files("sharpzone.migrations")))
+
+
+def alembic_config() -> Config:
+    """An Alembic ``Config`` for our migrations; hand it a connection via ``attributes``."""
+    from alembic.config import Config
+
+    config = Config()
+    config.set_main_option("script_location", str(migrations_folder()))
+    return config
+
+
+def script_directory() -> ScriptDirectory:
+    from alembic.script import ScriptDirectory
+
+    return ScriptDirectory.from_config(alembic_config())
+
+
+def head_revision() -> str:
+    """The newest schema revision this program knows."""
+    return script_directory().get_current_head()
+
+
+def known_revisions() -> list[str]:
+    """Every revision this program knows, oldest first."""
+    return [script.revision for script in reversed(list(script_directory().walk_revisions()))]
+
+
+def current_revision(connection: Connection) -> str | None:
+    """The revision stamped in the database, or ``None`` when it has none."""
+    from alembic.runtime.migration import MigrationContext
+
+    return MigrationContext.configure(connection).get_current_revision()
+
+
+def upgrade_connection(connection: Connection, revision: str = "head") -> None:
+    """Run the migrations up to ``revision`` inside ``connection``'s transaction."""
+    from alembic import command
+
+    config = alembic_config()
+    config.attributes["connection"] = connection
+    command.upgrade(config, revision)
+
+
+def upgrade(url: str, revision: str = "head") -> None:
+    """Upgrade the database at ``url`` to ``revision`` in one transaction (no backup, no
+    seeding: ``prepare_catalog`` is what programs use; this is for tests and tools)."""
+    from sharpzone.catalog.engine import create_catalog_engine
+
+    engine = create_catalog_engine(url, enforce_foreign_keys=False)
+    try:
+        with engine.begin() as connection:
+            upgrade_connection(connection, revision)
+    finally:
+        engine.dispose()
+
+
+def prepare_catalog(url: str) -> PreparedCatalog:
+    """Bring the catalogue at ``url`` to the newest schema before anyone uses it.
+
+    - empty database: create every table and add the shipped sensor formats;
+    - older revision: copy a SQLite file aside (``<name>.bak-<revision>-<UTC time>``),
+      then upgrade in one transaction, checking foreign keys before the commit;
+    - unknown (newer) revision, or tables without a revision: refuse with ``CatalogError``.
+    """
+    from sqlalchemy import inspect
+    from sqlalchemy.exc import DBAPIError
+
+    from sharpzone.catalog.engine import create_catalog_engine, translate_database_error
+
+    engine = create_catalog_engine(url, enforce_foreign_keys=False)
+    try:
+        with engine.begin() as connection:
+            found = current_revision(connection)
+            head = head_revision()
+            if found == head:
+                return PreparedCatalog(revision=head)
+            if found is None:
+                if inspect(connection).get_table_names():
+                    raise CatalogError(
+                        f"{display_url(url)} holds tables but is not a sharpzone catalogue",
+                        hint="give another --catalog path",
+                    )
+                upgrade_connection(connection)
+                _check_foreign_keys(connection)
+                _seed_new_catalog(connection)
+                return PreparedCatalog(revision=head, created=True)
+            if found not in known_revisions():
+                raise CatalogError(
+                    f"catalogue {display_url(url)} has schema revision {found!r}, newer than this "
+                    f"program knows (newest {head!r})",
+                    hint="upgrade sharpzone to open it",
+                )
+            backup = _back_up_sqlite(url, found)
+            upgrade_connection(connection)
+            _check_foreign_keys(connection)
+            return PreparedCatalog(revision=head, upgraded_from=found, backup_path=backup)
+    except DBAPIError as error:
+        raise translate_database_error(error, url) from error
+    finally:
+        engine.dispose()
+
+
+def _back_up_sqlite(url: str, revision: str) -> Path | None:
+    """Copy the SQLite file (WAL content included, via SQLite's backup API) beside itself."""
+    path = sqlite_path(url)
+    if path is None:
+        return None
+    stamp = dt.datetime.now(dt.timezone.utc).strftime("%Y%m%dT%H%M%S%fZ")
+    backup = path.with_name(f"{path.name}.bak-{revision}-{stamp}")
+    try:
+        source = sqlite3.connect(path)
+        try:
+            target = sqlite3.connect(backup)
+            try:
+                source.backup(target)
+            finally:
+                target.close()
+        finally:
+            source.close()
+    except (sqlite3.Error, OSError) as error:
+        raise CatalogError(
+            f"cannot back up catalogue {path} before upgrading it: {error}",
+            hint=f"check free space and permissions of {path.parent}",
+        ) from None
+    return backup
+
+
+def _check_foreign_keys(connection: Connection) -> None:
+    if connection.dialect.name != "sqlite":
+        return
+    broken = connection.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
+    if broken:
+        table, rowid, parent, _ = broken[0]
+        raise CatalogError(
+            f"upgrade stopped: {len(broken)} row(s) point at missing rows "
+            f"(first: {table} row {rowid} → {parent}); the catalogue was left unchanged"
+        )
+
+
+def _seed_new_catalog(connection: Connection) -> None:
+    from sqlalchemy.orm import Session
+
+    from sharpzone.catalog.models import SensorFormatRow
+    from sharpzone.seed import shipped_formats
+
+    session = Session(bind=connection)
+    for shipped in shipped_formats():
+        session.add(
+            SensorFormatRow(
+                name=shipped.format.name,
+                width_mm=shipped.format.width_mm,
+                height_mm=shipped.format.height_mm,
+                coc_divisor=shipped.format.coc_divisor,
+                aliases=";".join(shipped.aliases),
+                description=shipped.description,
+                source=shipped.source,
+            )
+        )
+    session.flush()
+
+
+def next_revision_id() -> str:
+    """The next four-digit revision id (``0003`` after ``0002``)."""
+    numbers = [int(rev) for rev in known_revisions() if rev.isdigit()]
+    return f"{max(numbers, default=0) + 1:04d}"
+
+
+def new_revision(message: str, *, autogenerate: bool = True) -> Path:
+    """Write a new revision file into ``migrations/versions`` and return its path.
+
+    With ``autogenerate`` Alembic compares the models with a scratch database upgraded to
+    the current head and drafts the operations; review and edit the draft by hand.
+    """
+    from alembic import command
+
+    from sharpzone.catalog.engine import create_catalog_engine
+
+    with tempfile.TemporaryDirectory() as scratch:
+        url = sqlite_url(Path(scratch) / "scratch.sqlite")
+        engine = create_catalog_engine(url, enforce_foreign_keys=False)
+        try:
+            with engine.begin() as connection:
+                upgrade_connection(connection)
+                config = alembic_config()
+                config.attributes["connection"] = connection
+                script = command.revision(
+                    config, message=message, autogenerate=autogenerate, rev_id=next_revision_id()
+                )
+        finally:
+            engine.dispose()
+    return Path(script.path)
+
+
+def main(argv: list[str] | None = None) -> int:
+    """``python -m sharpzone.catalog.migrate`` — developer tool for schema revisions."""
+    parser = argparse.ArgumentParser(prog="python -m sharpzone.catalog.migrate", description=__doc__.splitlines()[0])
+    commands = parser.add_subparsers(dest="command", required=True)
+    revision = commands.add_parser("revision", help="draft a new revision from the models")
+    revision.add_argument("-m", "--message", required=True, help="what the revision changes")
+    revision.add_argument("--empty", action="store_true", help="write an empty revision (no autogenerate)")
+    upgrade_cmd = commands.add_parser("upgrade", help="upgrade a catalogue (with backup) to the newest schema")
+    upgrade_cmd.add_argument("catalog", help="catalogue file path or URL")
+    current = commands.add_parser("current", help="print a catalogue's schema revision")
+    current.add_argument("catalog", help="catalogue file path or URL")
+    commands.add_parser("heads", help="print the newest revision this program knows")
+    args = parser.parse_args(argv)
+
+    from sharpzone.catalog.location import resolve_catalog_url
+
+    if args.command == "revision":
+        print(new_revision(args.message, autogenerate=not args.empty))
+    elif args.command == "upgrade":
+        result = prepare_catalog(resolve_catalog_url(args.catalog))
+        print(f"at {result.revision}" + (f" (from {result.upgraded_from}, backup {result.backup_path})" if result.upgraded_from else ""))
+    elif args.command == "current":
+        from sharpzone.catalog.engine import create_catalog_engine
+
+        engine = create_catalog_engine(resolve_catalog_url(args.catalog))
+        with engine.connect() as connection:
+            print(current_revision(connection))
+        engine.dispose()
+    else:
+        print(head_revision())
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,116 @@
+"""Checks and look-ups shared by the service functions."""
+
+from __future__ import annotations
+
+import math
+from typing import TypeVar
+
+from sqlalchemy import func, select, update
+from sqlalchemy.orm import Session
+
+from sharpzone.catalog.models import NAME_LENGTH, Frame
+from sharpzone.errors import Conflict, InvalidValue, NotFound
+
+Row = TypeVar("Row")
+
+
+def clean_name(name: str | None, what: str) -> str:
+    """``name`` stripped; refuses an empty or over-long name with ``InvalidValue``."""
+    cleaned = (name or "").strip()
+    if not cleaned:
+        raise InvalidValue(f"{what} name must not be empty")
+    if len(cleaned) > NAME_LENGTH:
+        raise InvalidValue(f"{what} name {cleaned[:40]!r}… is longer than {NAME_LENGTH} characters")
+    return cleaned
+
+
+def optional_text(value: str | None) -> str | None:
+    """Stripped text, or ``None`` for a missing or blank value (blank never reaches the
+    database in a nullable column, so exports can write ``None`` as an empty field)."""
+    if value is None:
+        return None
+    stripped = str(value).strip()
+    return stripped or None
+
+
+def positive(value: float | int | None, what: str, unit: str = "", *, allow_inf: bool = False) -> float | None:
+    """``value`` as a float when it is a positive number; ``None`` passes through."""
+    if value is None:
+        return None
+    shown = f"{value!r}{(' ' + unit) if unit else ''}"
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise InvalidValue(f"{what} {shown} is not a number") from None
+    if math.isnan(number) or number <= 0 or (math.isinf(number) and not allow_inf):
+        expected = "a positive number or inf" if allow_inf else "a positive finite number"
+        raise InvalidValue(f"{what} {shown} must be {expected}")
+    return number
+
+
+def positive_int(value: int | None, what: str) -> int | None:
+    """``value`` as an int when it is a positive whole number; ``None`` passes through."""
+    if value is None:
+        return None
+    if isinstance(value, bool) or not float(value).is_integer() or value <= 0:
+        raise InvalidValue(f"{what} {value!r} must be a positive whole number")
+    return int(value)
+
+
+def find_by_name(session: Session, model: type[Row], name: str) -> Row | None:
+    """The row of ``model`` whose ``name`` equals ``name`` ignoring case, or ``None``."""
+    wanted = name.strip().lower()
+    return session.scalars(select(model).where(func.lower(model.name) == wanted)).first()
+
+
+def get_by_name(session: Session, model: type[Row], name: str, what: str, *, error=NotFound) -> Row:
+    """The row called ``name`` (case-insensitive); else ``error`` listing the known names."""
+    row = find_by_name(session, model, name)
+    if row is None:
+        known = session.scalars(select(model.name).order_by(model.name).limit(12)).all()
+        expected = f"known: {', '.join(known)}" if known else f"the catalogue has no {what}s yet"
+        raise error(f"no {what} named {name!r} ({expected})")
+    return row
+
+
+def require_name_free(session: Session, model: type[Row], name: str, what: str, *, keep: object = None) -> None:
+    """``Conflict`` when another row of ``model`` (not ``keep``) already has this name."""
+    existing = find_by_name(session, model, name)
+    if existing is not None and existing is not keep:
+        raise Conflict(f"a {what} named {existing.name!r} already exists")
+
+
+def merged(row, **changes) -> dict:
+    """Each change, or ``row``'s current value of that field where the change is ``None``."""
+    return {field: getattr(row, field) if value is None else value for field, value in changes.items()}
+
+
+def count_of(session: Session, column, value) -> int:
+    """How many rows have ``column == value``."""
+    return session.scalar(select(func.count()).where(column == value)) or 0
+
+
+def plural(count: int, noun: str) -> str:
+    return f"{count} {noun}{'' if count == 1 else 's'}"
+
+
+def remove_reassigning_frames(session: Session, model: type[Row], frame_column, name: str, reassign_to: str | None, what: str) -> int:
+    """Remove the ``model`` row called ``name``. Frames pointing at it (via ``frame_column``)
+    are refused with ``Conflict`` unless ``reassign_to`` names the row they move to.
+    Returns how many frames moved."""
+    row = get_by_name(session, model, name, what)
+    used = count_of(session, frame_column, row.id)
+    target = None
+    if reassign_to is not None:
+        target = get_by_name(session, model, reassign_to, what, error=InvalidValue)
+        if target is row:
+            raise InvalidValue(f"cannot move the frames of {what} {row.name!r} to itself")
+    if used and target is None:
+        raise Conflict(
+            f"{what} {row.name!r} is used by {plural(used, 'frame')}: name a {what} to move them to (--reassign-to)"
+        )
+    if used:
+        session.execute(update(Frame).where(frame_column == row.id).values({frame_column.key: target.id}))
+    session.delete(row)
+    session.flush()
+    return used

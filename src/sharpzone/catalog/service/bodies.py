@@ -1,0 +1,145 @@
+"""Camera bodies in the catalogue: list, show, add, edit, remove, and EXIF matching.
+
+A body is known to EXIF by (make, model, serial). At most one body per make and model may
+leave the serial empty; EXIF matching prefers the body with the frame's serial and falls
+back to that one (see ``find_body_for_exif``).
+"""
+
+from __future__ import annotations
+
+from sqlalchemy import func, select
+from sqlalchemy.orm import Session
+
+from sharpzone.catalog.models import Body, Frame
+from sharpzone.catalog.service._common import (
+    clean_name,
+    get_by_name,
+    merged,
+    optional_text,
+    remove_reassigning_frames,
+    positive_int,
+    require_name_free,
+)
+from sharpzone.catalog.service.formats import get_format
+from sharpzone.errors import Conflict, InvalidValue
+
+
+def list_bodies(session: Session) -> list[Body]:
+    """Every body, by name, with its sensor format loaded."""
+    return list(session.scalars(select(Body).order_by(Body.name)).unique())
+
+
+def get_body(session: Session, name: str) -> Body:
+    """The body called ``name`` (ignoring case); ``NotFound`` lists the known ones."""
+    return get_by_name(session, Body, name, "body")
+
+
+def find_body_for_exif(session: Session, make: str, model: str, serial: str | None = None) -> Body | None:
+    """The body EXIF names: same make and model (ignoring case and outer spaces) and the
+    same serial, else the body of that make and model without a serial, else ``None``."""
+    candidates = session.scalars(
+        select(Body).where(
+            func.lower(Body.exif_make) == make.strip().lower(),
+            func.lower(Body.exif_model) == model.strip().lower(),
+        )
+    ).unique()
+    by_serial = {body.serial: body for body in candidates}
+    wanted = optional_text(serial)
+    return by_serial.get(wanted) if wanted in by_serial else by_serial.get(None)
+
+
+def add_body(
+    session: Session,
+    name: str,
+    *,
+    exif_make: str,
+    exif_model: str,
+    format_name: str,
+    serial: str | None = None,
+    pixel_width: int | None = None,
+    pixel_height: int | None = None,
+    confirmed: bool = True,
+) -> Body:
+    """Add a body named ``name`` with the EXIF make/model (and serial) it writes and its
+    sensor format (by name or alias); pixel dimensions are the full image in pixels."""
+    body = Body()
+    _apply(
+        session,
+        body,
+        name=name,
+        exif_make=exif_make,
+        exif_model=exif_model,
+        serial=serial,
+        format_name=format_name,
+        pixel_width=pixel_width,
+        pixel_height=pixel_height,
+        confirmed=confirmed,
+    )
+    session.add(body)
+    session.flush()
+    return body
+
+
+def edit_body(
+    session: Session,
+    name: str,
+    *,
+    new_name: str | None = None,
+    exif_make: str | None = None,
+    exif_model: str | None = None,
+    serial: str | None = None,
+    format_name: str | None = None,
+    pixel_width: int | None = None,
+    pixel_height: int | None = None,
+    confirmed: bool | None = None,
+) -> Body:
+    """Change the given fields of body ``name`` (``None`` keeps a field; ``serial=""`` clears it)."""
+    body = get_body(session, name)
+    _apply(
+        session,
+        body,
+        format_name=body.sensor_format.name if format_name is None else format_name,
+        **merged(
+            body,
+            name=new_name,
+            exif_make=exif_make,
+            exif_model=exif_model,
+            serial=serial,
+            pixel_width=pixel_width,
+            pixel_height=pixel_height,
+            confirmed=confirmed,
+        ),
+    )
+    session.flush()
+    return body
+
+
+def remove_body(session: Session, name: str, *, reassign_to: str | None = None) -> int:
+    """Remove body ``name``. Frames taken with it are refused (``Conflict``) unless
+    ``reassign_to`` names the body they move to. Returns how many frames moved."""
+    return remove_reassigning_frames(session, Body, Frame.body_id, name, reassign_to, "body")
+
+
+def _apply(session, body, *, name, exif_make, exif_model, serial, format_name, pixel_width, pixel_height, confirmed) -> None:
+    """Validate the complete new state of ``body``, then set it."""
+    name = clean_name(name, "body")
+    make, model = exif_make, exif_model
+    make = clean_name(make, f"body {name!r}: EXIF make")
+    model = clean_name(model, f"body {name!r}: EXIF model")
+    serial = optional_text(serial)
+    sensor_format = get_format(session, format_name, error=InvalidValue)
+    pixel_width = positive_int(pixel_width, f"body {name!r}: pixel width")
+    pixel_height = positive_int(pixel_height, f"body {name!r}: pixel height")
+    require_name_free(session, Body, name, "body", keep=body)
+    twin = find_body_for_exif(session, make, model, serial)
+    if twin is not None and twin is not body and (twin.serial or None) == serial:
+        what = f"serial {serial!r}" if serial else "no serial"
+        raise Conflict(f"body {twin.name!r} already is {make} {model} with {what}")
+    body.name = name
+    body.exif_make = make
+    body.exif_model = model
+    body.serial = serial
+    body.sensor_format = sensor_format
+    body.pixel_width = pixel_width
+    body.pixel_height = pixel_height
+    body.confirmed = bool(confirmed)

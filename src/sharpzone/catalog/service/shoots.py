@@ -1,0 +1,222 @@
+"""Shoots and their plans: list, show, add, edit, remove.
+
+A plan says what had to be sharp, in millimetres from the sensor: an absolute range
+(``near_mm`` to ``far_mm``; far may be ``math.inf``) or a subject depth around the focus
+point (``front_mm`` in front, ``back_mm`` behind). Planned focal length, f-number and focus
+distance are optional. The command line parses distances with ``sharpzone.units``.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from pathlib import Path
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from sharpzone.catalog.models import Frame, Shoot
+from sharpzone.catalog.service._common import (
+    clean_name,
+    count_of,
+    get_by_name,
+    merged,
+    optional_text,
+    plural,
+    positive,
+    require_name_free,
+)
+from sharpzone.errors import Conflict, InvalidValue
+
+_PLAN_FIELDS = ("plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
+
+
+def list_shoots(session: Session) -> list[Shoot]:
+    """Every shoot, newest first."""
+    return list(session.scalars(select(Shoot).order_by(Shoot.created_at.desc(), Shoot.name)))
+
+
+def get_shoot(session: Session, name: str) -> Shoot:
+    """The shoot called ``name`` (ignoring case); ``NotFound`` lists the known ones."""
+    return get_by_name(session, Shoot, name, "shoot")
+
+
+def shoot_frame_count(session: Session, shoot: Shoot) -> int:
+    """How many frames belong to ``shoot``."""
+    return count_of(session, Frame.shoot_id, shoot.id)
+
+
+def add_shoot(
+    session: Session,
+    name: str,
+    *,
+    root_folder: str | Path | None = None,
+    near_mm: float | None = None,
+    far_mm: float | None = None,
+    front_mm: float | None = None,
+    back_mm: float | None = None,
+    planned_focal_mm: float | None = None,
+    planned_f_number: float | None = None,
+    planned_focus_mm: float | None = None,
+    coc_policy: str | None = None,
+    notes: str | None = None,
+) -> Shoot:
+    """Add a shoot, with a range plan (``near_mm``/``far_mm``) or a depth plan
+    (``front_mm``/``back_mm``) or none; ``root_folder`` is stored as an absolute path."""
+    shoot = Shoot()
+    require_name_free(session, Shoot, clean_name(name, "shoot"), "shoot")
+    shoot.name = clean_name(name, "shoot")
+    _set_plan(shoot, near_mm, far_mm, front_mm, back_mm)
+    _set_details(
+        shoot,
+        root_folder=root_folder,
+        planned_focal_mm=planned_focal_mm,
+        planned_f_number=planned_f_number,
+        planned_focus_mm=planned_focus_mm,
+        coc_policy=coc_policy,
+        notes=notes,
+    )
+    session.add(shoot)
+    session.flush()
+    return shoot
+
+
+def edit_shoot(
+    session: Session,
+    name: str,
+    *,
+    new_name: str | None = None,
+    root_folder: str | Path | None = None,
+    near_mm: float | None = None,
+    far_mm: float | None = None,
+    front_mm: float | None = None,
+    back_mm: float | None = None,
+    clear_plan: bool = False,
+    planned_focal_mm: float | None = None,
+    planned_f_number: float | None = None,
+    planned_focus_mm: float | None = None,
+    coc_policy: str | None = None,
+    notes: str | None = None,
+) -> Shoot:
+    """Change the given fields of shoot ``name`` (``None`` keeps a field; ``""`` clears a
+    text field). Giving one limit of the plan's kind keeps the other; switching kind needs
+    both; ``clear_plan`` removes the plan first."""
+    shoot = get_shoot(session, name)
+    if new_name is not None:
+        new_name = clean_name(new_name, "shoot")
+        require_name_free(session, Shoot, new_name, "shoot", keep=shoot)
+    kind = None if clear_plan else shoot.plan_kind
+    current = {field: (getattr(shoot, field) if kind else None) for field in _PLAN_FIELDS}
+    range_given = near_mm is not None or far_mm is not None
+    depth_given = front_mm is not None or back_mm is not None
+    if range_given and not depth_given:
+        current["plan_front_mm"] = current["plan_back_mm"] = None
+    if depth_given and not range_given:
+        current["plan_near_mm"] = current["plan_far_mm"] = None
+    _set_plan(
+        shoot,
+        current["plan_near_mm"] if near_mm is None else near_mm,
+        current["plan_far_mm"] if far_mm is None else far_mm,
+        current["plan_front_mm"] if front_mm is None else front_mm,
+        current["plan_back_mm"] if back_mm is None else back_mm,
+        range_given=range_given,
+        depth_given=depth_given,
+    )
+    _set_details(
+        shoot,
+        **merged(
+            shoot,
+            root_folder=root_folder,
+            planned_focal_mm=planned_focal_mm,
+            planned_f_number=planned_f_number,
+            planned_focus_mm=planned_focus_mm,
+            coc_policy=coc_policy,
+            notes=notes,
+        ),
+    )
+    if new_name is not None:
+        shoot.name = new_name
+    session.flush()
+    return shoot
+
+
+def remove_shoot(session: Session, name: str, *, with_frames: bool = False) -> int:
+    """Remove shoot ``name``. A shoot with frames is refused (``Conflict``) unless
+    ``with_frames`` says to remove them too. Returns how many frames were removed."""
+    shoot = get_shoot(session, name)
+    frames = shoot_frame_count(session, shoot)
+    if frames and not with_frames:
+        raise Conflict(
+            f"shoot {shoot.name!r} has {plural(frames, 'frame')}: say --with-frames to remove them too"
+        )
+    session.delete(shoot)
+    session.flush()
+    return frames
+
+
+def validate_coc_policy(text: str) -> str:
+    """The policy text if the optics core accepts it (``InvalidValue`` otherwise)."""
+    try:
+        from sharpzone.optics.coc import parse_coc_policy
+    except ImportError:
+        parse_coc_policy = _parse_coc_policy_shape
+    parse_coc_policy(text)
+    return text
+
+
+# Shape check used until the optics core's policy parser is available in this branch.
+_POLICY_SHAPE = re.compile(r"^(diagonal(/\d+(\.\d+)?)?|fixed:\d*\.?\d+\s*mm|print:.+@.+|pixels:\d*\.?\d+)$")
+
+
+def _parse_coc_policy_shape(text: str) -> str:
+    if not _POLICY_SHAPE.match(text.strip()):
+        raise InvalidValue(
+            f"circle-of-confusion policy {text!r} is not understood: expected diagonal, diagonal/K, "
+            "fixed:0.03mm, print:10x8in@50cm or pixels:K"
+        )
+    return text
+
+
+def _set_plan(shoot, near, far, front, back, *, range_given=None, depth_given=None) -> None:
+    """Validate and set the plan; ``*_given`` say which kind the caller asked for."""
+    range_given = (near is not None or far is not None) if range_given is None else range_given
+    depth_given = (front is not None or back is not None) if depth_given is None else depth_given
+    label = f"shoot {shoot.name!r}"
+    if range_given and depth_given:
+        raise InvalidValue(f"{label}: give a range (near/far) or a subject depth (front/back), not both")
+    values = dict.fromkeys(_PLAN_FIELDS)
+    kind = None
+    if range_given or (near is not None or far is not None):
+        if near is None or far is None:
+            raise InvalidValue(f"{label}: a range plan needs both the near and the far limit")
+        near = positive(near, f"{label}: near limit", "mm")
+        far = positive(far, f"{label}: far limit", "mm", allow_inf=True)
+        if far <= near:
+            raise InvalidValue(f"{label}: far limit {far:g} mm must be beyond the near limit {near:g} mm")
+        kind, values["plan_near_mm"], values["plan_far_mm"] = "range", near, far
+    elif front is not None or back is not None:
+        if front is None or back is None:
+            raise InvalidValue(f"{label}: a subject-depth plan needs both the depth in front and behind")
+        for what, value in (("depth in front", front), ("depth behind", back)):
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and value >= 0):
+                raise InvalidValue(f"{label}: {what} {value!r} mm must be a finite distance, 0 or more")
+        if front + back <= 0:
+            raise InvalidValue(f"{label}: the subject depth must not be zero in front and behind")
+        kind, values["plan_front_mm"], values["plan_back_mm"] = "depth", float(front), float(back)
+    shoot.plan_kind = kind
+    for field, value in values.items():
+        setattr(shoot, field, value)
+
+
+def _set_details(shoot, *, root_folder, planned_focal_mm, planned_f_number, planned_focus_mm, coc_policy, notes) -> None:
+    """Validate and set everything but the plan and the name."""
+    focal_mm, f_number, focus_mm = planned_focal_mm, planned_f_number, planned_focus_mm
+    label = f"shoot {shoot.name!r}"
+    folder = optional_text(str(root_folder) if root_folder is not None else None)
+    shoot.root_folder = str(Path(folder).expanduser().resolve()) if folder else None
+    shoot.planned_focal_mm = positive(focal_mm, f"{label}: planned focal length", "mm")
+    shoot.planned_f_number = positive(f_number, f"{label}: planned f-number")
+    shoot.planned_focus_mm = positive(focus_mm, f"{label}: planned focus distance", "mm", allow_inf=True)
+    policy = optional_text(coc_policy)
+    shoot.coc_policy = validate_coc_policy(policy) if policy else None
+    shoot.notes = optional_text(notes)

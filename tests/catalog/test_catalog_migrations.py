@@ -1,0 +1,162 @@
+"""The migration runner: new catalogues, upgrades with rows in them, refusals, no drift."""
+
+from __future__ import annotations
+
+import math
+import sqlite3
+import warnings
+
+import pytest
+from sqlalchemy import create_engine, select, text
+
+from sharpzone.catalog import migrate
+from sharpzone.catalog.engine import create_catalog_engine, open_catalog
+from sharpzone.catalog.location import sqlite_url
+from sharpzone.catalog.models import Base, Body, Frame, IngestProblem, Lens, LensAlias, SensorFormatRow, Shoot
+from sharpzone.errors import CatalogError
+from sharpzone.seed import shipped_formats
+
+
+def test_revisions_form_one_line_from_0001_to_head():
+    assert migrate.known_revisions() == ["0001", "0002"]
+    assert migrate.head_revision() == "0002"
+    assert migrate.next_revision_id() == "0003"
+
+
+def test_migrations_are_found_inside_the_package():
+    folder = migrate.migrations_folder()
+    assert (folder / "env.py").is_file()
+    assert (folder / "script.py.mako").is_file()
+    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:2] == [
+        "0001_initial_schema.py",
+        "0002_pupils_warnings_problems.py",
+    ]
+
+
+def test_empty_database_is_created_at_head_with_the_shipped_formats(catalog_url):
+    result = migrate.prepare_catalog(catalog_url)
+    assert result.created and result.revision == "0002"
+    engine = create_engine(catalog_url)
+    with engine.connect() as connection:
+        assert migrate.current_revision(connection) == "0002"
+        names = set(connection.scalars(select(SensorFormatRow.name)))
+    engine.dispose()
+    assert names == {shipped.format.name for shipped in shipped_formats()}
+    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0002")
+
+
+def test_models_and_migrations_do_not_drift(catalog_url):
+    from alembic.autogenerate import compare_metadata
+    from alembic.runtime.migration import MigrationContext
+
+    migrate.prepare_catalog(catalog_url)
+    engine = create_catalog_engine(catalog_url)
+    with engine.connect() as connection, warnings.catch_warnings():
+        # SQLite cannot reflect the expression index on body; the test below checks it.
+        warnings.simplefilter("ignore")
+        context = MigrationContext.configure(connection, opts={"compare_type": True})
+        assert compare_metadata(context, Base.metadata) == []
+    engine.dispose()
+
+
+def test_body_identity_index_exists_after_migration(tmp_path):
+    url = sqlite_url(tmp_path / "c.sqlite")
+    migrate.prepare_catalog(url)
+    connection = sqlite3.connect(tmp_path / "c.sqlite")
+    sql = connection.execute("SELECT sql FROM sqlite_master WHERE name = 'uq_body_exif_identity'").fetchone()[0]
+    connection.close()
+    assert "UNIQUE" in sql.upper() and "coalesce(serial, '')" in sql
+
+
+def _fill_revision_0001(url: str) -> None:
+    """Rows in every 0001 table, written with plain SQL in the 0001 shape."""
+    engine = create_engine(url)
+    with engine.begin() as connection:
+        connection.execute(text(
+            "INSERT INTO sensor_format (id, name, width_mm, height_mm, coc_divisor, aliases, description, source) "
+            "VALUES (1, 'test-36x24', 36, 24, 1500, 'ff;135', 'a frame', 'invented')"
+        ))
+        connection.execute(text(
+            "INSERT INTO body (id, name, exif_make, exif_model, serial, format_id, pixel_width, pixel_height, confirmed) "
+            "VALUES (1, 'Korvath K1', 'Korvath', 'K1', NULL, 1, 6000, 4000, 1)"
+        ))
+        connection.execute(text(
+            "INSERT INTO lens (id, name, focal_min_mm, focal_max_mm, max_aperture_wide, max_aperture_tele, "
+            "min_aperture, close_focus_mm, confirmed) VALUES (1, 'Altamira 24-70', 24, 70, 2.8, 2.8, 22, 380, 0)"
+        ))
+        connection.execute(text("INSERT INTO lens_alias (id, lens_id, exif_name) VALUES (1, 1, 'ALT 24-70mm F2.8')"))
+        connection.execute(text(
+            "INSERT INTO shoot (id, name, root_folder, created_at, plan_kind, plan_near_mm, plan_far_mm) "
+            "VALUES (1, 'Harbour', '/photos/harbour', '2026-11-30 10:00:00', 'range', 4000, 9000)"
+        ))
+        connection.execute(
+            text(
+                "INSERT INTO frame (id, shoot_id, path, file_size, file_mtime_ns, captured_at, utc_offset_minutes, "
+                "body_id, lens_id, focal_mm, f_number, exposure_s, iso, focus_mm, focus_source) VALUES "
+                "(1, 1, '/photos/harbour/a.jpg', 123, 1700000000000000000, '2026-11-30 10:01:02', 60, "
+                "1, 1, 35, 8, 0.004, 100, :inf, 'exif')"
+            ),
+            {"inf": math.inf},
+        )
+    engine.dispose()
+
+
+def test_old_catalogue_with_rows_is_backed_up_and_upgraded_keeping_every_row(tmp_path):
+    path = tmp_path / "old.sqlite"
+    url = sqlite_url(path)
+    migrate.upgrade(url, "0001")
+    _fill_revision_0001(url)
+
+    with open_catalog(url) as catalog, catalog.session_scope() as session:
+        assert [f.name for f in session.scalars(select(SensorFormatRow))] == ["test-36x24"]  # not seeded again
+        body = session.scalars(select(Body)).one()
+        assert (body.name, body.serial, body.sensor_format.name, body.pixel_width) == ("Korvath K1", None, "test-36x24", 6000)
+        lens = session.scalars(select(Lens)).one()
+        assert (lens.focal_min_mm, lens.focal_max_mm, lens.close_focus_mm, lens.confirmed) == (24, 70, 380, False)
+        assert lens.pupil_magnification == 1.0  # the 0002 default for existing lenses
+        assert [a.exif_name for a in lens.aliases] == ["ALT 24-70mm F2.8"]
+        shoot = session.scalars(select(Shoot)).one()
+        assert (shoot.plan_kind, shoot.plan_near_mm, shoot.plan_far_mm) == ("range", 4000, 9000)
+        frame = session.scalars(select(Frame)).one()
+        assert (frame.shoot_id, frame.body_id, frame.lens_id, frame.utc_offset_minutes) == (1, 1, 1, 60)
+        assert math.isinf(frame.focus_mm) and frame.warnings is None
+        assert session.scalars(select(IngestProblem)).all() == []
+        assert session.scalars(select(LensAlias)).one().lens_id == 1
+
+    backups = list(tmp_path.glob("old.sqlite.bak-0001-*"))
+    assert len(backups) == 1
+    kept = sqlite3.connect(backups[0])
+    assert kept.execute("SELECT version_num FROM alembic_version").fetchone() == ("0001",)
+    assert kept.execute("SELECT count(*) FROM frame").fetchone() == (1,)
+    kept.close()
+
+
+def test_catalogue_newer_than_the_program_is_refused(tmp_path):
+    path = tmp_path / "future.sqlite"
+    url = sqlite_url(path)
+    migrate.prepare_catalog(url)
+    connection = sqlite3.connect(path)
+    connection.execute("UPDATE alembic_version SET version_num = '0099'")
+    connection.commit()
+    connection.close()
+    with pytest.raises(CatalogError, match=r"revision '0099', newer than this program"):
+        with open_catalog(url):
+            pass
+    assert not list(tmp_path.glob("*.bak-*"))
+
+
+def test_foreign_database_is_refused(tmp_path):
+    path = tmp_path / "other.sqlite"
+    connection = sqlite3.connect(path)
+    connection.execute("CREATE TABLE recipes (id INTEGER PRIMARY KEY)")
+    connection.commit()
+    connection.close()
+    with pytest.raises(CatalogError, match="not a sharpzone catalogue"):
+        migrate.prepare_catalog(sqlite_url(path))
+
+
+def test_a_file_that_is_not_a_database_is_refused(tmp_path):
+    path = tmp_path / "notes.sqlite"
+    path.write_text("shopping list: film, batteries\n" * 100)
+    with pytest.raises(CatalogError, match="not a sharpzone catalogue or is damaged"):
+        migrate.prepare_catalog(sqlite_url(path))
