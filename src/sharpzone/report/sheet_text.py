@@ -1,0 +1,262 @@
+"""Sharp-zone sheets as text: tidy CSV rows for machines, Markdown and printable HTML tables
+for people (one table per focal length: focus distances down, f-numbers across).
+
+The pieces every human form shares (the facts block, column heads, row labels and cell
+text) live here too; ``sharpzone.report.sheet_chart`` uses them for PDF and PNG.
+"""
+
+from __future__ import annotations
+
+import csv
+import html
+import io
+import math
+from collections.abc import Iterator
+from dataclasses import dataclass
+from typing import Any
+
+from sharpzone.analysis.sheets import FocalTable, Sheet
+from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance, metres_or_inf
+
+# The machine interface of ``sharpzone sheet --out FILE.csv`` (documented in README.md).
+CSV_COLUMNS = (
+    "lens", "sensor", "coc_mm", "coc_policy", "reference", "focal_mm", "f_number", "past_diffraction_limit",
+    "focus_m", "at_hyperfocal", "near_m", "far_m", "total_m", "hyperfocal_m",
+)
+DIFFRACTION_MARK = "†"
+
+
+# ---- machine form ----------------------------------------------------------------------
+
+def sheet_records(sheet: Sheet) -> Iterator[dict[str, Any]]:
+    """One record per focal length × f-number × focus distance, in the CSV's columns:
+    distances in metres (``"inf"`` for infinity), the ladder rows first and then the row
+    focused at the hyperfocal distance (``at_hyperfocal`` true)."""
+    common = {
+        "lens": sheet.lens.name,
+        "sensor": sheet.coc.sensor.name if sheet.coc.sensor else None,
+        "coc_mm": sheet.coc.coc_mm,
+        "coc_policy": sheet.coc.policy.spec,
+        "reference": sheet.reference,
+    }
+    for table in sheet.tables:
+        for column, f_number in enumerate(table.f_numbers):
+            per_column = {**common, "focal_mm": table.focal_mm, "f_number": f_number,
+                          "past_diffraction_limit": table.past_diffraction_limit[column]}
+            hyperfocal = float(table.hyperfocal_mm[column])
+            for row, focus in enumerate(table.focus_mm):
+                yield {**per_column, "focus_m": metres_or_inf(float(focus)), "at_hyperfocal": False,
+                       "near_m": metres_or_inf(float(table.near_mm[row, column])),
+                       "far_m": metres_or_inf(float(table.far_mm[row, column])),
+                       "total_m": metres_or_inf(float(table.total_mm[row, column])),
+                       "hyperfocal_m": metres_or_inf(hyperfocal)}
+            yield {**per_column, "focus_m": metres_or_inf(hyperfocal), "at_hyperfocal": True,
+                   "near_m": metres_or_inf(float(table.hyperfocal_near_mm[column])), "far_m": "inf",
+                   "total_m": "inf", "hyperfocal_m": metres_or_inf(hyperfocal)}
+
+
+def render_csv(sheet: Sheet) -> str:
+    """The sheet as tidy CSV (``CSV_COLUMNS``); booleans as ``true``/``false``, unknown empty."""
+    out = io.StringIO()
+    writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    for record in sheet_records(sheet):
+        writer.writerow({key: _csv_value(value) for key, value in record.items()})
+    return out.getvalue()
+
+
+def _csv_value(value: Any) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    return str(value)
+
+
+# ---- pieces shared by the human forms ------------------------------------------------------
+
+@dataclass(frozen=True)
+class TableText:
+    """One focal length's table as text: column heads, then (label, cells) rows; the last
+    two rows are the hyperfocal distance and the zone when focused there."""
+
+    title: str
+    heads: list[str]
+    rows: list[tuple[str, list[str]]]
+    ladder_rows: int
+    marked_columns: list[bool]
+
+
+def _reference_phrase(reference: str) -> str:
+    return ("measured from the sensor plane (the focal-plane mark)" if reference == "sensor"
+            else "measured from the lens (front principal plane)")
+
+
+def sheet_title(sheet: Sheet) -> str:
+    return f"Sharp-zone sheet: {sheet.lens.name}"
+
+
+def sheet_facts(sheet: Sheet, *, imperial: bool = False) -> list[tuple[str, str]]:
+    """What the sheet assumes, as (label, text) pairs: lens, format, CoC, reference, stops,
+    diffraction limit. Every number carries its unit."""
+    lens = sheet.lens
+    focal = (f"{lens.focal_min_mm:g} mm" if lens.is_prime else f"{lens.focal_min_mm:g}–{lens.focal_max_mm:g} mm")
+    widest = (format_f_number(lens.max_aperture_wide) if lens.max_aperture_wide == lens.max_aperture_tele
+              else f"{format_f_number(lens.max_aperture_wide)}–{lens.max_aperture_tele:g}")
+    if lens.close_focus_mm is not None:
+        close = f"close focus {format_round_distance(lens.close_focus_mm, imperial=imperial)}"
+    else:
+        close = "close focus not catalogued (the rows start at 10 × the focal length)"
+    sensor = sheet.coc.sensor
+    fmt = f"{sensor.name} ({sensor.width_mm:g} × {sensor.height_mm:g} mm)" if sensor else "not given (fixed CoC)"
+    return [
+        ("Lens", f"{lens.name}: {focal}, {widest} to f/{lens.min_aperture:g}, {close}"),
+        ("Format", fmt),
+        ("Circle of confusion", f"{format_length_mm(sheet.coc.coc_mm)} ({sheet.coc.describe()})"),
+        ("Distances", _reference_phrase(sheet.reference)),
+        ("f-numbers", f"{sheet.stops} stops from wide open (marked values)"),
+        ("Diffraction", f"limited at f/{sheet.diffraction_limited_f_number:.1f} for this CoC (Airy disk at "
+                        f"550 nm as wide as the CoC); columns marked {DIFFRACTION_MARK} are past it"),
+    ]
+
+
+def zone_text(near_mm: float, far_mm: float, *, imperial: bool = False) -> str:
+    """A cell: 'near – far' with units, ∞ for infinity."""
+    return f"{format_distance(near_mm, imperial=imperial)} – {format_distance(far_mm, imperial=imperial)}"
+
+
+def f_number_head(table: FocalTable, column: int) -> str:
+    head = format_f_number(table.f_numbers[column])
+    return f"{head} {DIFFRACTION_MARK}" if table.past_diffraction_limit[column] else head
+
+
+def table_text(sheet: Sheet, table: FocalTable, *, imperial: bool = False) -> TableText:
+    """The words and numbers of one focal length's table, ready for any layout."""
+    columns = range(len(table.f_numbers))
+    rows: list[tuple[str, list[str]]] = []
+    for row, focus in enumerate(table.focus_mm):
+        label = format_round_distance(float(focus), imperial=imperial)
+        if row == 0 and math.isclose(float(focus), table.close_focus_mm):
+            label += " (closest)"
+        cells = [zone_text(float(table.near_mm[row, c]), float(table.far_mm[row, c]), imperial=imperial)
+                 for c in columns]
+        rows.append((label, cells))
+    rows.append(("Hyperfocal distance",
+                 [format_distance(float(table.hyperfocal_mm[c]), imperial=imperial) for c in columns]))
+    rows.append(("Focused there",
+                 [zone_text(float(table.hyperfocal_near_mm[c]), math.inf, imperial=imperial) for c in columns]))
+    return TableText(
+        title=f"{table.focal_mm:g} mm",
+        heads=["Focus at"] + [f_number_head(table, c) for c in columns],
+        rows=rows,
+        ladder_rows=len(table.focus_mm),
+        marked_columns=list(table.past_diffraction_limit),
+    )
+
+
+def table_caption(sheet: Sheet) -> str:
+    """The line under every table: how to read a cell."""
+    return (f"Each cell: sharp from – sharp to, {_reference_phrase(sheet.reference)}; "
+            f"{DIFFRACTION_MARK} past the diffraction limit.")
+
+
+# ---- Markdown ----------------------------------------------------------------------------
+
+def _md(text: str) -> str:
+    return text.replace("|", "\\|")
+
+
+def render_markdown(sheet: Sheet, *, imperial: bool = False) -> str:
+    """The sheet as Markdown: the facts, then one table per focal length, then the caveat."""
+    lines = [f"# {_md(sheet_title(sheet))}", ""]
+    lines += [f"- **{label}:** {_md(text)}" for label, text in sheet_facts(sheet, imperial=imperial)]
+    lines += ["", f"_{sheet.caveat}_", ""]
+    for table in sheet.tables:
+        text = table_text(sheet, table, imperial=imperial)
+        lines += [f"## {text.title}", ""]
+        lines.append("| " + " | ".join(_md(head) for head in text.heads) + " |")
+        lines.append("|" + "---|" + "---:|" * (len(text.heads) - 1))
+        for label, cells in text.rows:
+            lines.append(f"| {_md(label)} | " + " | ".join(_md(cell) for cell in cells) + " |")
+        lines += ["", table_caption(sheet), ""]
+    return "\n".join(lines)
+
+
+# ---- HTML ----------------------------------------------------------------------------
+
+# Neutral print styling of our own; no external fonts, scripts or images. Landscape keeps
+# the reader's paper size (A4 or Letter), and the page margins leave room for both.
+_HTML_STYLE = """
+@page { size: landscape; margin: 11mm 12mm; }
+* { box-sizing: border-box; }
+body { font-family: "Segoe UI", "DejaVu Sans", Arial, sans-serif; color: #1b1b1b; margin: 0; }
+section.focal { page-break-after: always; break-after: page; padding: 0; }
+section.focal:last-of-type { page-break-after: auto; break-after: auto; }
+header { display: flex; justify-content: space-between; align-items: baseline;
+         border-bottom: 2px solid #1b1b1b; margin-bottom: 2mm; }
+h1 { font-size: 13pt; margin: 0; font-weight: 600; }
+h2 { font-size: 20pt; margin: 0; font-weight: 700; }
+dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 0.3mm 4mm;
+           font-size: 8pt; margin: 0 0 2.5mm 0; }
+dl.facts dt { font-weight: 600; color: #444; }
+dl.facts dd { margin: 0; }
+table { border-collapse: collapse; width: 100%; page-break-inside: avoid; break-inside: avoid; }
+th, td { padding: 1.1mm 1.6mm; text-align: right; border-bottom: 0.3mm solid #d0d0d0; }
+thead th { border-bottom: 0.5mm solid #1b1b1b; font-size: 1.05em; }
+tbody th { text-align: left; white-space: nowrap; font-weight: 600; }
+tbody tr:nth-child(even) td, tbody tr:nth-child(even) th { background: #f2f2f2; }
+td span { white-space: nowrap; }
+.past { color: #6b6b6b; font-style: italic; }
+tr.hyperfocal th, tr.hyperfocal td { border-top: 0.5mm solid #1b1b1b; background: #e6e6e6; }
+p.caption, p.caveat { font-size: 7.5pt; margin: 1.5mm 0 0 0; color: #333; }
+p.caveat { font-style: italic; }
+@media print { body { -webkit-print-color-adjust: exact; print-color-adjust: exact; } }
+"""
+
+
+def _html_font_size_pt(columns: int) -> float:
+    """Smaller type for wide tables, so half- and third-stop sheets still fit the page."""
+    return 10.0 if columns <= 8 else 8.5 if columns <= 11 else 7.0 if columns <= 15 else 5.8
+
+
+def _cell_html(cell: str) -> str:
+    near, sep, far = cell.partition(" – ")
+    if not sep:
+        return f"<span>{html.escape(cell)}</span>"
+    return f"<span>{html.escape(near)}</span> – <span>{html.escape(far)}</span>"
+
+
+def _past_class(past: bool) -> str:
+    return ' class="past"' if past else ""
+
+
+def render_html(sheet: Sheet, *, imperial: bool = False) -> str:
+    """The sheet as one self-contained HTML page that prints one focal length per page."""
+    esc = html.escape
+    facts = "".join(f"<dt>{esc(label)}</dt><dd>{esc(text)}</dd>" for label, text in sheet_facts(sheet, imperial=imperial))
+    parts = [
+        "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+        f"<title>{esc(sheet_title(sheet))}</title>", f"<style>{_HTML_STYLE}</style>", "</head>", "<body>",
+    ]
+    for table in sheet.tables:
+        text = table_text(sheet, table, imperial=imperial)
+        size = _html_font_size_pt(len(text.heads))
+        marked = [False, *text.marked_columns]
+        heads = "".join(f'<th scope="col"{_past_class(past)}>{esc(head)}</th>' for head, past in zip(text.heads, marked))
+        body_rows = []
+        for number, (label, cells) in enumerate(text.rows):
+            row_class = ' class="hyperfocal"' if number == text.ladder_rows else ""
+            tds = "".join(f"<td{_past_class(past)}>{_cell_html(cell)}</td>" for cell, past in zip(cells, text.marked_columns))
+            body_rows.append(f'<tr{row_class}><th scope="row">{esc(label)}</th>{tds}</tr>')
+        parts += [
+            '<section class="focal">',
+            f"<header><h1>{esc(sheet_title(sheet))}</h1><h2>{esc(text.title)}</h2></header>",
+            f'<dl class="facts">{facts}</dl>',
+            f'<table style="font-size: {size}pt"><thead><tr>{heads}</tr></thead>',
+            f"<tbody>{''.join(body_rows)}</tbody></table>",
+            f'<p class="caption">{esc(table_caption(sheet))}</p>',
+            f'<p class="caveat">{esc(sheet.caveat)}</p>',
+            "</section>",
+        ]
+    parts += ["</body>", "</html>", ""]
+    return "\n".join(parts)
