@@ -22,8 +22,9 @@ from sharpzone.report.sheet_text import (
 )
 from sharpzone.units import format_round_distance
 
-# A landscape page that fits both A4 (11.69 × 8.27 in) and Letter (11 × 8.5 in) unscaled.
-PAGE_SIZE_IN = (11.0, 8.27)
+# A landscape page that fits both A4 (297 × 210 mm, 11.69 × 8.27 in) and Letter
+# (11 × 8.5 in) unscaled.
+PAGE_SIZE_IN = (11.0, 8.2)
 PNG_DPI = 150
 # PNG of several focal lengths: a grid of charts, this many across, each this tall (in).
 GRID_COLUMNS = 2
