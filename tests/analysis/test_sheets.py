@@ -190,3 +190,14 @@ def test_bad_lens_specs_are_refused(fields, words):
               "max_aperture_tele": 2.8, "min_aperture": 22, **fields}
     with pytest.raises(InvalidValue, match=words):
         LensSpec(**values)
+
+
+def test_macro_close_focus_below_four_focal_lengths_starts_where_the_model_can():
+    # A thin lens images 1:1 with the subject 4 f from the sensor, its nearest focus
+    # (D = s + v with s = v = 2f; DESIGN.md).
+    macro = LensSpec("Korvath Macro 100/2.8", 100, 100, 2.8, 2.8, 32, 300, pupil_magnification=0.7)
+    (table,) = build_sheet(macro, choose_coc()).tables
+    assert table.close_focus_raised and table.focus_mm[0] == 400.0
+    assert table.magnification[0] == pytest.approx(1.0)
+    (ordinary,) = build_sheet(PRIME, choose_coc()).tables
+    assert not ordinary.close_focus_raised

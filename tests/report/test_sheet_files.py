@@ -182,3 +182,32 @@ def test_infinite_cells_print_as_the_infinity_sign(prime_sheet):
     infinity_row = text.rows[text.ladder_rows - 1]
     assert infinity_row[0] == "∞" and all(cell.endswith("– ∞") for cell in infinity_row[1])
     assert math.isinf(prime_sheet.tables[0].far_mm[-1, 0])
+
+
+MACRO = LensSpec("Korvath Macro 100/2.8", 100, 100, 2.8, 2.8, 32, 300, pupil_magnification=0.7)
+
+
+def test_close_up_sheets_say_so_and_keep_near_and_far_apart():
+    from sharpzone.report.sheet_text import sheet_facts, table_text
+
+    sheet = build_sheet(MACRO, choose_coc(sensor="36x24"), stops="third")
+    facts = dict(sheet_facts(sheet))
+    # Effective f-number N (1 + m/P) (D. Jacobson, "Photographic Lenses Tutorial", section 04):
+    # at 1:1 with P = 0.7 the lens works at 1 + 1/0.7 = 2.43 × the marked f-number.
+    assert "1.00×" in facts["Close-up"] and "2.43 ×" in facts["Close-up"]
+    assert "catalogued 30 cm" in facts["Nearest row"]
+    text = table_text(sheet, sheet.tables[0])
+    label, cells = text.rows[0]
+    assert label == "40 cm (model's closest)"
+    near, far = cells[0].split(" – ")
+    assert near != far
+
+
+def test_wide_tables_still_make_one_pdf_page_per_focal_length(tmp_path):
+    from pypdf import PdfReader
+
+    sheet = build_sheet(MACRO, choose_coc(), stops="third")
+    reader = PdfReader(write_sheet(sheet, tmp_path / "macro.pdf"))
+    assert len(reader.pages) == 1
+    text = reader.pages[0].extract_text()
+    assert "f/2.8" in text and "f/32" in text

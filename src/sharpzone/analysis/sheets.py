@@ -125,9 +125,12 @@ class FocalTable:
 
     Rows are ``focus_mm`` (the ladder, ``inf`` last when present), columns ``f_numbers``;
     ``near_mm``/``far_mm``/``total_mm`` have shape (rows, columns) and ``far_mm`` is ``inf``
-    where the zone reaches infinity. ``hyperfocal_mm`` and ``hyperfocal_near_mm`` (the near
-    limit when focused there) have one value per column. ``curve_*`` hold the same limits
-    sampled densely in focus distance for charts.
+    where the zone reaches infinity; ``magnification`` is each row's image scale.
+    ``hyperfocal_mm`` and ``hyperfocal_near_mm`` (the near
+    limit when focused there) have one value per column. ``close_focus_raised`` says the
+    catalogued close focus was nearer than the model reaches (4 f from the sensor) and the
+    rows start there instead. ``curve_*`` hold the same limits sampled densely in focus
+    distance for charts.
     """
 
     focal_mm: float
@@ -137,9 +140,11 @@ class FocalTable:
     near_mm: np.ndarray
     far_mm: np.ndarray
     total_mm: np.ndarray
+    magnification: np.ndarray
     hyperfocal_mm: np.ndarray
     hyperfocal_near_mm: np.ndarray
     close_focus_mm: float
+    close_focus_raised: bool
     curve_focus_mm: np.ndarray
     curve_near_mm: np.ndarray
     curve_far_mm: np.ndarray
@@ -250,11 +255,15 @@ def build_sheet(
                  tables=tables, close_focus_assumed=lens.close_focus_mm is None)
 
 
-def _close_focus_mm(lens: LensSpec, focal_mm: float, reference: str) -> float:
-    """The closest focus at ``focal_mm`` in ``reference`` (catalogued from the sensor)."""
+def _close_focus_mm(lens: LensSpec, focal_mm: float, reference: str) -> tuple[float, bool]:
+    """The closest focus at ``focal_mm`` in ``reference`` (catalogued from the sensor), and
+    whether it was raised to 4 f from the sensor, the nearest a thin lens can focus: real
+    macro lenses (thick, internally focusing) get nearer than the model can follow."""
     from_sensor = lens.close_focus_mm if lens.close_focus_mm is not None else DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS * focal_mm
+    raised = from_sensor < 4 * focal_mm
     from_sensor = max(from_sensor, 4 * focal_mm)
-    return from_sensor if reference == "sensor" else float(sensor_to_lens_distance(from_sensor, focal_mm))
+    close = from_sensor if reference == "sensor" else float(sensor_to_lens_distance(from_sensor, focal_mm))
+    return close, raised
 
 
 def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, limit) -> FocalTable:
@@ -262,7 +271,7 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
     hyperfocal = np.asarray(hyperfocal_mm(focal_mm, f_numbers, coc_mm))
     if reference == "sensor":
         hyperfocal = np.asarray(lens_to_sensor_distance(hyperfocal, focal_mm))
-    close = _close_focus_mm(lens, focal_mm, reference)
+    close, close_raised = _close_focus_mm(lens, focal_mm, reference)
     if distances:
         ladder = sorted(set(float(d) for d in distances))
         nearer = [d for d in ladder if d < close * (1 - 1e-9)]
@@ -293,9 +302,11 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
         near_mm=near[:rows],
         far_mm=far[:rows],
         total_mm=total[:rows],
+        magnification=np.asarray(zone.magnification)[:rows, 0],
         hyperfocal_mm=hyperfocal,
         hyperfocal_near_mm=near[rows],
         close_focus_mm=close,
+        close_focus_raised=close_raised,
         curve_focus_mm=curve,
         curve_near_mm=near[rows + 1:],
         curve_far_mm=far[rows + 1:],

@@ -15,6 +15,7 @@ import numpy as np
 from sharpzone.analysis.sheets import FocalTable, Sheet
 from sharpzone.report.sheet_text import (
     DIFFRACTION_MARK,
+    column_slice,
     sheet_facts,
     sheet_title,
     table_caption,
@@ -35,6 +36,10 @@ INK = "#1b1b1b"
 GRID_INK = "#c8c8c8"
 STRIPE = "#f0f0f0"
 HYPERFOCAL_FILL = "#e2e2e2"
+# Wider tables are drawn in two halves, one above the other.
+MAX_COLUMNS_PER_TABLE = 10
+# Charts of more f-numbers than this show wide open and the full stops only.
+MAX_CURVE_PAIRS = 9
 # Farthest y the chart shows, as a multiple of its farthest focus sample: a far limit past
 # it (or infinite) runs off the top of the chart.
 Y_HEADROOM = 4.0
@@ -93,11 +98,18 @@ def _page_figure(sheet: Sheet, table: FocalTable, *, imperial: bool):
     figure.text(0.03, 0.955, sheet_title(sheet), fontsize=13, fontweight="bold", color=INK, va="baseline")
     figure.text(0.97, 0.955, text.title, fontsize=22, fontweight="bold", color=INK, ha="right", va="baseline")
     figure.add_artist(_rule(figure, 0.945))
-    chart = figure.add_axes((0.075, 0.555, 0.5, 0.355))
-    _draw_chart(chart, sheet, table, imperial=imperial, legend_outside=True)
-    _draw_facts(figure, sheet, imperial=imperial, x=0.715, top=0.915)
-    table_axes = figure.add_axes((0.03, 0.065, 0.94, 0.425))
-    _draw_table(table_axes, text)
+    columns = len(table.f_numbers)
+    if columns <= MAX_COLUMNS_PER_TABLE:
+        chart = figure.add_axes((0.065, 0.555, 0.56, 0.355))
+        _draw_table(figure.add_axes((0.03, 0.065, 0.94, 0.425)), text)
+    else:
+        # Half- and third-stop sheets: a smaller chart and the table in two halves.
+        chart = figure.add_axes((0.065, 0.655, 0.56, 0.255))
+        half = math.ceil(columns / 2)
+        _draw_table(figure.add_axes((0.03, 0.335, 0.94, 0.255)), column_slice(text, 0, half))
+        _draw_table(figure.add_axes((0.03, 0.065, 0.94, 0.255)), column_slice(text, half, columns))
+    _draw_chart(chart, sheet, table, imperial=imperial)
+    _draw_facts(figure, sheet, imperial=imperial, x=0.655, top=0.915)
     figure.text(0.03, 0.04, table_caption(sheet), fontsize=7.5, color=INK)
     figure.text(0.03, 0.018, sheet.caveat, fontsize=7.5, color=INK, style="italic")
     return figure
@@ -121,7 +133,7 @@ def _grid_figure(sheet: Sheet, *, imperial: bool):
         left = 0.075 + column * 0.49
         bottom_edge = height_in - top_in - (row + 1) * cell_h + 0.55
         axes = figure.add_axes((left, bottom_edge / height_in, 0.41, (cell_h - 0.95) / height_in))
-        _draw_chart(axes, sheet, table, imperial=imperial, legend_outside=False, title=f"{table.focal_mm:g} mm")
+        _draw_chart(axes, sheet, table, imperial=imperial, title=f"{table.focal_mm:g} mm")
     return figure
 
 
@@ -138,7 +150,7 @@ def _palette(count: int) -> list:
     return [colormaps["viridis"](value) for value in np.linspace(0.05, 0.85, max(count, 1))]
 
 
-def _draw_chart(axes, sheet: Sheet, table: FocalTable, *, imperial: bool, legend_outside: bool, title: str | None = None):
+def _draw_chart(axes, sheet: Sheet, table: FocalTable, *, imperial: bool, title: str | None = None):
     """Near (lower) and far (upper) limit curves against focus distance, both log scales."""
     from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
 
@@ -148,7 +160,9 @@ def _draw_chart(axes, sheet: Sheet, table: FocalTable, *, imperial: bool, legend
     axes.set_xscale("log")
     axes.set_yscale("log")
     axes.plot(focus, focus, color=INK, linewidth=0.8, linestyle=":", label="focus distance")
-    for column, (f_number, colour) in enumerate(zip(table.f_numbers, _palette(len(table.f_numbers)))):
+    charted = _charted_columns(table)
+    for column, colour in zip(charted, _palette(len(charted))):
+        f_number = table.f_numbers[column]
         past = table.past_diffraction_limit[column]
         style = "--" if past else "-"
         far = np.where(np.isfinite(table.curve_far_mm[:, column]), table.curve_far_mm[:, column], y_high * 10)
@@ -178,13 +192,20 @@ def _draw_chart(axes, sheet: Sheet, table: FocalTable, *, imperial: bool, legend
               transform=axes.transAxes, fontsize=6.5, color=INK, va="top")
     if title:
         axes.set_title(title, fontsize=11, fontweight="bold", color=INK, loc="left")
-    if legend_outside:
-        axes.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7.5, frameon=False,
-                    title="f-number", title_fontsize=7.5, handlelength=2.2)
-    else:
-        # Below the near-limit curves the chart is empty: room for a compact legend.
-        axes.legend(loc="lower right", fontsize=6.5, ncol=2, framealpha=0.9, edgecolor=GRID_INK,
-                    handlelength=2.0, columnspacing=1.0)
+    # Below the near-limit curves the chart is empty: room for a compact legend.
+    legend_title = None if len(charted) == len(table.f_numbers) else "full stops shown"
+    axes.legend(loc="lower right", fontsize=6.5, ncol=2, framealpha=0.92, edgecolor=GRID_INK,
+                handlelength=2.0, columnspacing=1.0, title=legend_title, title_fontsize=6.5)
+
+
+def _charted_columns(table: FocalTable) -> list[int]:
+    """The columns that get a curve pair: all, or wide open and the full stops when many."""
+    if len(table.f_numbers) <= MAX_CURVE_PAIRS:
+        return list(range(len(table.f_numbers)))
+    from sharpzone.optics.stops import marked_f_numbers
+
+    full = set(marked_f_numbers("full", 0.5, 128.0))
+    return [0] + [column for column, n in enumerate(table.f_numbers) if column and n in full]
 
 
 def _round_ticks(low_mm: float, high_mm: float, *, imperial: bool) -> list[float]:
@@ -199,15 +220,16 @@ def _round_ticks(low_mm: float, high_mm: float, *, imperial: bool) -> list[float
 
 
 def _draw_facts(figure, sheet: Sheet, *, imperial: bool, x: float, top: float):
-    """The facts block beside the chart: label in bold, text wrapped under it."""
+    """The facts block beside the chart: bold labels in one column, wrapped text beside."""
     import textwrap
 
+    line_height = 0.0152
     y = top
     for label, value in sheet_facts(sheet, imperial=imperial):
-        figure.text(x, y, label, fontsize=7.5, fontweight="bold", color=INK, va="top")
-        lines = textwrap.wrap(value, 46)
-        figure.text(x, y - 0.021, "\n".join(lines), fontsize=7.5, color=INK, va="top", linespacing=1.25)
-        y -= 0.021 + 0.0195 * len(lines) + 0.01
+        lines = textwrap.wrap(value, 42)
+        figure.text(x, y, label, fontsize=7, fontweight="bold", color=INK, va="top")
+        figure.text(x + 0.102, y, "\n".join(lines), fontsize=7, color=INK, va="top", linespacing=1.3)
+        y -= line_height * len(lines) + 0.007
 
 
 def _table_font_size(columns: int) -> float:

@@ -16,6 +16,8 @@ from dataclasses import dataclass
 from typing import Any
 
 from sharpzone.analysis.sheets import FocalTable, Sheet
+from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
+from sharpzone.optics.stops import stop_difference
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance, metres_or_inf
 
 # The machine interface of ``sharpzone sheet --out FILE.csv`` (documented in README.md).
@@ -88,8 +90,8 @@ class TableText:
 
 
 def _reference_phrase(reference: str) -> str:
-    return ("measured from the sensor plane (the focal-plane mark)" if reference == "sensor"
-            else "measured from the lens (front principal plane)")
+    return ("from the sensor plane (the focal-plane mark)" if reference == "sensor"
+            else "from the lens (front principal plane)")
 
 
 def sheet_title(sheet: Sheet) -> str:
@@ -115,14 +117,43 @@ def sheet_facts(sheet: Sheet, *, imperial: bool = False) -> list[tuple[str, str]
         ("Circle of confusion", f"{format_length_mm(sheet.coc.coc_mm)} ({sheet.coc.describe()})"),
         ("Distances", _reference_phrase(sheet.reference)),
         ("f-numbers", f"{sheet.stops} stops from wide open (marked values)"),
-        ("Diffraction", f"limited at f/{sheet.diffraction_limited_f_number:.1f} for this CoC (Airy disk at "
-                        f"550 nm as wide as the CoC); columns marked {DIFFRACTION_MARK} are past it"),
-    ]
+        ("Diffraction", f"past f/{sheet.diffraction_limited_f_number:.1f} the Airy disk (550 nm) outgrows the CoC; "
+                        f"columns marked {DIFFRACTION_MARK} are past it"),
+    ] + _nearest_row_fact(sheet, imperial=imperial) + _closeup_fact(sheet, imperial=imperial)
+
+
+def _closeup_fact(sheet: Sheet, *, imperial: bool) -> list[tuple[str, str]]:
+    """Where the nearest rows are close-up work, the light loss and earlier diffraction."""
+    closest = max(sheet.tables, key=lambda table: float(table.magnification[0]))
+    magnification = float(closest.magnification[0])
+    if magnification < CLOSEUP_MAGNIFICATION:
+        return []
+    factor = 1 + magnification / sheet.lens.pupil_magnification
+    return [("Close-up", f"{magnification:.2f}× at {format_round_distance(float(closest.focus_mm[0]), imperial=imperial)} "
+             f"({closest.focal_mm:g} mm): the lens works at {factor:.2f} × the marked f-number "
+             f"({stop_difference(1.0, factor):.1f} stops darker), so diffraction starts past marked "
+             f"f/{sheet.diffraction_limited_f_number / factor:.1f}")]
+
+
+def _nearest_row_fact(sheet: Sheet, *, imperial: bool) -> list[tuple[str, str]]:
+    raised = [table for table in sheet.tables if table.close_focus_raised]
+    if not raised or sheet.lens.close_focus_mm is None:
+        return []
+    focal = ", ".join(f"{table.focal_mm:g} mm" for table in raised)
+    return [("Nearest row", f"at {focal} the thin-lens model reaches no nearer than 4 × the focal length "
+             f"from the sensor, so the rows start there, not at the catalogued "
+             f"{format_round_distance(sheet.lens.close_focus_mm, imperial=imperial)}")]
 
 
 def zone_text(near_mm: float, far_mm: float, *, imperial: bool = False) -> str:
-    """A cell: 'near – far' with units, ∞ for infinity."""
-    return f"{format_distance(near_mm, imperial=imperial)} – {format_distance(far_mm, imperial=imperial)}"
+    """A cell: 'near – far' with units, ∞ for infinity; shallow zones (close-up work) get
+    the extra figures that keep near and far apart."""
+    digits = 3
+    if math.isfinite(far_mm) and far_mm > near_mm:
+        # Resolve about a fifth of the depth: 39.99 cm – 40.01 cm rather than 40.0 – 40.0.
+        digits = min(6, max(3, math.ceil(math.log10(5 * far_mm / (far_mm - near_mm)))))
+    return (f"{format_distance(near_mm, imperial=imperial, digits=digits)} – "
+            f"{format_distance(far_mm, imperial=imperial, digits=digits)}")
 
 
 def f_number_head(table: FocalTable, column: int) -> str:
@@ -137,7 +168,7 @@ def table_text(sheet: Sheet, table: FocalTable, *, imperial: bool = False) -> Ta
     for row, focus in enumerate(table.focus_mm):
         label = format_round_distance(float(focus), imperial=imperial)
         if row == 0 and math.isclose(float(focus), table.close_focus_mm):
-            label += " (closest)"
+            label += " (model's closest)" if table.close_focus_raised else " (closest)"
         cells = [zone_text(float(table.near_mm[row, c]), float(table.far_mm[row, c]), imperial=imperial)
                  for c in columns]
         rows.append((label, cells))
@@ -151,6 +182,17 @@ def table_text(sheet: Sheet, table: FocalTable, *, imperial: bool = False) -> Ta
         rows=rows,
         ladder_rows=len(table.focus_mm),
         marked_columns=list(table.past_diffraction_limit),
+    )
+
+
+def column_slice(text: TableText, start: int, stop: int) -> TableText:
+    """The focus column and f-number columns ``start`` to ``stop`` (0-based) of ``text``."""
+    return TableText(
+        title=text.title,
+        heads=[text.heads[0], *text.heads[1 + start:1 + stop]],
+        rows=[(label, cells[start:stop]) for label, cells in text.rows],
+        ladder_rows=text.ladder_rows,
+        marked_columns=text.marked_columns[start:stop],
     )
 
 
