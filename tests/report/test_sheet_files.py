@@ -211,3 +211,16 @@ def test_wide_tables_still_make_one_pdf_page_per_focal_length(tmp_path):
     assert len(reader.pages) == 1
     text = reader.pages[0].extract_text()
     assert "f/2.8" in text and "f/32" in text
+
+
+def test_html_type_shrinks_or_stacks_cells_to_fit_the_page(tmp_path):
+    from sharpzone.report.sheet_text import html_table_layout, table_text
+
+    metric = build_sheet(PRIME, choose_coc())
+    size, stacked = html_table_layout(table_text(metric, metric.tables[0]))
+    assert not stacked and 7.0 <= size <= 10.0
+    imperial = build_sheet(PRIME, choose_coc(), imperial=True)
+    size, stacked = html_table_layout(table_text(imperial, imperial.tables[0], imperial=True))
+    assert stacked and size >= 7.0
+    page = write_sheet(imperial, tmp_path / "prime.html", imperial=True).read_text(encoding="utf-8")
+    assert '<table class="stacked" style="font-size: ' in page and "table.stacked td span { display: block; }" in page

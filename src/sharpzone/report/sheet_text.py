@@ -243,11 +243,12 @@ dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 0.3mm 4mm
 dl.facts dt { font-weight: 600; color: #444; }
 dl.facts dd { margin: 0; }
 table { border-collapse: collapse; width: 100%; page-break-inside: avoid; break-inside: avoid; }
-th, td { padding: 1.1mm 1.6mm; text-align: right; border-bottom: 0.3mm solid #d0d0d0; }
+th, td { padding: 0.9mm 0.5em; text-align: right; border-bottom: 0.3mm solid #d0d0d0; }
 thead th { border-bottom: 0.5mm solid #1b1b1b; font-size: 1.05em; }
 tbody th { text-align: left; white-space: nowrap; font-weight: 600; }
 tbody tr:nth-child(even) td, tbody tr:nth-child(even) th { background: #f2f2f2; }
 td span { white-space: nowrap; }
+table.stacked td span { display: block; }
 .past { color: #6b6b6b; font-style: italic; }
 tr.hyperfocal th, tr.hyperfocal td { border-top: 0.5mm solid #1b1b1b; background: #e6e6e6; }
 p.caption, p.caveat { font-size: 7.5pt; margin: 1.5mm 0 0 0; color: #333; }
@@ -256,16 +257,48 @@ p.caveat { font-style: italic; }
 """
 
 
-def _html_font_size_pt(columns: int) -> float:
-    """Smaller type for wide tables, so half- and third-stop sheets still fit the page."""
-    return 10.0 if columns <= 8 else 8.5 if columns <= 11 else 7.0 if columns <= 15 else 5.8
+# The printable area of a landscape page on the narrower of A4 and Letter, in points
+# (1 mm = 72 / 25.4 pt): 279 mm less margins across, 210 mm less margins, title and facts down.
+_PRINT_WIDTH_PT = (279 - 24 - 5) * 72 / 25.4
+_TABLE_HEIGHT_PT = (210 - 22 - 55) * 72 / 25.4
+# Average advance of a character, cell padding and line height in ems for the faces above;
+# the vertical padding of a row in points.
+_CHAR_EM = 0.56
+_CELL_PADDING_EM = 1.0
+_LINE_EM = 1.2
+_ROW_PADDING_PT = 5.0
+# Below this size a table is set with near and far on two lines in each cell instead.
+_SMALLEST_ONE_LINE_PT = 7.0
+
+
+def _fitting_size_pt(widths: list[int], rows: int, lines: int) -> float:
+    across = _PRINT_WIDTH_PT / sum(width * _CHAR_EM + _CELL_PADDING_EM for width in widths)
+    down = (_TABLE_HEIGHT_PT / rows - _ROW_PADDING_PT) / (lines * _LINE_EM)
+    return min(10.0, across, down)
+
+
+def html_table_layout(text: TableText) -> tuple[float, bool]:
+    """Type size (pt) and whether cells stack near over far, so that the table fits one
+    printed page: one line per cell while that allows at least 7 pt, else two lines."""
+    label_width = max(len(label) for label, _cells in text.rows + [(text.heads[0], [])])
+    columns = range(len(text.heads) - 1)
+    rows = len(text.rows) + 1
+    one_line = _fitting_size_pt([label_width] + [max(len(cells[c]) for _l, cells in text.rows) for c in columns],
+                                rows, 1)
+    if one_line >= _SMALLEST_ONE_LINE_PT:
+        return round(one_line, 1), False
+    halves = [max(len(part) + 2 for _l, cells in text.rows for part in cells[c].split(" – ")) for c in columns]
+    two_lines = _fitting_size_pt([label_width] + halves, rows, 2)
+    if two_lines > one_line:
+        return round(max(two_lines, 5.0), 1), True
+    return round(max(one_line, 5.0), 1), False
 
 
 def _cell_html(cell: str) -> str:
     near, sep, far = cell.partition(" – ")
     if not sep:
         return f"<span>{html.escape(cell)}</span>"
-    return f"<span>{html.escape(near)}</span> – <span>{html.escape(far)}</span>"
+    return f"<span>{html.escape(near)} –</span> <span>{html.escape(far)}</span>"
 
 
 def _past_class(past: bool) -> str:
@@ -282,7 +315,8 @@ def render_html(sheet: Sheet, *, imperial: bool = False) -> str:
     ]
     for table in sheet.tables:
         text = table_text(sheet, table, imperial=imperial)
-        size = _html_font_size_pt(len(text.heads))
+        size, stacked = html_table_layout(text)
+        table_class = ' class="stacked"' if stacked else ""
         marked = [False, *text.marked_columns]
         heads = "".join(f'<th scope="col"{_past_class(past)}>{esc(head)}</th>' for head, past in zip(text.heads, marked))
         body_rows = []
@@ -294,7 +328,7 @@ def render_html(sheet: Sheet, *, imperial: bool = False) -> str:
             '<section class="focal">',
             f"<header><h1>{esc(sheet_title(sheet))}</h1><h2>{esc(text.title)}</h2></header>",
             f'<dl class="facts">{facts}</dl>',
-            f'<table style="font-size: {size}pt"><thead><tr>{heads}</tr></thead>',
+            f'<table{table_class} style="font-size: {size}pt"><thead><tr>{heads}</tr></thead>',
             f"<tbody>{''.join(body_rows)}</tbody></table>",
             f'<p class="caption">{esc(table_caption(sheet))}</p>',
             f'<p class="caveat">{esc(sheet.caveat)}</p>',
