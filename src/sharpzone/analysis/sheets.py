@@ -212,14 +212,16 @@ def focus_ladder_mm(nearest_mm: float, farthest_mm: float, *, imperial: bool = F
     ``farthest_mm``, then infinity: 1, 1.5, 2, 3, 5, 7 per decade of metres or feet, or
     1, 2, 5 when that would give more than ``MAX_LADDER_ROWS`` rows."""
     for steps in (_FINE_STEPS, _COARSE_STEPS):
-        rounds = _round_distances_mm(steps, imperial=imperial)
+        rounds = round_distances_mm(steps, imperial=imperial)
         between = [d for d in rounds if nearest_mm * LADDER_GAP <= d <= farthest_mm]
         if len(between) + 2 <= MAX_LADDER_ROWS:
             break
     return [nearest_mm, *between, math.inf]
 
 
-def _round_distances_mm(steps: tuple[float, ...], *, imperial: bool) -> list[float]:
+def round_distances_mm(steps: tuple[float, ...], *, imperial: bool) -> list[float]:
+    """Round distances (mm), ascending: ``steps`` × each power of ten from 10 cm to 7 km, or
+    from 1 ft (after 2, 3, 4, 6 and 8 in) to 7000 ft."""
     if imperial:
         small = [inches * MM_PER_INCH for inches in _IMPERIAL_INCHES]
         return small + [step * 10**k * MM_PER_FOOT for k in range(0, 4) for step in steps]

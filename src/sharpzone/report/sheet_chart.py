@@ -210,10 +210,10 @@ def _charted_columns(table: FocalTable) -> list[int]:
 
 def _round_ticks(low_mm: float, high_mm: float, *, imperial: bool) -> list[float]:
     """Tick positions (mm) at round distances, thinned to at most about eight."""
-    from sharpzone.analysis.sheets import _round_distances_mm
+    from sharpzone.analysis.sheets import round_distances_mm
 
     for steps in ((1.0, 2.0, 5.0), (1.0, 3.0), (1.0,)):
-        ticks = [d for d in _round_distances_mm(steps, imperial=imperial) if low_mm <= d <= high_mm]
+        ticks = [d for d in round_distances_mm(steps, imperial=imperial) if low_mm <= d <= high_mm]
         if len(ticks) <= 8:
             return ticks
     return ticks
