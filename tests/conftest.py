@@ -63,7 +63,12 @@ def catalog(catalog_url):
 
 @pytest.fixture
 def catalog_session(catalog):
-    """A session in one unit of work on ``catalog``; committed when the test ends."""
+    """A session in one unit of work on ``catalog``; committed when the test ends.
+
+    Once it has written, it holds SQLite's write lock until the test ends: a second session
+    on the same catalogue in that test would wait (30 s) for it. Commit first, or use
+    ``catalog.session_scope()`` for each unit of work instead.
+    """
     with catalog.session_scope() as session:
         yield session
 

@@ -160,3 +160,33 @@ def test_a_file_that_is_not_a_database_is_refused(tmp_path):
     path.write_text("shopping list: film, batteries\n" * 100)
     with pytest.raises(CatalogError, match="not a sharpzone catalogue or is damaged"):
         migrate.prepare_catalog(sqlite_url(path))
+
+
+# SQLite cannot reflect the expression index on body (checked by its own test above).
+@pytest.mark.filterwarnings("ignore:.*expression-based index:UserWarning")
+@pytest.mark.filterwarnings("ignore:.*expression-based index:sqlalchemy.exc.SAWarning")
+def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, monkeypatch):
+    import shutil
+
+    copy = tmp_path / "migrations"
+    shutil.copytree(migrate.migrations_folder(), copy, ignore=shutil.ignore_patterns("__pycache__"))
+    monkeypatch.setattr(migrate, "migrations_folder", lambda: copy)
+    path = migrate.new_revision("nothing changed")
+    assert path.parent == copy / "versions" and path.name.startswith("0003_")
+    draft = path.read_text(encoding="utf-8")
+    assert "revision = '0003'" in draft and "down_revision = '0002'" in draft
+    assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
+
+
+def test_two_programs_creating_one_catalogue_take_turns(tmp_path):
+    from concurrent.futures import ThreadPoolExecutor
+
+    url = sqlite_url(tmp_path / "shared.sqlite")
+    with ThreadPoolExecutor(max_workers=3) as pool:
+        results = list(pool.map(lambda _: migrate.prepare_catalog(url), range(3)))
+    assert sorted(result.created for result in results) == [False, False, True]
+    engine = create_engine(url)
+    with engine.connect() as connection:
+        count = connection.execute(text("SELECT count(*) FROM sensor_format")).scalar()
+    engine.dispose()
+    assert count == len(shipped_formats())

@@ -30,13 +30,15 @@ if TYPE_CHECKING:
 SQLITE_BUSY_TIMEOUT_MS = 30_000
 
 
-def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True) -> Engine:
+def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True, lock_on_begin: bool = False) -> Engine:
     """A SQLAlchemy engine for ``url`` with our connection settings.
 
     SQLite: WAL journal (readers do not block the writer), foreign keys on, a 30 s busy
     timeout, and real ``BEGIN`` statements so DDL and savepoints are transactional.
     Migrations pass ``enforce_foreign_keys=False``: SQLite batch mode rebuilds tables, and
     dropping the old copy with foreign keys on would fire ``ON DELETE CASCADE``.
+    ``lock_on_begin`` takes SQLite's write lock when a transaction begins, so two programs
+    creating or upgrading one catalogue at once take turns instead of failing.
     """
     from sqlalchemy import create_engine, event
     from sqlalchemy.exc import ArgumentError, NoSuchModuleError
@@ -76,7 +78,7 @@ def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True) -> Eng
 
         @event.listens_for(engine, "begin")
         def _begin(connection) -> None:
-            connection.exec_driver_sql("BEGIN")
+            connection.exec_driver_sql("BEGIN IMMEDIATE" if lock_on_begin else "BEGIN")
 
     return engine
 

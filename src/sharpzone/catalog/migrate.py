@@ -111,11 +111,21 @@ def prepare_catalog(url: str) -> PreparedCatalog:
 
     from sharpzone.catalog.engine import create_catalog_engine, translate_database_error
 
-    engine = create_catalog_engine(url, enforce_foreign_keys=False)
+    head = head_revision()
+    engine = create_catalog_engine(url)
+    try:
+        with engine.connect() as connection:  # the usual case: already current, read only
+            if current_revision(connection) == head:
+                return PreparedCatalog(revision=head)
+    except DBAPIError as error:
+        raise translate_database_error(error, url) from error
+    finally:
+        engine.dispose()
+
+    engine = create_catalog_engine(url, enforce_foreign_keys=False, lock_on_begin=True)
     try:
         with engine.begin() as connection:
-            found = current_revision(connection)
-            head = head_revision()
+            found = current_revision(connection)  # again, now that we hold the write lock
             if found == head:
                 return PreparedCatalog(revision=head)
             if found is None:

@@ -243,5 +243,7 @@ class IngestProblem(Base):
     reason: Mapped[str] = mapped_column(Text)
     seen_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utc_now)
 
+    shoot: Mapped[Optional[Shoot]] = relationship()
+
 
 TABLES_IN_DEPENDENCY_ORDER = (SensorFormatRow, Body, Lens, LensAlias, Shoot, Frame, IngestProblem)

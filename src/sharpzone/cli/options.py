@@ -47,3 +47,27 @@ def choice_option(value: str, option: str, choices: tuple[str, ...]) -> str:
         expected = ", ".join(repr(c) for c in choices)
         raise InvalidValue(f"{option}: {value!r} is not valid: expected one of {expected}")
     return lowered
+
+
+def date_option(value: str | None, option: str):
+    """A calendar date option written YYYY-MM-DD; ``None`` passes through."""
+    import datetime as dt
+
+    if value is None:
+        return None
+    try:
+        return dt.date.fromisoformat(value.strip())
+    except ValueError:
+        raise InvalidValue(f"{option}: {value!r} is not a date: expected YYYY-MM-DD") from None
+
+
+def optional_distance(value: str | None, option: str) -> float | None:
+    return None if value is None else distance_option(value, option)
+
+
+def optional_length(value: str | None, option: str) -> float | None:
+    return None if value is None else length_option(value, option)
+
+
+def optional_f_number(value: str | None, option: str) -> float | None:
+    return None if value is None else f_number_option(value, option)

@@ -156,16 +156,36 @@ class StackPlan:
 
 
 def _focus_for_near_limit(f, n, c, p, target_near, reference: Reference):
-    """Focus distances whose near limit lands on ``target_near`` (inf where even ∞ is not enough)."""
-    def near_at(distance):
-        return np.asarray(sharp_zone(f, n, c, distance, reference=reference, pupil_magnification=p).near_mm)
+    """Focus distances whose near limit lands on ``target_near`` (inf where even ∞ is not enough).
 
-    lowest = 4 * f * (1 + 1e-12) if reference == "sensor" else f * (1 + 1e-12)
-    far_away = np.full_like(np.asarray(target_near, dtype=np.float64), 1e15)
-    reachable = near_at(far_away) >= target_near
-    focus = _bisect_increasing(near_at, target_near, np.maximum(lowest, target_near * 0 + lowest),
-                               np.maximum(far_away, target_near))
-    return np.where(reachable, focus, np.inf)
+    Lens-referenced this inverts m′_near = P (f m + N c)/(P f − N c) in closed form. From the
+    sensor the lens moves by v = f (1 + m) as it focuses, so the target is re-expressed from
+    the lens and the inversion repeated until v settles (a contraction: v changes far less
+    than the distances it shifts).
+    """
+    target = np.asarray(target_near, dtype=np.float64)
+    nc = n * c
+
+    def focus_from_lens_target(lens_target):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            m_target = np.where(lens_target > f, f / (lens_target - f), np.inf)
+            m = (m_target * (p * f - nc) / p - nc) / f
+            return np.where(m > 0, f + f / m, np.inf), m
+
+    if reference == "lens":
+        focus, _ = focus_from_lens_target(target)
+        return focus
+    v = f * np.ones_like(target)
+    for _ in range(60):
+        focus_lens, m = focus_from_lens_target(target - v)
+        v_next = np.where(np.isfinite(focus_lens), f * (1 + np.maximum(m, 0.0)), f)
+        if np.allclose(v_next, v, rtol=1e-13, atol=0):
+            v = v_next
+            break
+        v = v_next
+    focus_lens, _ = focus_from_lens_target(target - v)
+    with np.errstate(invalid="ignore"):
+        return np.where(np.isfinite(focus_lens), focus_lens + image_distance_mm(focus_lens, f), np.inf)
 
 
 def stack_frame_counts(
@@ -206,24 +226,29 @@ def _walk_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, refer
         raise InvalidValue(f"stack overlap {overlap!r} is not valid: expected a fraction from 0 to below 1")
     f, n, c, p = validate_lens_inputs(focal_mm, f_number, coc_mm, pupil)
     a, b = _check_range(near_target_mm, far_target_mm, f, reference)
-    f, n, c, p, a, b = np.broadcast_arrays(f, n, c, p, a, b)
+    f, n, c, p, a, b = (np.array(x, dtype=np.float64) for x in np.broadcast_arrays(f, n, c, p, a, b))
+    shape = f.shape
+    f, n, c, p, a, b = (x.reshape(-1) for x in (f, n, c, p, a, b))
     counts = np.zeros(f.shape, dtype=np.int64)
-    active = np.ones(f.shape, dtype=bool)
-    target = a.astype(np.float64).copy()
+    # Only rows still short of their far end are worked on in each round.
+    active = np.arange(f.size)
+    target = a.copy()
     frames = []
-    while active.any():
-        focus = _focus_for_near_limit(f, n, c, p, target, reference)
+    while active.size:
+        fa, na, ca, pa = f[active], n[active], c[active], p[active]
+        focus = _focus_for_near_limit(fa, na, ca, pa, target, reference)
         at_infinity = np.isinf(focus)
-        focus = np.where(at_infinity, np.inf, focus)
-        zone = sharp_zone(f, n, c, focus, reference=reference, pupil_magnification=p)
-        near, far = np.asarray(zone.near_mm), np.asarray(zone.far_mm)
-        counts = np.where(active, counts + 1, counts)
+        zone = sharp_zone(fa, na, ca, focus, reference=reference, pupil_magnification=pa)
+        near, far = np.atleast_1d(zone.near_mm), np.atleast_1d(zone.far_mm)
+        counts[active] += 1
         if keep_frames:
             frames.append((focus, near, far))
-        done = (far >= b) | at_infinity
-        too_many = counts >= MAX_STACK_FRAMES
-        counts = np.where(active & too_many & ~done, -1, counts)
-        active = active & ~done & ~too_many
+        done = (far >= b[active] * (1 - 1e-12)) | at_infinity
+        too_many = counts[active] >= MAX_STACK_FRAMES
+        counts[active[too_many & ~done]] = -1
+        keep = ~done & ~too_many
         with np.errstate(invalid="ignore"):
-            target = np.where(active, far - overlap * (far - near), target)
+            target = (far - overlap * (far - near))[keep]
+        active = active[keep]
+    counts = counts.reshape(shape)
     return counts, frames

@@ -94,3 +94,21 @@ def next_wider(stop: Stop, scale: str = "third") -> Stop | None:
     series = stop_series(scale, 0.5, 128.0)
     wider = [s for s in series if s.exact < stop.exact * (1 - 1e-9)]
     return wider[-1] if wider else None
+
+
+def round_up_to_stops(needed_f_numbers, scale: str = "third"):
+    """Vectorised ``round_up_to_stop``: (labels, values) arrays; NaN where past f/128 or unknown.
+
+    ``values`` are the conservative numbers to compute with (see ``Stop.value``).
+    """
+    import numpy as np
+
+    stops = _all_stops(check_scale(scale))
+    values = np.array([stop.value for stop in stops])
+    labels = np.array([stop.label for stop in stops])
+    needed = np.asarray(needed_f_numbers, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        index = np.searchsorted(values, np.where(np.isnan(needed), np.inf, needed) * (1 - 1e-12), side="left")
+    inside = index < len(values)
+    safe = np.minimum(index, len(values) - 1)
+    return np.where(inside, labels[safe], np.nan), np.where(inside, values[safe], np.nan)

@@ -12,7 +12,9 @@ from sharpzone.catalog.service.bodies import (
     list_bodies,
     remove_body,
 )
+from sharpzone.catalog.service.bundle import export_catalog, import_catalog
 from sharpzone.catalog.service.formats import add_format, edit_format, find_format, get_format, list_formats, remove_format
+from sharpzone.catalog.service.info import CatalogInfo, catalog_info
 from sharpzone.catalog.service.lenses import (
     add_lens,
     add_lens_alias,
@@ -41,4 +43,5 @@ __all__ = [
     "list_lenses", "remove_lens", "remove_lens_alias",
     "add_shoot", "edit_shoot", "get_shoot", "list_shoots", "remove_shoot", "shoot_frame_count",
     "validate_coc_policy",
+    "CatalogInfo", "catalog_info", "export_catalog", "import_catalog",
 ]

@@ -335,7 +335,7 @@ def _same(stored, incoming) -> bool:
 
 
 def _names_by_id(session: Session, model) -> dict[int, str]:
-    return dict(session.execute(select(model.id, model.name)).tuples().all())
+    return {row_id: name for row_id, name in session.execute(select(model.id, model.name))}
 
 
 def _check_header(header: dict, path: Path) -> None:

@@ -9,7 +9,6 @@ distance are optional. The command line parses distances with ``sharpzone.units`
 from __future__ import annotations
 
 import math
-import re
 from pathlib import Path
 
 from sqlalchemy import select
@@ -155,26 +154,11 @@ def remove_shoot(session: Session, name: str, *, with_frames: bool = False) -> i
 
 
 def validate_coc_policy(text: str) -> str:
-    """The policy text if the optics core accepts it (``InvalidValue`` otherwise)."""
-    try:
-        from sharpzone.optics.coc import parse_coc_policy
-    except ImportError:
-        parse_coc_policy = _parse_coc_policy_shape
-    parse_coc_policy(text)
-    return text
+    """The canonical text of a circle-of-confusion policy (``InvalidValue`` if the optics
+    core does not understand it), as stored in ``Shoot.coc_policy``."""
+    from sharpzone.optics.coc import parse_coc_policy
 
-
-# Shape check used until the optics core's policy parser is available in this branch.
-_POLICY_SHAPE = re.compile(r"^(diagonal(/\d+(\.\d+)?)?|fixed:\d*\.?\d+\s*mm|print:.+@.+|pixels:\d*\.?\d+)$")
-
-
-def _parse_coc_policy_shape(text: str) -> str:
-    if not _POLICY_SHAPE.match(text.strip()):
-        raise InvalidValue(
-            f"circle-of-confusion policy {text!r} is not understood: expected diagonal, diagonal/K, "
-            "fixed:0.03mm, print:10x8in@50cm or pixels:K"
-        )
-    return text
+    return parse_coc_policy(text).spec
 
 
 def _set_plan(shoot, near, far, front, back, *, range_given=None, depth_given=None) -> None:

@@ -1,0 +1,77 @@
+"""Per-lens and per-body statistics of a set of frames: what f-numbers were used, how often
+frames were flagged, and typical focus distances."""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
+from sharpzone.optics.stops import round_up_to_stops
+
+if TYPE_CHECKING:
+    from sqlalchemy.orm import Session
+
+    from sharpzone.analysis.checks import Requirement
+
+
+@dataclass(frozen=True)
+class GroupStats:
+    """Statistics of one lens or body. Distances in mm; ``share_flagged`` is ``None`` when
+    nothing said what had to be sharp."""
+
+    kind: str
+    name: str
+    frames: int
+    f_number_counts: tuple[tuple[float, int], ...]
+    share_flagged: float | None
+    median_focus_mm: float | None
+    focus_quartiles_mm: tuple[float, float] | None
+    unknown_focus: int
+
+
+@dataclass(frozen=True)
+class StatsResult:
+    lenses: tuple[GroupStats, ...]
+    bodies: tuple[GroupStats, ...]
+    judged: bool
+
+
+def _group_stats(kind: str, name: str, rows) -> GroupStats:
+    f_numbers = rows["f_number"].to_numpy(dtype=float)
+    known = f_numbers[~np.isnan(f_numbers)]
+    # Each recorded f-number counts at the nearest marked third stop at or above it, so
+    # 5.6 and 5.657 (the exact value) land in one bar.
+    labels, _ = round_up_to_stops(known * (1 - 0.02))
+    counts = Counter(float(label) for label in labels if not np.isnan(label))
+    focus = rows["focus_mm"].to_numpy(dtype=float)
+    finite = focus[np.isfinite(focus)]
+    judged = rows["flags"].map(lambda flags: not ({"no-requirement", "distance-unknown", "settings-unknown"} & set(flags)))
+    judged_rows = rows[judged.to_numpy(dtype=bool)]
+    share = None
+    if len(judged_rows):
+        share = float((judged_rows["flags"].map(len) > 0).mean())
+    return GroupStats(
+        kind=kind, name=name, frames=len(rows), f_number_counts=tuple(sorted(counts.items())),
+        share_flagged=share,
+        median_focus_mm=float(np.median(finite)) if len(finite) else None,
+        focus_quartiles_mm=(float(np.percentile(finite, 25)), float(np.percentile(finite, 75))) if len(finite) else None,
+        unknown_focus=int(np.isnan(focus).sum()),
+    )
+
+
+def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_policy: str | None = None,
+                requirement: Requirement | None = None) -> StatsResult:
+    """``sharpzone stats``: per lens and per body, frames, f-numbers used, share flagged
+    (against ``requirement`` or each shoot's plan) and typical focus distances."""
+    result: CheckResult = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
+    frames = result.frames
+    groups = {}
+    for kind, column in (("lens", "lens"), ("body", "body")):
+        named = frames.assign(_name=frames[column].fillna(f"(unknown {kind})"))
+        groups[kind] = tuple(_group_stats(kind, name, rows) for name, rows in named.groupby("_name", sort=True))
+    judged = bool(len(frames)) and not frames["flags"].map(lambda flags: "no-requirement" in flags).all()
+    return StatsResult(groups["lens"], groups["body"], judged)

@@ -1,0 +1,148 @@
+"""Export and import: the round trip loses nothing, in both bundle forms."""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import math
+import zipfile
+
+import pytest
+
+from sharpzone.catalog.engine import open_catalog
+from sharpzone.catalog.location import sqlite_url
+from sharpzone.catalog.models import TABLES_IN_DEPENDENCY_ORDER, IngestProblem
+from sharpzone.catalog.service import export_catalog, import_catalog
+from sharpzone.catalog.service.bundle import bundle_fields, bundle_tables
+from sharpzone.errors import Conflict, InvalidValue
+
+
+@pytest.fixture
+def filled_catalog(catalog, make_format, make_body, make_lens, make_shoot, make_frame, catalog_session):
+    """Every table with rows, every nullable column set somewhere and left empty elsewhere."""
+    fmt = make_format(name="test-44x33", width_mm=44, height_mm=33, coc_divisor=1730, aliases="mf;medium",
+                      description="a “medium” frame, with commas", source="invented")
+    body = make_body(name="Korvath MF", serial="A-1", sensor_format=fmt, pixel_width=11648, pixel_height=8736,
+                     confirmed=False)
+    lens = make_lens(name="Altamira 45-90", focal_min_mm=45, focal_max_mm=90, max_aperture_wide=3.5,
+                     max_aperture_tele=4.5, min_aperture=32, close_focus_mm=0.1 + 0.2, pupil_magnification=0.75,
+                     exif_names=["ALT 45-90", "ALT45-90 ⌀"])
+    shoot = make_shoot(name="Quay", root_folder="/photos/quay", created_at=dt.datetime(2026, 11, 30, 9, 15, 1, 5),
+                       plan_kind="range", plan_near_mm=4000, plan_far_mm=math.inf, planned_focal_mm=60,
+                       planned_f_number=11, planned_focus_mm=6000, coc_policy="diagonal/1500", notes="line 1\nline 2")
+    make_shoot(name="Empty plan")
+    make_frame(shoot=shoot, body=body, lens=lens, path="/photos/quay/a,b.jpg", focus_mm=math.inf,
+               captured_at=dt.datetime(2026, 11, 30, 9, 20, 5), utc_offset_minutes=-150, focal_35mm_mm=48,
+               width_px=11648, height_px=8736, exif_make="Korvath", exif_model="MF", exif_lens_model="ALT 45-90",
+               warnings="no subject distance;guessed body", file_size=2**40, iso=64000)
+    make_frame(shoot=None, body=None, lens=None, path="/photos/loose.jpg", focal_mm=None, f_number=None,
+               exposure_s=None, iso=None, focus_mm=None, focus_source="none")
+    catalog_session.add(IngestProblem(shoot=None, path="/photos/broken.jpg", reason="truncated JPEG",
+                                      seen_at=dt.datetime(2026, 11, 30, 10, 0, 0)))
+    catalog_session.commit()
+    return catalog
+
+
+@pytest.mark.parametrize("suffix", [".json", ".zip"])
+def test_round_trip_loses_nothing(filled_catalog, tmp_path, suffix):
+    bundle = tmp_path / f"bundle{suffix}"
+    with filled_catalog.session_scope() as session:
+        before = bundle_tables(session)
+        written = export_catalog(session, bundle)
+    assert written["frame"] == 2 and written["lens_alias"] == 2 and written["ingest_problem"] == 1
+
+    with open_catalog(sqlite_url(tmp_path / "copy.sqlite")) as copy:
+        with copy.session_scope() as session:
+            result = import_catalog(session, bundle)
+        with copy.session_scope() as session:
+            after = bundle_tables(session)
+    assert after == before
+    assert result.added["frame"] == 2 and result.unchanged["sensor_format"] == len(before["sensor_format"]) - 1
+    far_frame = next(row for row in after["frame"] if row["path"] == "/photos/quay/a,b.jpg")
+    assert far_frame["focus_mm"] == "inf" and far_frame["lens"] == "Altamira 45-90" and far_frame["shoot"] == "Quay"
+
+
+def test_importing_twice_changes_nothing(filled_catalog, tmp_path):
+    bundle = tmp_path / "bundle.json"
+    with filled_catalog.session_scope() as session:
+        export_catalog(session, bundle)
+        result = import_catalog(session, bundle)
+    assert sum(result.added.values()) == 0 and sum(result.replaced.values()) == 0
+
+
+def test_json_bundle_is_documented_shape(filled_catalog, tmp_path):
+    bundle = tmp_path / "bundle.json"
+    with filled_catalog.session_scope() as session:
+        export_catalog(session, bundle)
+    document = json.loads(bundle.read_text(encoding="utf-8"))
+    assert (document["format"], document["format_version"], document["schema_revision"]) == (
+        "sharpzone-catalogue-bundle", 1, "0002")
+    assert list(document["tables"]) == [model.__tablename__ for model in TABLES_IN_DEPENDENCY_ORDER]
+    body = next(row for row in document["tables"]["body"] if row["name"] == "Korvath MF")
+    assert body["format"] == "test-44x33" and "format_id" not in body and "id" not in body
+
+
+def test_csv_bundle_has_a_manifest_and_one_file_per_table(filled_catalog, tmp_path):
+    bundle = tmp_path / "bundle.zip"
+    with filled_catalog.session_scope() as session:
+        export_catalog(session, bundle)
+    with zipfile.ZipFile(bundle) as archive:
+        names = set(archive.namelist())
+        manifest = json.loads(archive.read("manifest.json"))
+        frame_header = archive.read("frame.csv").decode().splitlines()[0].split(",")
+    assert names == {"manifest.json"} | {f"{m.__tablename__}.csv" for m in TABLES_IN_DEPENDENCY_ORDER}
+    assert manifest["format_version"] == 1
+    assert frame_header == [f.name for f in bundle_fields(TABLES_IN_DEPENDENCY_ORDER[5])]
+
+
+def test_every_model_column_travels_in_the_bundle():
+    for model in TABLES_IN_DEPENDENCY_ORDER:
+        columns = {f.column for f in bundle_fields(model)}
+        assert columns == {c.name for c in model.__table__.columns} - {"id"}
+
+
+def test_differing_row_is_a_conflict_unless_replacing(filled_catalog, tmp_path):
+    bundle = tmp_path / "bundle.json"
+    with filled_catalog.session_scope() as session:
+        export_catalog(session, bundle)
+    document = json.loads(bundle.read_text(encoding="utf-8"))
+    next(row for row in document["tables"]["lens"] if row["name"] == "Altamira 45-90")["min_aperture"] = 22
+    bundle.write_text(json.dumps(document), encoding="utf-8")
+    with pytest.raises(Conflict, match=r"lens name='Altamira 45-90' already exists with other values"):
+        with filled_catalog.session_scope() as session:
+            import_catalog(session, bundle)
+    with filled_catalog.session_scope() as session:
+        result = import_catalog(session, bundle, replace=True)
+    assert result.replaced["lens"] == 1
+
+
+@pytest.mark.parametrize(
+    ("edit", "message"),
+    [
+        (lambda d: d.update(format_version=2), "format version 2; this program reads up to 1"),
+        (lambda d: d["tables"].update(recipes=[]), "'recipes' is not a catalogue table"),
+        (lambda d: d["tables"]["frame"][0].update(lens="Nope 50"), "lens 'Nope 50' is not in the bundle"),
+        (lambda d: d["tables"]["frame"][0].update(iso="fast"), "iso 'fast' is not a valid int"),
+        (lambda d: d["tables"]["frame"][0].update(colour="red"), "unknown field 'colour'"),
+    ],
+)
+def test_bad_bundles_are_refused_and_write_nothing(tmp_path, filled_catalog, edit, message):
+    bundle = tmp_path / "bundle.json"
+    with filled_catalog.session_scope() as session:
+        export_catalog(session, bundle)
+    document = json.loads(bundle.read_text(encoding="utf-8"))
+    edit(document)
+    bundle.write_text(json.dumps(document), encoding="utf-8")
+    target = sqlite_url(tmp_path / "target.sqlite")
+    with open_catalog(target) as copy:
+        with pytest.raises(InvalidValue, match=message):
+            with copy.session_scope() as session:
+                import_catalog(session, bundle)
+        with copy.session_scope() as session:
+            assert all(not rows for name, rows in bundle_tables(session).items() if name != "sensor_format")
+
+
+def test_bundle_name_must_say_its_form(catalog_session, tmp_path):
+    with pytest.raises(InvalidValue, match=r"must end in .json \(one JSON file\) or .zip \(CSV files\)"):
+        export_catalog(catalog_session, tmp_path / "bundle.txt")
+    assert not (tmp_path / "bundle.txt").exists()
