@@ -224,3 +224,13 @@ def test_html_type_shrinks_or_stacks_cells_to_fit_the_page(tmp_path):
     assert stacked and size >= 7.0
     page = write_sheet(imperial, tmp_path / "prime.html", imperial=True).read_text(encoding="utf-8")
     assert '<table class="stacked" style="font-size: ' in page and "table.stacked td span { display: block; }" in page
+
+
+def test_facts_say_when_close_focus_is_not_catalogued():
+    from sharpzone.report.sheet_text import sheet_facts
+
+    lens = LensSpec("Korvath 85/1.4", 85, 85, 1.4, 1.4, 16)
+    facts = dict(sheet_facts(build_sheet(lens, choose_coc())))
+    assert facts["Lens"] == ("Korvath 85/1.4: 85 mm, f/1.4 to f/16, close focus not catalogued "
+                             "(the rows start at 10 × the focal length)")
+    assert dict(sheet_facts(build_sheet(ZOOM, choose_coc())))["Lens"].endswith("24–70 mm, f/2.8 to f/22, close focus 38 cm")

@@ -173,7 +173,7 @@ def sheet_focal_lengths(lens: LensSpec, requested: Sequence[float] | None = None
         for focal in requested:
             if not (lens.focal_min_mm * (1 - _SAME_STOP) <= focal <= lens.focal_max_mm * (1 + _SAME_STOP)):
                 raise InvalidValue(f"focal length {focal:g} mm is outside the range of {lens.name!r} "
-                                   f"({_focal_range_text(lens)})")
+                                   f"({focal_range_text(lens)})")
             chosen.append(float(focal))
         return sorted(set(chosen))
     if lens.is_prime:
@@ -191,7 +191,8 @@ def sheet_focal_lengths(lens: LensSpec, requested: Sequence[float] | None = None
     return sorted({low, high, *steps})
 
 
-def _focal_range_text(lens: LensSpec) -> str:
+def focal_range_text(lens: LensSpec) -> str:
+    """'50 mm' for a prime, '24–70 mm' for a zoom."""
     return f"{lens.focal_min_mm:g} mm" if lens.is_prime else f"{lens.focal_min_mm:g}–{lens.focal_max_mm:g} mm"
 
 

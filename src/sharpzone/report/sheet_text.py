@@ -15,7 +15,7 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
-from sharpzone.analysis.sheets import FocalTable, Sheet
+from sharpzone.analysis.sheets import DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS, FocalTable, Sheet, focal_range_text
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.optics.stops import stop_difference
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance, metres_or_inf
@@ -102,17 +102,17 @@ def sheet_facts(sheet: Sheet, *, imperial: bool = False) -> list[tuple[str, str]
     """What the sheet assumes, as (label, text) pairs: lens, format, CoC, reference, stops,
     diffraction limit. Every number carries its unit."""
     lens = sheet.lens
-    focal = (f"{lens.focal_min_mm:g} mm" if lens.is_prime else f"{lens.focal_min_mm:g}–{lens.focal_max_mm:g} mm")
     widest = (format_f_number(lens.max_aperture_wide) if lens.max_aperture_wide == lens.max_aperture_tele
               else f"{format_f_number(lens.max_aperture_wide)}–{lens.max_aperture_tele:g}")
-    if lens.close_focus_mm is not None:
-        close = f"close focus {format_round_distance(lens.close_focus_mm, imperial=imperial)}"
+    if sheet.close_focus_assumed:
+        close = (f"close focus not catalogued (the rows start at {DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS:g} × "
+                 "the focal length)")
     else:
-        close = "close focus not catalogued (the rows start at 10 × the focal length)"
+        close = f"close focus {format_round_distance(lens.close_focus_mm, imperial=imperial)}"
     sensor = sheet.coc.sensor
     fmt = f"{sensor.name} ({sensor.width_mm:g} × {sensor.height_mm:g} mm)" if sensor else "not given (fixed CoC)"
     return [
-        ("Lens", f"{lens.name}: {focal}, {widest} to f/{lens.min_aperture:g}, {close}"),
+        ("Lens", f"{lens.name}: {focal_range_text(lens)}, {widest} to f/{lens.min_aperture:g}, {close}"),
         ("Format", fmt),
         ("Circle of confusion", f"{format_length_mm(sheet.coc.coc_mm)} ({sheet.coc.describe()})"),
         ("Distances", _reference_phrase(sheet.reference)),
