@@ -4,7 +4,6 @@ Pillow), not by the code that wrote it."""
 from __future__ import annotations
 
 import csv
-import io
 import math
 from html.parser import HTMLParser
 

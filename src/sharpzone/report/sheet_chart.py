@@ -259,6 +259,8 @@ def _draw_table(axes, text) -> None:
         data_row = row - 1
         if column == 0:
             cell.set_text_props(fontweight="bold", ha="left")
+            # Table cells take their alignment from one table-wide setting; matplotlib
+            # (3.8 to 3.11) keeps it per cell in ``_loc`` with no public setter.
             cell._loc = "left"
         # A cell fills only with all four edges drawn: draw them in the fill colour, so
         # the row shading alone separates the rows.
