@@ -155,6 +155,15 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
     console.print("CoC policy: " + "; ".join(policies) + ". Distances from the sensor plane.")
 
 
+def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
+    """"near – far" with enough digits that a shallow close-up zone does not read "42.0 – 42.0"."""
+    digits = 3
+    if near and far and math.isfinite(far) and far > near:
+        digits = min(6, 3 + max(0, math.ceil(-math.log10((far - near) / near)) - 1))
+    return (f"{format_distance(near, imperial=imperial, digits=digits)} – "
+            f"{format_distance(far, imperial=imperial, digits=digits)}")
+
+
 def render_check(result: CheckResult, *, imperial: bool = False, console: Console | None = None) -> None:
     """Summary per verdict and per lens, then each flagged frame with its remedies."""
     console = console or stdout_console()
@@ -192,8 +201,7 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
     for row in flagged.to_dict("records"):
         setting = (f"{format_length_mm(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))} @ "
                    f"{format_distance(_number(row['focus_mm']), imperial=imperial)}")
-        zone = (f"{format_distance(_number(row['near_mm']), imperial=imperial)} – "
-                f"{format_distance(_number(row['far_mm']), imperial=imperial)}")
+        zone = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial)
         remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {describe_flag(flag, row, imperial=imperial)}"
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)
