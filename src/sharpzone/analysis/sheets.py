@@ -354,8 +354,7 @@ def sheet_from_catalog(
     if body:
         body_row = get_body(session, body)
         fmt = body_row.sensor_format.to_core()
-        if body_row.pixel_width:
-            pixel_pitch_mm = fmt.width_mm / body_row.pixel_width
+        pixel_pitch_mm = body_row.pixel_pitch_mm
     else:
         fmt = get_format(session, sensor or DEFAULT_SENSOR).to_core()
     coc = choose_coc(sensor=fmt.name, coc_mm=coc_mm, coc_policy=coc_policy, pixel_pitch_mm=pixel_pitch_mm,
