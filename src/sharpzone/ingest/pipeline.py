@@ -8,6 +8,7 @@ size and modification time — are not reopened). Image files are only ever open
 
 from __future__ import annotations
 
+import itertools
 import math
 import multiprocessing
 import os
@@ -97,17 +98,22 @@ def _ensure_shoot(catalog: Catalog, name: str, root: str) -> int:
     raise AssertionError("unreachable")
 
 
-def _read_all(paths: list[tuple[str, float | None]], jobs: int) -> Iterator[CaptureRecord | ReadProblem]:
-    """Read files, in worker processes when it pays; results in any order."""
-    if jobs <= 1 or len(paths) < POOL_THRESHOLD:
-        for path, user_mm in paths:
+def _read_all(paths: Iterable[tuple[str, float | None]], jobs: int) -> Iterator[CaptureRecord | ReadProblem]:
+    """Read files, in worker processes when it pays; results in any order.
+
+    ``paths`` may be a generator (the scan): the pool's feeder thread draws from it while
+    results are consumed, so walking the folders overlaps with reading.
+    """
+    paths = iter(paths)
+    head = list(itertools.islice(paths, POOL_THRESHOLD))
+    if jobs <= 1 or len(head) < POOL_THRESHOLD:
+        for path, user_mm in itertools.chain(head, paths):
             yield read_capture(path, user_mm)
         return
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
-    chunk = max(8, min(256, len(paths) // (jobs * 8) or 1))
     with context.Pool(processes=jobs) as pool:
-        yield from pool.imap_unordered(_read_one, paths, chunksize=chunk)
+        yield from pool.imap_unordered(_read_one, itertools.chain(head, paths), chunksize=64)
 
 
 def _read_one(item: tuple[str, float | None]) -> CaptureRecord | ReadProblem:
@@ -229,66 +235,82 @@ def ingest_paths(
     shoot_id = _ensure_shoot(catalog, shoot_name, roots[0])
     notify = progress or (lambda stage, done, total: None)
 
-    # scan
-    candidates: list[CandidateFile] = []
-    scan_problems: list[ReadProblem] = []
-    for event in iter_scan(roots):
-        if isinstance(event, CandidateFile):
-            candidates.append(event)
-        elif isinstance(event, ReadProblem):
-            scan_problems.append(event)
-        else:
-            summary.ignored += 1
-        notify("scan", len(candidates), None)
-
     with catalog.session_scope() as session:
         stored = _stored_frames(session, [printable_path(r) for r in roots])
+    plan = _ReadPlan(roots, stored, user_distances, summary, notify)
 
-    # incremental: which files to (re)read
-    to_read: list[tuple[CandidateFile, float | None]] = []
-    distance_changes: list[tuple[str, float]] = []
-    for candidate in candidates:
-        shown = printable_path(candidate.path)
-        user_mm = lookup_user_distance(user_distances, candidate.path) if user_distances else None
-        before = stored.get(shown)
-        if before is not None and before.size == candidate.size and before.mtime_ns == candidate.mtime_ns:
-            summary.unchanged += 1
-            if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
-                distance_changes.append((shown, user_mm))
-            continue
-        to_read.append((candidate, user_mm))
-    if distance_changes:
-        _update_user_distances(catalog, distance_changes)
-        summary.unchanged -= len(distance_changes)
-        summary.updated += len(distance_changes)
-
-    # read → match → persist, in batches
-    if scan_problems:
-        _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, "")) for problem in scan_problems],
-                       shoot_id, matcher_factory, summary, stored)
-    by_path = {candidate.path: candidate for candidate, _ in to_read}
-    total = len(to_read)
-    notify("read", 0, total)
+    # scan → read → match → persist: the scan feeds the readers as it walks, and results are
+    # written in batches as they come back.
+    by_path: dict[str, CandidateFile] = plan.by_path
     batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]] = []
     done = 0
-    for result in _read_all([(candidate.path, user_mm) for candidate, user_mm in to_read], jobs):
+    for result in _read_all(plan.files_to_read(), jobs):
         batch.append((result, by_path[result.path]))
         done += 1
         if len(batch) >= batch_size:
             _persist_batch(catalog, batch, shoot_id, matcher_factory, summary, stored)
             batch = []
-        notify("read", done, total)
+        notify("read", done, plan.total_to_read)
     if batch:
         _persist_batch(catalog, batch, shoot_id, matcher_factory, summary, stored)
+    if plan.scan_problems:
+        _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, "")) for problem in plan.scan_problems],
+                       shoot_id, matcher_factory, summary, stored)
+    if plan.distance_changes:
+        _update_user_distances(catalog, plan.distance_changes)
+        summary.unchanged -= len(plan.distance_changes)
+        summary.updated += len(plan.distance_changes)
 
     # vanished files
-    found = {printable_path(candidate.path) for candidate in candidates}
-    found.update(printable_path(problem.path) for problem in scan_problems)
+    found = plan.found
+    found.update(printable_path(problem.path) for problem in plan.scan_problems)
     summary.vanished = sorted(path for path in stored if path not in found)
     if prune and summary.vanished:
         summary.pruned = _prune(catalog, summary.vanished)
     summary.seconds = time.perf_counter() - started
     return summary
+
+
+class _ReadPlan:
+    """Walks the roots and decides, file by file, what must be read: new and changed files
+    (same path, size and modification time = unchanged, not reopened)."""
+
+    def __init__(self, roots, stored: dict[str, _Stored], user_distances: dict[str, float],
+                 summary: IngestSummary, notify: ProgressCallback) -> None:
+        self.roots = roots
+        self.stored = stored
+        self.user_distances = user_distances
+        self.summary = summary
+        self.notify = notify
+        self.by_path: dict[str, CandidateFile] = {}
+        self.found: set[str] = set()
+        self.scan_problems: list[ReadProblem] = []
+        self.distance_changes: list[tuple[str, float]] = []
+        self.total_to_read: int | None = None
+
+    def files_to_read(self) -> Iterator[tuple[str, float | None]]:
+        count = 0
+        for event in iter_scan(self.roots, sniff=False):
+            if isinstance(event, ReadProblem):
+                self.scan_problems.append(event)
+                continue
+            if not isinstance(event, CandidateFile):
+                self.summary.ignored += 1
+                continue
+            shown = printable_path(event.path)
+            self.found.add(shown)
+            user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
+            before = self.stored.get(shown)
+            if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
+                self.summary.unchanged += 1
+                if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
+                    self.distance_changes.append((shown, user_mm))
+                continue
+            self.by_path[event.path] = event
+            count += 1
+            yield event.path, user_mm
+        self.total_to_read = count
+        self.notify("read", 0, count)
 
 
 def _same(a: float | None, b: float | None) -> bool:
