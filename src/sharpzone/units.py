@@ -153,3 +153,12 @@ def parse_f_number(text: str | float | int, *, what: str = "f-number") -> float:
     if not match:
         raise InvalidValue(f"{what} {text!r} is not an f-number: expected a number such as 8, f8 or f/5.6")
     return float(match.group(1))
+
+
+def format_round_distance(value_mm: float, *, imperial: bool = False) -> str:
+    """A round distance (a focus-scale step) without trailing zeros: ``1.5 m``, ``38 cm``,
+    ``2 ft``, ``∞``; other distances as ``format_distance`` gives them."""
+    text = format_distance(value_mm, imperial=imperial)
+    text = re.sub(r"(\d+\.\d*?)0+(?=\s)", r"\1", text)
+    text = re.sub(r"\.(?=\s)", "", text)
+    return text.replace(" ft 0 in", " ft")

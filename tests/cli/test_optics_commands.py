@@ -98,3 +98,20 @@ def test_stack_refuses_an_inverted_range():
     result = invoke("stack", "-f", "100", "-a", "8", "--near", "60cm", "--far", "50cm")
     assert result.exit_code == 2
     assert "not beyond the near end" in result.stderr
+
+
+def test_dof_finds_a_format_added_to_the_catalogue(tmp_path):
+    catalog = str(tmp_path / "c.sqlite")
+    added = runner.invoke(app, ["--catalog", catalog, "format", "add", "pinhole-box", "--width", "100", "--height", "80"])
+    assert added.exit_code == 0, added.output
+    result = runner.invoke(app, ["--catalog", catalog, "dof", "-f", "150", "-a", "22", "-d", "5m",
+                                 "--sensor", "pinhole-box", "--json"])
+    assert result.exit_code == 0, result.output
+    assert json.loads(result.stdout)["coc_mm"] == pytest.approx(128.06 / 1500, rel=1e-3)
+
+
+def test_dof_does_not_create_a_catalogue_for_an_unknown_format(tmp_path):
+    catalog = tmp_path / "none.sqlite"
+    result = runner.invoke(app, ["--catalog", str(catalog), "dof", "-f", "50", "-a", "8", "-d", "3m", "--sensor", "nosuch"])
+    assert result.exit_code == 1 and "no sensor format 'nosuch'" in result.stderr
+    assert not catalog.exists()

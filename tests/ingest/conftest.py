@@ -34,5 +34,7 @@ def written(tmp_path):
 
     yield write
     for path, checksum in checksums.items():
+        if not os.path.lexists(path):
+            continue  # the test removed it on purpose
         os.chmod(path, 0o644)
         assert _digest(path) == checksum, f"{path!r} was modified by reading it"

@@ -223,6 +223,10 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
         return format_distance(value, imperial=imperial)
 
     if flag == "distance-unknown":
+        recorded = row.get("focus_mm")
+        if recorded is not None and recorded == recorded:
+            return (f"recorded focus distance {dist(recorded)} is nearer than a {row['focal_mm']:g} mm lens can "
+                    "focus (4 × its focal length from the sensor) — cannot judge; check the lens's focal length")
         return ("focus distance unknown — cannot judge; give it with --distances FILE.csv at ingest "
                 "or a sidecar")
     if flag == "settings-unknown":

@@ -94,7 +94,7 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
     frame = _join_small_tables(session, frame)
     numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "format_width_mm", "format_height_mm",
-               "format_coc_divisor", "pixel_width", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
+               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
                "planned_focus_mm"]
     for column in numeric:
@@ -121,7 +121,7 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
         Shoot.plan_kind, Shoot.plan_near_mm, Shoot.plan_far_mm, Shoot.plan_front_mm, Shoot.plan_back_mm,
         Shoot.planned_focal_mm, Shoot.planned_f_number, Shoot.planned_focus_mm), "shoot_id")
     bodies = table(select(
-        Body.id.label("body_id"), Body.name.label("body"), Body.pixel_width,
+        Body.id.label("body_id"), Body.name.label("body"), Body.pixel_width, Body.pixel_height,
         SensorFormatRow.name.label("format_name"), SensorFormatRow.width_mm.label("format_width_mm"),
         SensorFormatRow.height_mm.label("format_height_mm"), SensorFormatRow.coc_divisor.label("format_coc_divisor"),
     ).join(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")

@@ -16,7 +16,7 @@ import numpy as np
 from sharpzone.optics.coc import CocPolicy, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
 from sharpzone.optics.dof import MIN_F_NUMBER, sharp_zone
-from sharpzone.optics.formats import SensorFormat
+from sharpzone.optics.formats import SensorFormat, pixel_pitch_mm
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -50,6 +50,10 @@ def _policy_for_rows(frames: pd.DataFrame, override: CocPolicy | None) -> tuple[
     return specs, origins
 
 
+def _count(value) -> int | None:
+    return int(value) if value == value and value else None
+
+
 def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None) -> tuple[np.ndarray, list[str], list[str]]:
     """The CoC (mm) of each frame: NaN where the format is unknown or the policy can't apply.
 
@@ -65,15 +69,17 @@ def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None
         "height": frames["format_height_mm"].to_numpy(dtype=float),
         "divisor": frames["format_coc_divisor"].to_numpy(dtype=float),
         "pixels": pd.to_numeric(frames["pixel_width"], errors="coerce").to_numpy(dtype=float),
+        "pixels_high": pd.to_numeric(frames.get("pixel_height", pd.Series(np.nan, index=frames.index)),
+                                     errors="coerce").to_numpy(dtype=float),
     })
     coc = np.full(len(frames), np.nan)
-    for (spec, name, width, height, divisor, pixels), index in keys.groupby(
-        ["spec", "name", "width", "height", "divisor", "pixels"], dropna=False, sort=False
+    for (spec, name, width, height, divisor, pixels, pixels_high), index in keys.groupby(
+        ["spec", "name", "width", "height", "divisor", "pixels", "pixels_high"], dropna=False, sort=False
     ).indices.items():
         if not isinstance(name, str) or not (width > 0 and height > 0):
             continue
         fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else 1500.0)
-        pitch = width / pixels if pixels and pixels > 0 else None
+        pitch = pixel_pitch_mm(fmt, _count(pixels), _count(pixels_high))
         try:
             coc[index] = parse_coc_policy(spec).coc_mm(fmt, pitch)
         except ValueError:

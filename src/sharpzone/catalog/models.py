@@ -134,6 +134,13 @@ class Body(Base):
 
     sensor_format: Mapped[SensorFormatRow] = relationship(back_populates="bodies", lazy="joined")
 
+    @property
+    def pixel_pitch_mm(self) -> float | None:
+        """Pixel pitch in mm (``None`` while the pixel dimensions are unknown)."""
+        from sharpzone.optics.formats import pixel_pitch_mm
+
+        return pixel_pitch_mm(self.sensor_format.to_core(), self.pixel_width, self.pixel_height)
+
     __table_args__ = (
         Index("uq_body_exif_identity", "exif_make", "exif_model", func.coalesce(serial, ""), unique=True),
     )

@@ -46,11 +46,21 @@ def main(
 def _register_commands() -> None:
     # Each command module adds its commands or sub-groups to ``app``; imports stay light
     # (heavy libraries are imported inside the commands that need them).
-    from sharpzone.cli import catalog_commands, frames_commands, optics_commands
+    from sharpzone.cli import (
+        catalog_commands,
+        demo_commands,
+        frames_commands,
+        ingest_commands,
+        optics_commands,
+        sheet_commands,
+    )
 
     optics_commands.register(app)
+    ingest_commands.register(app)
     frames_commands.register(app)
     catalog_commands.register(app)
+    sheet_commands.register(app)
+    demo_commands.register(app)
 
 
 _register_commands()

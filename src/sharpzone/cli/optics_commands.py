@@ -41,6 +41,7 @@ def _common(coc: str | None, reference: str) -> tuple[float | None, str]:
 
 
 def dof(
+    ctx: typer.Context,
     focal: FocalOpt,
     aperture: ApertureOpt,
     distance: Annotated[str, typer.Option("--distance", "-d", help=f"Focus distance: {DISTANCE_HELP}.")],
@@ -53,13 +54,13 @@ def dof(
     json: JsonOpt = False,
 ) -> None:
     """The sharp zone of one setting: near and far limits, depth of field, hyperfocal distance."""
-    from sharpzone.analysis.setting import evaluate_setting
+    from sharpzone.analysis.setting import evaluate_setting, format_lookup
 
     coc_mm, reference = _common(coc, reference)
     report = evaluate_setting(
         length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
         distance_option(distance, "--distance"), sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy,
-        reference=reference, pupil_magnification=pupil,
+        reference=reference, pupil_magnification=pupil, lookup=format_lookup(ctx.obj.catalog),
     )
     if json:
         from sharpzone.report.machine import setting_json
@@ -73,6 +74,7 @@ def dof(
 
 
 def stack(
+    ctx: typer.Context,
     focal: FocalOpt,
     aperture: ApertureOpt,
     near: Annotated[str, typer.Option("--near", help=f"Nearest point that must be sharp: {DISTANCE_HELP}.")],
@@ -87,13 +89,14 @@ def stack(
     json: JsonOpt = False,
 ) -> None:
     """A focus-stack plan: how many frames, focused where, hold a near–far range sharp."""
-    from sharpzone.analysis.setting import plan_stack
+    from sharpzone.analysis.setting import format_lookup, plan_stack
 
     coc_mm, reference = _common(coc, reference)
     report = plan_stack(
         length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
         distance_option(near, "--near"), distance_option(far, "--far"), sensor=sensor, coc_mm=coc_mm,
         coc_policy=coc_policy, reference=reference, pupil_magnification=pupil, overlap=overlap,
+        lookup=format_lookup(ctx.obj.catalog),
     )
     if json:
         from sharpzone.report.machine import stack_json

@@ -64,8 +64,13 @@ def scan_paths(paths: Iterable[str | bytes | os.PathLike]) -> ScanResult:
     return result
 
 
-def iter_scan(paths: Iterable[str | bytes | os.PathLike]) -> Iterator[ScanEvent]:
-    """Like ``scan_paths`` but yields each event as it is found (for progress display)."""
+def iter_scan(paths: Iterable[str | bytes | os.PathLike], *, sniff: bool = True) -> Iterator[ScanEvent]:
+    """Like ``scan_paths`` but yields each event as it is found (for progress display).
+
+    ``sniff=False`` judges by extension and ``stat`` alone and leaves the content check to
+    the reader (``kind`` is then ""): ingest does that so each file is opened once, in a
+    worker, and a rescan of unchanged files opens none.
+    """
     seen_files: set[tuple[int, int]] = set()
     seen_folders: dict[tuple[int, int], bytes] = {}
     for given in paths:
@@ -76,12 +81,13 @@ def iter_scan(paths: Iterable[str | bytes | os.PathLike]) -> Iterator[ScanEvent]
             yield _problem(path, err)
             continue
         if stat.S_ISDIR(info.st_mode):
-            yield from _walk(path, info, seen_folders, seen_files)
+            yield from _walk(path, info, seen_folders, seen_files, sniff)
         else:
-            yield from _consider_file(path, info, seen_files)
+            yield from _consider_file(path, info, seen_files, sniff)
 
 
-def _walk(root: bytes, root_info: os.stat_result, seen_folders: dict, seen_files: set) -> Iterator[ScanEvent]:
+def _walk(root: bytes, root_info: os.stat_result, seen_folders: dict, seen_files: set,
+          sniff: bool = True) -> Iterator[ScanEvent]:
     # Depth-first with an explicit stack; each entry carries the folder ids above it, so a
     # link back to an ancestor is told apart from a second route to an already-seen folder.
     stack = [(root, root_info, ())]
@@ -111,12 +117,24 @@ def _walk(root: bytes, root_info: os.stat_result, seen_folders: dict, seen_files
             if stat.S_ISDIR(entry_info.st_mode):
                 subfolders.append((entry.path, entry_info, ancestors + (folder_id,)))
             else:
-                yield from _consider_file(entry.path, entry_info, seen_files)
+                yield from _consider_file(entry.path, entry_info, seen_files, sniff)
         stack.extend(reversed(subfolders))
 
 
-def _consider_file(path: bytes, info: os.stat_result, seen_files: set) -> Iterator[ScanEvent]:
-    extension = os.path.splitext(path)[1].lower().decode("ascii", "replace")
+def _extension(path: bytes) -> str:
+    """``.jpg`` from ``…/IMG_1.JPG`` (lower case; "" for none or a leading-dot name).
+
+    The same rule as ``os.path.splitext``, which costs a noticeable share of a rescan.
+    """
+    name_start = path.rfind(os.sep.encode()) + 1
+    dot = path.rfind(b".", name_start)
+    if dot <= name_start or path[name_start:dot].strip(b".") == b"":
+        return ""
+    return path[dot:].lower().decode("ascii", "replace")
+
+
+def _consider_file(path: bytes, info: os.stat_result, seen_files: set, sniff: bool = True) -> Iterator[ScanEvent]:
+    extension = _extension(path)
     if not stat.S_ISREG(info.st_mode) or extension not in formats.ALL_IMAGE_EXTENSIONS:
         yield IgnoredFile(os.fsdecode(path))
         return
@@ -126,6 +144,9 @@ def _consider_file(path: bytes, info: os.stat_result, seen_files: set) -> Iterat
     seen_files.add(file_id)
     if info.st_size == 0:
         yield ReadProblem(os.fsdecode(path), "empty file")
+        return
+    if not sniff:
+        yield CandidateFile(os.fsdecode(path), info.st_size, info.st_mtime_ns, "")
         return
     try:
         kind = sniff_file(path, extension)

@@ -42,3 +42,15 @@ class SensorFormat:
     @property
     def aspect_ratio(self) -> float:
         return max(self.width_mm, self.height_mm) / min(self.width_mm, self.height_mm)
+
+
+def pixel_pitch_mm(fmt: SensorFormat, pixel_width: int | None, pixel_height: int | None = None) -> float | None:
+    """Distance between pixel centres (mm): the format's long side over the pixels along it.
+
+    Taking the long side of both makes a body recorded in portrait orientation give the same
+    answer. ``None`` when the pixel count is unknown.
+    """
+    pixels = max(pixel_width or 0, pixel_height or 0)
+    if pixels <= 0:
+        return None
+    return max(fmt.width_mm, fmt.height_mm) / pixels

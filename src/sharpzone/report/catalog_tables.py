@@ -72,7 +72,7 @@ BODY_FIELDS = [
     Field("Format", lambda r, _: r.sensor_format.name, lambda r: {"format": r.sensor_format.name}),
     Field("Pixels", lambda r, _: f"{r.pixel_width} × {r.pixel_height} px" if r.pixel_width and r.pixel_height else "—",
           lambda r: {"pixel_width": r.pixel_width, "pixel_height": r.pixel_height}),
-    Field("Pixel pitch", lambda r, _: format_length_mm(_pixel_pitch_mm(r)), lambda r: {"pixel_pitch_mm": _pixel_pitch_mm(r)},
+    Field("Pixel pitch", lambda r, _: format_length_mm(r.pixel_pitch_mm), lambda r: {"pixel_pitch_mm": r.pixel_pitch_mm},
           in_list=False),
     Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}),
 ]
@@ -92,12 +92,6 @@ LENS_FIELDS = [
           lambda r: {"exif_names": [a.exif_name for a in r.aliases]}),
     Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}),
 ]
-
-
-def _pixel_pitch_mm(body) -> float | None:
-    if not body.pixel_width:
-        return None
-    return body.sensor_format.width_mm / max(body.pixel_width, body.pixel_height or 0)
 
 
 def _plan_text(shoot, imperial: bool) -> str:

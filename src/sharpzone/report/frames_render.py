@@ -11,6 +11,7 @@ from rich.console import Console
 from rich.table import Table
 
 from sharpzone.analysis.checks import describe_flag
+from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import stdout_console
 from sharpzone.report.jsonout import metres
 from sharpzone.units import format_distance, format_f_number, format_length_mm
@@ -123,10 +124,15 @@ def _short_path(path: str) -> str:
     return os.path.basename(path) or path
 
 
-def _flags_text(flags: list[str]) -> str:
+def _flags_text(flags: list[str], separator: str = " ") -> str:
     if not flags:
         return f"[{PASSED_STYLE}]passed[/]"
-    return " ".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags)
+    return separator.join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags)
+
+
+def _micrometres(value_mm: float | None) -> str:
+    """A small length such as the Airy disk in µm (one decimal)."""
+    return "—" if value_mm is None else f"{value_mm * 1000:.1f} µm"
 
 
 def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Console | None = None) -> None:
@@ -136,23 +142,61 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
         console.print("No frames match.")
         return
     table = Table(title=f"{len(frames)} frames", title_justify="left")
-    for header, justify in (("File", "left"), ("Lens", "left"), ("Focal", "right"), ("Aperture", "right"),
-                            ("Focus", "right"), ("Near", "right"), ("Far", "right"), ("Hyperfocal", "right"),
-                            ("CoC", "right"), ("Verdict", "left")):
-        table.add_column(header, justify=justify)
-    for row in frames.to_dict("records"):
-        table.add_row(
+    records = frames.to_dict("records")
+    closeup = any((_number(row["magnification"]) or 0) >= CLOSEUP_MAGNIFICATION for row in records)
+    headers = [("File", "left"), ("Lens", "left"), ("Focal", "right"), ("Aperture", "right"), ("Focus", "right"),
+               ("Near", "right"), ("Far", "right"), ("Depth", "right"), ("Hyperfocal", "right"), ("CoC", "right"),
+               ("Airy disk", "right")]
+    if closeup:
+        headers.append(("Working f", "right"))
+    for header, justify in (*headers, ("Verdict", "left")):
+        table.add_column(header, justify=justify, no_wrap=header != "Lens", min_width=12 if header == "Lens" else None)
+    for row in records:
+        near, far = _number(row["near_mm"]), _number(row["far_mm"])
+        cells = [
             _short_path(row["path"]), row.get("lens") or "—",
             format_length_mm(_number(row["focal_mm"])), format_f_number(_number(row["f_number"])),
             format_distance(_number(row["focus_mm"]), imperial=imperial),
-            format_distance(_number(row["near_mm"]), imperial=imperial),
-            format_distance(_number(row["far_mm"]), imperial=imperial),
+            *_zone_text(near, far, imperial).split(" – "),
+            format_distance(_number(row["total_mm"]), imperial=imperial),
             format_distance(_number(row["hyperfocal_mm"]), imperial=imperial),
-            format_length_mm(_number(row["coc_mm"])), _flags_text(row["flags"]),
-        )
+            format_length_mm(_number(row["coc_mm"])), _micrometres(_number(row["airy_disk_mm"])),
+        ]
+        if closeup:
+            magnification = _number(row["magnification"]) or 0
+            cells.append(format_f_number(_number(row["effective_f_number"]))
+                         if magnification >= CLOSEUP_MAGNIFICATION else "")
+        table.add_row(*cells, _flags_text(row["flags"], "\n"))
     console.print(table)
-    policies = sorted({f"{row['coc_policy']} (from {row['coc_from']})" for row in frames.to_dict("records")})
-    console.print("CoC policy: " + "; ".join(policies) + ". Distances from the sensor plane.")
+    console.print(_policy_line(frames) + " Distances from the sensor plane.")
+
+
+def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
+    """"near – far" with enough digits that a shallow close-up zone does not read "42.0 – 42.0"."""
+    digits = 3
+    if near and far and math.isfinite(far) and far > near:
+        digits = min(6, 3 + max(0, math.ceil(-math.log10((far - near) / near)) - 1))
+    return (f"{format_distance(near, imperial=imperial, digits=digits)} – "
+            f"{format_distance(far, imperial=imperial, digits=digits)}")
+
+
+def _policy_line(frames: pd.DataFrame) -> str:
+    """Which CoC policies the figures rest on, and where each came from."""
+    pairs = frames[["coc_policy", "coc_from"]].drop_duplicates().itertuples(index=False)
+    return "CoC policy: " + "; ".join(sorted(f"{policy} (from the {origin})" for policy, origin in pairs)) + "."
+
+
+def _plans_line(frames: pd.DataFrame, imperial: bool) -> str:
+    """The shoots' plans that the frames were judged against."""
+    from sharpzone.analysis.checks import Requirement
+
+    plans = []
+    columns = ["shoot", "plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm"]
+    for shoot, kind, near, far, front, back in frames[columns].drop_duplicates().itertuples(index=False):
+        if kind in ("range", "depth"):
+            requirement = Requirement(kind, near_mm=near, far_mm=far, front_mm=front, back_mm=back)
+            plans.append(f"{shoot}: {requirement.describe(imperial)}")
+    return "; ".join(plans)
 
 
 def render_check(result: CheckResult, *, imperial: bool = False, console: Console | None = None) -> None:
@@ -163,10 +207,12 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
         console.print("No frames match.")
         return
     summary = result.summary_by_verdict()
-    heading = (f"Checked {summary['frames']} frames against "
-               f"{result.requirement.describe(imperial) if result.requirement else 'each shoot’s plan'}: "
+    against = (result.requirement.describe(imperial) if result.requirement
+               else f"the plan ({_plans_line(frames, imperial)})")
+    heading = (f"Checked {summary['frames']} frames against {against}: "
                f"[{PASSED_STYLE}]{summary['passed']} passed[/], {summary['frames'] - summary['passed']} flagged")
     console.print(heading)
+    console.print(_policy_line(frames) + " Distances from the sensor plane.", style="dim")
     verdicts = Table(title="By verdict", title_justify="left")
     verdicts.add_column("Verdict")
     verdicts.add_column("Frames", justify="right")
@@ -192,8 +238,7 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
     for row in flagged.to_dict("records"):
         setting = (f"{format_length_mm(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))} @ "
                    f"{format_distance(_number(row['focus_mm']), imperial=imperial)}")
-        zone = (f"{format_distance(_number(row['near_mm']), imperial=imperial)} – "
-                f"{format_distance(_number(row['far_mm']), imperial=imperial)}")
+        zone = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial)
         remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {describe_flag(flag, row, imperial=imperial)}"
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)

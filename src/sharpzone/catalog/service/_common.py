@@ -76,7 +76,8 @@ def get_by_name(session: Session, model: type[Row], name: str, what: str, *, err
     row = find_by_name(session, model, name)
     if row is None:
         known = session.scalars(select(model.name).order_by(model.name).limit(12)).all()
-        expected = f"known: {', '.join(known)}" if known else f"the catalogue has no {what}s yet"
+        nouns = {"lens": "lenses", "body": "bodies"}
+        expected = f"known: {', '.join(known)}" if known else f"the catalogue has no {nouns.get(what, what + 's')} yet"
         raise error(f"no {what} named {name!r} ({expected})")
     return row
 

@@ -1,0 +1,44 @@
+"""``sharpzone ingest``: read a shoot's EXIF into the catalogue."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+
+def register(app: typer.Typer) -> None:
+    app.command("ingest")(ingest)
+
+
+def ingest(
+    ctx: typer.Context,
+    paths: Annotated[list[Path], typer.Argument(help="Image files or folders (searched recursively).", show_default=False)],
+    shoot: Annotated[Optional[str], typer.Option("--shoot", help="Shoot to file the frames under (created if new); default: the first folder's name.")] = None,
+    jobs: Annotated[Optional[int], typer.Option("--jobs", help="Worker processes reading EXIF; default: one per core.")] = None,
+    distances: Annotated[Optional[Path], typer.Option("--distances", help="CSV of file name or path → focus distance (with units); wins over EXIF.")] = None,
+    prune: Annotated[bool, typer.Option("--prune", help="Remove catalogued frames whose files have vanished.")] = False,
+    strict: Annotated[bool, typer.Option("--strict", help="Exit with 1 if any file could not be read.")] = False,
+    json: Annotated[bool, typer.Option("--json", help="Print the JSON summary (the machine interface) instead of a table.")] = False,
+) -> None:
+    """Read the EXIF of every image under PATHS into the catalogue: new and changed files are
+    read, unchanged ones skipped, damaged ones reported and skipped."""
+    from sharpzone.catalog.engine import open_catalog
+    from sharpzone.ingest.pipeline import ingest_paths
+    from sharpzone.report.ingest_render import ingest_json, ingest_progress, render_ingest
+
+    show_progress = not json and sys.stderr.isatty()
+    with open_catalog(ctx.obj.catalog) as catalog, ingest_progress(show_progress) as progress:
+        summary = ingest_paths(catalog, [str(p) for p in paths], shoot=shoot, jobs=jobs,
+                               distances_csv=distances, prune=prune, progress=progress)
+        where = catalog.display_url
+    if json:
+        from sharpzone.report.jsonout import dumps
+
+        typer.echo(dumps(ingest_json(summary, where)))
+    else:
+        render_ingest(summary, where)
+    if strict and summary.failed:
+        raise typer.Exit(1)

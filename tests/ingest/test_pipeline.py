@@ -1,0 +1,220 @@
+"""The whole ingest: a folder tree mixing good frames and every bad case, exact counts, a
+rerun that changes nothing, kill-safety, concurrent runs, and the CLI's JSON summary."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import textwrap
+import time
+
+import pytest
+from typer.testing import CliRunner
+
+from sharpzone.catalog.engine import open_catalog, session_scope
+from sharpzone.catalog.models import Body, Frame, IngestProblem, Lens
+from sharpzone.cli.app import app
+from sharpzone.ingest.pipeline import ingest_paths
+from tests.ingest.images import INFINITY_NUMERATOR, exif_block, jpeg, pillow_image
+
+GOOD = 6
+
+
+@pytest.fixture
+def shoot_tree(tmp_path, written):
+    """A card: six good frames (two in a sub-folder), and the bad cases of issue 4."""
+    card = tmp_path / "card"
+    for number in range(GOOD):
+        folder = card / ("DCIM/101" if number >= 4 else "DCIM/100")
+        written(f"IMG_{number:04d}.JPG", jpeg(exif_block(subject_distance=(3000 + 100 * number, 1000))), folder)
+    written("empty.jpg", b"", card)                                       # empty file
+    written("random.jpg", os.urandom(4096), card)                          # random bytes, image extension
+    written("truncated.jpg", jpeg(exif_block())[:40], card)                # truncated JPEG
+    written("broken.dng", b"II*\x00\xff\xff\xff\x7f" + b"\0" * 32, card)  # broken raw header
+    written("README.txt", b"not an image", card)                           # ignored
+    os.symlink(card / "DCIM", card / "DCIM" / "100" / "loop")              # folder-link loop
+    return card
+
+
+def _counts(url):
+    with session_scope(url) as session:
+        frames = session.query(Frame).count()
+        problems = session.query(IngestProblem).count()
+    return frames, problems
+
+
+def test_mixed_tree_counts_exactly_and_a_rerun_changes_nothing(shoot_tree, catalog_url):
+    with open_catalog(catalog_url) as catalog:
+        first = ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+        second = ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+    assert (first.added, first.updated, first.unchanged) == (GOOD, 0, 0)
+    assert first.ignored == 1
+    reasons = {os.path.basename(path): reason for path, reason in first.failed}
+    assert set(reasons) == {"empty.jpg", "random.jpg", "truncated.jpg", "broken.dng", "loop"}
+    assert (second.added, second.updated, second.unchanged) == (0, 0, GOOD)
+    assert _counts(catalog_url)[0] == GOOD
+
+
+def test_frames_carry_what_exif_said(shoot_tree, catalog_url):
+    with open_catalog(catalog_url) as catalog:
+        ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+    with session_scope(catalog_url) as session:
+        frame = session.query(Frame).filter(Frame.path.endswith("IMG_0002.JPG")).one()
+        # SubjectDistance 3200/1000 m (EXIF 0x9206, metres) → 3200 mm from the sensor.
+        assert frame.focus_mm == pytest.approx(3200) and frame.focus_source == "exif"
+        assert frame.f_number == 2.8 and frame.focal_mm == 50
+        assert frame.utc_offset_minutes == 330  # OffsetTimeOriginal "+05:30"
+        body = session.get(Body, frame.body_id)
+        lens = session.get(Lens, frame.lens_id)
+        assert body.sensor_format.name == "36x24" and not body.confirmed  # from 50/50 mm equivalent
+        assert (lens.focal_min_mm, lens.focal_max_mm, lens.max_aperture_wide) == (24, 70, 2.8)  # LensSpecification
+        assert not lens.confirmed
+
+
+def test_changed_file_is_reread_and_vanished_file_is_kept_unless_pruned(shoot_tree, catalog_url, written):
+    with open_catalog(catalog_url) as catalog:
+        ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+        written("IMG_0000.JPG", jpeg(exif_block(f_number=(110, 10))), shoot_tree / "DCIM/100")
+        (shoot_tree / "DCIM/100/IMG_0001.JPG").unlink()
+        again = ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+        assert (again.added, again.updated, again.unchanged) == (0, 1, GOOD - 2)
+        assert [os.path.basename(p) for p in again.vanished] == ["IMG_0001.JPG"]
+        assert _counts(catalog_url)[0] == GOOD
+        pruned = ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1, prune=True)
+        assert pruned.pruned == 1
+    assert _counts(catalog_url)[0] == GOOD - 1
+
+
+def test_user_distances_win_and_update_without_rereading(shoot_tree, catalog_url, tmp_path):
+    distances = tmp_path / "distances.csv"
+    distances.write_text("file,distance\nIMG_0003.JPG,12ft\n")
+    with open_catalog(catalog_url) as catalog:
+        ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1)
+        result = ingest_paths(catalog, [shoot_tree], shoot="Harbour", jobs=1, distances_csv=distances)
+    assert (result.updated, result.unchanged) == (1, GOOD - 1)
+    with session_scope(catalog_url) as session:
+        frame = session.query(Frame).filter(Frame.path.endswith("IMG_0003.JPG")).one()
+        assert frame.focus_mm == pytest.approx(12 * 304.8) and frame.focus_source == "user"
+
+
+def test_infinity_and_unknown_subject_distance(tmp_path, written, catalog_url):
+    # EXIF 0x9206: numerator 0xFFFFFFFF = infinity, numerator 0 = distance unknown.
+    written("inf.jpg", jpeg(exif_block(subject_distance=(INFINITY_NUMERATOR, 1))), tmp_path / "s")
+    written("zero.jpg", jpeg(exif_block(subject_distance=(0, 1))), tmp_path / "s")
+    with open_catalog(catalog_url) as catalog:
+        ingest_paths(catalog, [tmp_path / "s"], jobs=1)
+    with session_scope(catalog_url) as session:
+        focus = {os.path.basename(f.path): (f.focus_mm, f.focus_source) for f in session.query(Frame)}
+    assert math.isinf(focus["inf.jpg"][0]) and focus["inf.jpg"][1] == "exif"
+    assert focus["zero.jpg"] == (None, "none")
+
+
+def test_worker_pool_gives_the_same_result(tmp_path, written, catalog_url):
+    for number in range(80):
+        written(f"F{number:03d}.JPG", jpeg(exif_block(subject_distance=(1000 + number, 1000))), tmp_path / "many")
+    with open_catalog(catalog_url) as catalog:
+        result = ingest_paths(catalog, [tmp_path / "many"], jobs=2, batch_size=16)
+    assert result.added == 80 and not result.failed
+    with session_scope(catalog_url) as session:
+        assert sorted(f.focus_mm for f in session.query(Frame)) == pytest.approx([1000 + n for n in range(80)])
+
+
+def test_a_png_and_a_tiff_written_by_pillow_ingest(tmp_path, written, catalog_url):
+    written("a.png", pillow_image("PNG", exif_block()), tmp_path / "mixed")
+    written("b.tif", pillow_image("TIFF", exif_block()), tmp_path / "mixed")
+    with open_catalog(catalog_url) as catalog:
+        result = ingest_paths(catalog, [tmp_path / "mixed"], jobs=1)
+    assert result.added == 2 and not result.failed
+
+
+KILLABLE = textwrap.dedent("""
+    import sys, time
+    from sharpzone.catalog.engine import open_catalog
+    from sharpzone.ingest.pipeline import ingest_paths
+    url, folder = sys.argv[1], sys.argv[2]
+    def slow(stage, done, total):
+        if stage == "read" and done:
+            time.sleep(0.02)
+    with open_catalog(url) as catalog:
+        ingest_paths(catalog, [folder], shoot="Killed", jobs=1, batch_size=10, progress=slow)
+""")
+
+
+def test_sigkill_mid_ingest_leaves_a_consistent_catalogue_and_a_rerun_finishes(tmp_path, written):
+    for number in range(120):
+        written(f"K{number:03d}.JPG", jpeg(exif_block()), tmp_path / "kill")
+    url = f"sqlite:///{tmp_path / 'kill.sqlite'}"
+    with open_catalog(url):
+        pass
+    process = subprocess.Popen([sys.executable, "-c", KILLABLE, url, str(tmp_path / "kill")])
+    deadline = time.monotonic() + 60
+    committed = 0
+    while time.monotonic() < deadline and committed < 20:
+        time.sleep(0.05)
+        with sqlite3.connect(tmp_path / "kill.sqlite", timeout=30) as connection:
+            committed = connection.execute("select count(*) from frame").fetchone()[0]
+    process.send_signal(signal.SIGKILL)
+    process.wait()
+    assert 20 <= committed < 120, "the run must be killed part-way"
+    with sqlite3.connect(tmp_path / "kill.sqlite") as connection:
+        assert connection.execute("pragma integrity_check").fetchone()[0] == "ok"
+        stored = connection.execute("select count(*) from frame").fetchone()[0]
+    assert stored % 10 == 0  # whole batches only
+    with open_catalog(url) as catalog:
+        rerun = ingest_paths(catalog, [tmp_path / "kill"], shoot="Killed", jobs=1)
+    assert (rerun.added, rerun.unchanged) == (120 - stored, stored)
+
+
+CONCURRENT = textwrap.dedent("""
+    import json, sys
+    from sharpzone.catalog.engine import open_catalog
+    from sharpzone.ingest.pipeline import ingest_paths
+    url, folder, shoot = sys.argv[1:4]
+    with open_catalog(url) as catalog:
+        result = ingest_paths(catalog, [folder], shoot=shoot, jobs=1, batch_size=5)
+    print(json.dumps({"added": result.added, "failed": len(result.failed)}))
+""")
+
+
+def test_two_ingests_at_once_into_one_catalogue_both_complete(tmp_path, written):
+    for side in ("left", "right"):
+        for number in range(40):
+            written(f"{side}{number:02d}.JPG", jpeg(exif_block()), tmp_path / side)
+    url = f"sqlite:///{tmp_path / 'shared.sqlite'}"
+    runs = [subprocess.Popen([sys.executable, "-c", CONCURRENT, url, str(tmp_path / side), side],
+                             stdout=subprocess.PIPE, text=True) for side in ("left", "right")]
+    outputs = [json.loads(run.communicate(timeout=120)[0]) for run in runs]
+    assert [run.returncode for run in runs] == [0, 0]
+    assert outputs == [{"added": 40, "failed": 0}, {"added": 40, "failed": 0}]
+    with session_scope(url) as session:
+        assert session.query(Frame).count() == 80
+        assert session.query(Body).count() == 1  # registered once, whoever came first
+
+
+def test_cli_json_summary_and_strict(shoot_tree, tmp_path):
+    url = str(tmp_path / "cli.sqlite")
+    result = CliRunner().invoke(app, ["--catalog", url, "ingest", str(shoot_tree), "--shoot", "Harbour", "--json"])
+    assert result.exit_code == 0, result.output
+    summary = json.loads(result.stdout)
+    assert (summary["added"], summary["updated"], summary["unchanged"], summary["ignored"]) == (GOOD, 0, 0, 1)
+    assert {os.path.basename(item["path"]) for item in summary["failed"]} >= {"empty.jpg", "random.jpg"}
+    assert all(item["reason"] for item in summary["failed"]) and all(item["path"].startswith("/") for item in summary["failed"])
+    strict = CliRunner().invoke(app, ["--catalog", url, "ingest", str(shoot_tree), "--strict"])
+    assert strict.exit_code == 1
+    table = CliRunner().invoke(app, ["--catalog", url, "ingest", str(shoot_tree), "--shoot", "Harbour"])
+    assert "Unchanged" in table.stdout and "truncated" in table.stdout
+
+
+def test_non_utf8_file_name_is_ingested(tmp_path, written, catalog_url):
+    written(b"caf\xe9.jpg", jpeg(exif_block()), tmp_path / "names")
+    with open_catalog(catalog_url) as catalog:
+        result = ingest_paths(catalog, [tmp_path / "names"], jobs=1)
+        again = ingest_paths(catalog, [tmp_path / "names"], jobs=1)
+    assert result.added == 1 and again.unchanged == 1
+    with session_scope(catalog_url) as session:
+        assert session.query(Frame).one().path.endswith("caf\\xe9.jpg")
