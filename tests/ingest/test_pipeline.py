@@ -17,6 +17,7 @@ import pytest
 from typer.testing import CliRunner
 
 from sharpzone.catalog.engine import open_catalog, session_scope
+from sharpzone.catalog.location import sqlite_path
 from sharpzone.catalog.models import Body, Frame, IngestProblem, Lens
 from sharpzone.cli.app import app
 from sharpzone.ingest.pipeline import ingest_paths
@@ -145,10 +146,24 @@ KILLABLE = textwrap.dedent("""
 """)
 
 
-def test_sigkill_mid_ingest_leaves_a_consistent_catalogue_and_a_rerun_finishes(tmp_path, written):
+def _frame_count(url) -> int:
+    """Frames committed so far, seen through a connection of our own (the run is elsewhere)."""
+    from sqlalchemy import func, select
+
+    from sharpzone.catalog.engine import create_catalog_engine
+
+    engine = create_catalog_engine(url)
+    try:
+        with engine.connect() as connection:
+            return connection.execute(select(func.count()).select_from(Frame)).scalar()
+    finally:
+        engine.dispose()
+
+
+def test_sigkill_mid_ingest_leaves_a_consistent_catalogue_and_a_rerun_finishes(tmp_path, written, catalog_url):
     for number in range(120):
         written(f"K{number:03d}.JPG", jpeg(exif_block()), tmp_path / "kill")
-    url = f"sqlite:///{tmp_path / 'kill.sqlite'}"
+    url = catalog_url
     with open_catalog(url):
         pass
     process = subprocess.Popen([sys.executable, "-c", KILLABLE, url, str(tmp_path / "kill")])
@@ -156,18 +171,20 @@ def test_sigkill_mid_ingest_leaves_a_consistent_catalogue_and_a_rerun_finishes(t
     committed = 0
     while time.monotonic() < deadline and committed < 20:
         time.sleep(0.05)
-        with sqlite3.connect(tmp_path / "kill.sqlite", timeout=30) as connection:
-            committed = connection.execute("select count(*) from frame").fetchone()[0]
+        committed = _frame_count(url)
     process.send_signal(signal.SIGKILL)
     process.wait()
     assert 20 <= committed < 120, "the run must be killed part-way"
-    with sqlite3.connect(tmp_path / "kill.sqlite") as connection:
-        assert connection.execute("pragma integrity_check").fetchone()[0] == "ok"
-        stored = connection.execute("select count(*) from frame").fetchone()[0]
+    path = sqlite_path(url)
+    if path is not None:
+        with sqlite3.connect(path) as connection:
+            assert connection.execute("pragma integrity_check").fetchone()[0] == "ok"
+    stored = _frame_count(url)
     assert stored % 10 == 0  # whole batches only
     with open_catalog(url) as catalog:
         rerun = ingest_paths(catalog, [tmp_path / "kill"], shoot="Killed", jobs=1)
     assert (rerun.added, rerun.unchanged) == (120 - stored, stored)
+    assert _frame_count(url) == 120
 
 
 CONCURRENT = textwrap.dedent("""
@@ -177,23 +194,43 @@ CONCURRENT = textwrap.dedent("""
     url, folder, shoot = sys.argv[1:4]
     with open_catalog(url) as catalog:
         result = ingest_paths(catalog, [folder], shoot=shoot, jobs=1, batch_size=5)
-    print(json.dumps({"added": result.added, "failed": len(result.failed)}))
+    print(json.dumps({"added": result.added, "updated": result.updated, "unchanged": result.unchanged,
+                      "failed": len(result.failed)}))
 """)
 
 
-def test_two_ingests_at_once_into_one_catalogue_both_complete(tmp_path, written):
+def _run_at_once(url, jobs: list[tuple[str, str]]) -> list[dict]:
+    """Start one ingest process per (folder, shoot) against a catalogue nobody created yet,
+    all at once; their JSON summaries."""
+    runs = [subprocess.Popen([sys.executable, "-c", CONCURRENT, url, folder, shoot], stdout=subprocess.PIPE, text=True)
+            for folder, shoot in jobs]
+    outputs = [run.communicate(timeout=180)[0] for run in runs]
+    assert [run.returncode for run in runs] == [0] * len(runs)
+    return [json.loads(output) for output in outputs]
+
+
+def test_two_ingests_at_once_into_one_catalogue_both_complete(tmp_path, written, catalog_url):
     for side in ("left", "right"):
         for number in range(40):
             written(f"{side}{number:02d}.JPG", jpeg(exif_block()), tmp_path / side)
-    url = f"sqlite:///{tmp_path / 'shared.sqlite'}"
-    runs = [subprocess.Popen([sys.executable, "-c", CONCURRENT, url, str(tmp_path / side), side],
-                             stdout=subprocess.PIPE, text=True) for side in ("left", "right")]
-    outputs = [json.loads(run.communicate(timeout=120)[0]) for run in runs]
-    assert [run.returncode for run in runs] == [0, 0]
-    assert outputs == [{"added": 40, "failed": 0}, {"added": 40, "failed": 0}]
-    with session_scope(url) as session:
+    outputs = _run_at_once(catalog_url, [(str(tmp_path / side), side) for side in ("left", "right")])
+    assert outputs == [{"added": 40, "updated": 0, "unchanged": 0, "failed": 0}] * 2
+    with session_scope(catalog_url) as session:
         assert session.query(Frame).count() == 80
         assert session.query(Body).count() == 1  # registered once, whoever came first
+
+
+def test_two_ingests_of_the_same_card_at_once_count_each_frame_once(tmp_path, written, catalog_url):
+    for number in range(40):
+        written(f"S{number:02d}.JPG", jpeg(exif_block()), tmp_path / "same")
+    outputs = _run_at_once(catalog_url, [(str(tmp_path / "same"), "Same")] * 2)
+    # Whichever run wrote a frame first added it; the other found it there, written
+    # (updated) or, when it looked after the first run had committed, unchanged.
+    assert sum(output["added"] for output in outputs) == 40
+    assert [output["added"] + output["updated"] + output["unchanged"] for output in outputs] == [40, 40]
+    assert [output["failed"] for output in outputs] == [0, 0]
+    with session_scope(catalog_url) as session:
+        assert session.query(Frame).count() == 40
 
 
 def test_cli_json_summary_and_strict(shoot_tree, tmp_path):

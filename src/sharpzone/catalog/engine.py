@@ -28,6 +28,8 @@ if TYPE_CHECKING:
 
 # How long a SQLite writer waits for another one before giving up with "database is locked".
 SQLITE_BUSY_TIMEOUT_MS = 30_000
+# Execution option: take SQLite's write lock when the transaction begins (see session_scope).
+WRITE_LOCK_OPTION = "sharpzone_write_lock"
 
 
 def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True, lock_on_begin: bool = False) -> Engine:
@@ -78,7 +80,8 @@ def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True, lock_o
 
         @event.listens_for(engine, "begin")
         def _begin(connection) -> None:
-            connection.exec_driver_sql("BEGIN IMMEDIATE" if lock_on_begin else "BEGIN")
+            immediate = lock_on_begin or connection.get_execution_options().get(WRITE_LOCK_OPTION, False)
+            connection.exec_driver_sql("BEGIN IMMEDIATE" if immediate else "BEGIN")
 
     return engine
 
@@ -132,14 +135,19 @@ class Catalog:
         return sqlite_path(self.url)
 
     @contextmanager
-    def session_scope(self) -> Iterator[Session]:
+    def session_scope(self, *, write: bool = False) -> Iterator[Session]:
         """One unit of work: commits once at the end, rolls back everything on any error.
 
+        ``write=True`` is for a unit that reads and then writes while other programs may
+        write too (an ingest batch): on SQLite it takes the write lock at the start, so
+        runs wait for each other (busy timeout) instead of failing because what they read
+        went stale. PostgreSQL needs nothing of the kind.
         Database errors come out as ``CatalogError`` or ``Conflict`` with a hint.
         """
         from sqlalchemy.exc import DBAPIError
 
-        session = self._sessions()
+        bind = self.engine.execution_options(**{WRITE_LOCK_OPTION: True}) if write else self.engine
+        session = self._sessions(bind=bind)
         try:
             yield session
             session.commit()

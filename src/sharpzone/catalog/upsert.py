@@ -56,7 +56,9 @@ def upsert_rows(
     the columns an existing row takes from the new one: ``None`` means every column the
     row gives except the keys, ``()`` leaves existing rows as they are (counted as kept).
     Within one call a later row with the same (named) key wins. Column defaults apply to
-    columns a row leaves out; rows may leave out different columns.
+    columns a row leaves out; rows may leave out different columns. Rows are written in
+    the order given: where other programs may write the same keys at the same time, give
+    them in key order, so that both lock rows in one order and wait instead of deadlocking.
     """
     table = model.__table__
     rows = _last_row_per_key([dict(row) for row in rows], key_columns)

@@ -87,7 +87,7 @@ def _ensure_shoot(catalog: Catalog, name: str, root: str) -> int:
 
     for attempt in range(2):
         try:
-            with catalog.session_scope() as session:
+            with catalog.session_scope(write=True) as session:
                 shoot = find_by_name(session, Shoot, name)
                 if shoot is None:
                     shoot = add_shoot(session, name, root_folder=root)
@@ -148,7 +148,7 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
         failed: list[tuple[str, str]] = []
         registered: list[str] = []
         try:
-            with catalog.session_scope() as session:
+            with catalog.session_scope(write=True) as session:
                 matcher = matcher_factory(session)
                 rows, problem_rows, read_ok = [], [], []
                 for result, candidate in batch:
@@ -165,6 +165,7 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
                     read_ok.append(shown)
                 # The database says which rows were new: exact even while another run
                 # ingests the same files into a shared catalogue.
+                rows.sort(key=lambda row: row["path"])  # one lock order for concurrent runs
                 written = upsert_rows(session, Frame, rows, ["path"])
                 added, updated = written.inserted, written.updated
                 touched = read_ok + [path for path, _ in failed]
@@ -189,7 +190,7 @@ def _update_user_distances(catalog: Catalog, changes: list[tuple[str, float]]) -
 
     from sharpzone.catalog.models import Frame
 
-    with catalog.session_scope() as session:
+    with catalog.session_scope(write=True) as session:
         for path, distance in changes:
             session.execute(update(Frame).where(Frame.path == path).values(focus_mm=distance, focus_source="user"))
 
@@ -324,7 +325,7 @@ def _prune(catalog: Catalog, paths: Iterable[str]) -> int:
     from sharpzone.catalog.models import Frame
 
     paths = list(paths)
-    with catalog.session_scope() as session:
+    with catalog.session_scope(write=True) as session:
         for start in range(0, len(paths), 500):
             session.execute(delete(Frame).where(Frame.path.in_(paths[start:start + 500])))
     return len(paths)
