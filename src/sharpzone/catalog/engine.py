@@ -19,7 +19,13 @@ from contextlib import contextmanager
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from sharpzone.catalog.location import display_url, resolve_catalog_url, sqlite_path
+from sharpzone.catalog.location import (
+    display_url,
+    refuse_raw_at_in_password,
+    resolve_catalog_url,
+    scrub_secrets,
+    sqlite_path,
+)
 from sharpzone.errors import CatalogError, Conflict, SharpzoneError
 
 if TYPE_CHECKING:
@@ -45,6 +51,7 @@ def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True, lock_o
     from sqlalchemy import create_engine, event
     from sqlalchemy.exc import ArgumentError, NoSuchModuleError
 
+    refuse_raw_at_in_password(url)
     try:
         engine = create_engine(url, pool_pre_ping=not url.startswith("sqlite"))
     except NoSuchModuleError as error:
@@ -57,7 +64,7 @@ def create_catalog_engine(url: str, *, enforce_foreign_keys: bool = True, lock_o
             f"the database driver for {display_url(url)!r} is not installed ({error.name})",
             hint="for PostgreSQL install the extra: pip install 'sharpzone[postgres]'",
         ) from None
-    except ArgumentError:
+    except (ArgumentError, ValueError):  # ValueError: a port that is not a number
         raise CatalogError(f"catalogue URL {display_url(url)!r} is not a database URL") from None
 
     if engine.dialect.name == "sqlite":
@@ -91,7 +98,8 @@ def translate_database_error(error: BaseException, url: str) -> SharpzoneError:
     from sqlalchemy import exc
 
     shown = display_url(url)
-    detail = " ".join(str(getattr(error, "orig", None) or error).split())
+    # The driver words these messages; make sure none repeats the URL's password.
+    detail = scrub_secrets(" ".join(str(getattr(error, "orig", None) or error).split()), url)
     lowered = detail.lower()
     path = sqlite_path(url) if url.startswith("sqlite") else None
     where = str(path) if path else shown
@@ -108,6 +116,26 @@ def translate_database_error(error: BaseException, url: str) -> SharpzoneError:
         return CatalogError(f"cannot open catalogue {where}", hint="check that its folder exists and is writable")
     if "file is not a database" in lowered or "malformed" in lowered:
         return CatalogError(f"{where} is not a sharpzone catalogue or is damaged ({detail})")
+    if "password authentication failed" in lowered or "no password supplied" in lowered:
+        return CatalogError(
+            f"catalogue {where}: the server refused the login ({detail})",
+            hint="give the password in the URL, in PGPASSWORD or in ~/.pgpass; README: shared catalogue on PostgreSQL",
+        )
+    if "fatal" in lowered and "does not exist" in lowered:
+        return CatalogError(
+            f"catalogue {where}: the server has no such database or user ({detail})",
+            hint="the studio's database owner creates them once, e.g. createdb -O USER DATABASE",
+        )
+    if "no schema has been selected" in lowered or "permission denied" in lowered:
+        return CatalogError(
+            f"catalogue {where}: the database user may not do this ({detail})",
+            hint="the studio's database owner can grant it, e.g. GRANT CREATE ON SCHEMA public TO the user",
+        )
+    if "connection refused" in lowered or "could not connect" in lowered or "failed to resolve host" in lowered:
+        return CatalogError(
+            f"cannot reach the catalogue server for {where} ({detail})",
+            hint="check the host and port in the URL and that the server is running",
+        )
     if "no such table" in lowered or "does not exist" in lowered:
         return CatalogError(f"catalogue {where} is incomplete or not a sharpzone catalogue ({detail})")
     return CatalogError(f"catalogue {where}: {detail}")

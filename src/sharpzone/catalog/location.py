@@ -10,12 +10,16 @@ from pathlib import Path
 from sharpzone.errors import InvalidValue
 
 ENV_VAR = "SHARPZONE_CATALOG"
+MIN_SCRUBBED_SECRET = 4
 DEFAULT_FILE_NAME = "catalog.sqlite"
 APP_NAME = "sharpzone"
 
 _URL_SCHEME = re.compile(r"^[a-zA-Z][a-zA-Z0-9+.\-]*://")
-# user:password@ in the authority part of a URL
-_PASSWORD_IN_URL = re.compile(r"^(?P<head>[^:/]+://[^:/@]*):(?P<password>[^@/]*)@")
+# user:password@ after the scheme, split the way SQLAlchemy splits it: the user name runs to
+# the first ":" or "/", the password to the next "@" (so it may hold "/", "?" and ":").
+_PASSWORD_IN_URL = re.compile(r"^(?P<head>[^:/]+://[^:/]*):(?P<password>[^@]*)@(?P<rest>.*)$", re.DOTALL)
+# password=… among the query parameters (handed on to the driver)
+_PASSWORD_IN_QUERY = re.compile(r"(?i)(?P<name>[?&](?:password|passwd|sslpassword)=)[^&#]*")
 
 
 def default_catalog_path() -> Path:
@@ -53,7 +57,7 @@ def sqlite_path(url: str) -> Path | None:
 
     try:
         parsed = make_url(url)
-    except ArgumentError:
+    except (ArgumentError, ValueError):  # ValueError: a port that is not a number
         raise InvalidValue(f"catalogue URL {display_url(url)!r} is not a database URL") from None
     if parsed.get_backend_name() != "sqlite":
         return None
@@ -64,5 +68,58 @@ def sqlite_path(url: str) -> Path | None:
 
 
 def display_url(url: str) -> str:
-    """``url`` with any password replaced by ``***``, safe to show and to put in errors."""
-    return _PASSWORD_IN_URL.sub(lambda m: f"{m.group('head')}:***@", str(url))
+    """``url`` with any password replaced by ``***``, safe to show and to put in errors.
+
+    Errs on the side of hiding: a password typed with a raw ``@`` in it (it should be
+    written ``%40``) is hidden up to the last ``@`` before the query."""
+    text = str(url)
+    match = _PASSWORD_IN_URL.match(text)
+    if match:
+        rest = match.group("rest")
+        before_query = rest.split("?", 1)[0]
+        if "@" in before_query:
+            rest = rest[before_query.rindex("@") + 1 :]
+        text = f"{match.group('head')}:***@{rest}"
+    return _PASSWORD_IN_QUERY.sub(lambda m: f"{m.group('name')}***", text)
+
+
+def refuse_raw_at_in_password(url: str) -> None:
+    """``InvalidValue`` when the URL's password holds a raw ``@``: SQLAlchemy would cut the
+    password there and take the rest for the host, and error messages would show it."""
+    match = _PASSWORD_IN_URL.match(str(url))
+    if match and "@" in match.group("rest").split("?", 1)[0]:
+        raise InvalidValue(
+            f"the password in catalogue URL {display_url(url)!r} holds a raw '@' or the host part does: "
+            "expected special characters in the password percent-encoded ('@' as %40, '/' as %2F)"
+        )
+
+
+def url_secrets(url: str | None) -> list[str]:
+    """The secrets a catalogue URL carries (its password, as written and decoded, and a
+    ``password=`` query value), longest first, for scrubbing them from any text. Secrets
+    shorter than ``MIN_SCRUBBED_SECRET`` characters are left out."""
+    from urllib.parse import unquote
+
+    if not url:
+        return []
+    text = str(url)
+    found = set()
+    match = _PASSWORD_IN_URL.match(text)
+    if match:
+        before_query = match.group("rest").split("?", 1)[0]
+        extra = before_query[: before_query.rindex("@")] if "@" in before_query else ""
+        for password in (match.group("password"), f"{match.group('password')}@{extra}" if extra else ""):
+            found.update((password, unquote(password)))
+    for query in _PASSWORD_IN_QUERY.finditer(text):
+        value = query.group(0)[len(query.group("name")):]
+        found.update((value, unquote(value)))
+    # Scrubbing a two-letter password out of free text would mangle every word holding it.
+    return sorted((secret for secret in found if len(secret) >= MIN_SCRUBBED_SECRET), key=len, reverse=True)
+
+
+def scrub_secrets(text: str, url: str | None) -> str:
+    """``text`` with every secret of ``url`` replaced by ``***`` (for error messages and
+    tracebacks whose wording a database driver chose)."""
+    for secret in url_secrets(url):
+        text = text.replace(secret, "***")
+    return text

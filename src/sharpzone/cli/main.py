@@ -21,6 +21,32 @@ def _one_line(text: str) -> str:
     return " ".join(str(text).split())
 
 
+def _catalog_location(argv: list[str]) -> str | None:
+    """The catalogue named by ``--catalog`` in ``argv`` or by the environment, if any."""
+    for index, arg in enumerate(argv):
+        if arg == "--catalog" and index + 1 < len(argv):
+            return argv[index + 1]
+        if arg.startswith("--catalog="):
+            return arg.split("=", 1)[1]
+    return os.environ.get("SHARPZONE_CATALOG")
+
+
+def _scrubbed(text: str, argv: list[str]) -> str:
+    """``text`` without the catalogue URL's password, whoever wrote it."""
+    from sharpzone.catalog.location import scrub_secrets
+
+    return scrub_secrets(text, _catalog_location(argv))
+
+
+def _print_traceback(error: BaseException, argv: list[str]) -> None:
+    """The traceback of ``error`` on stderr with the catalogue password scrubbed out: the
+    drivers' messages inside it are not ours to word."""
+    import traceback
+
+    text = "".join(traceback.format_exception(error))
+    sys.stderr.write(_scrubbed(text, argv))
+
+
 class SharpzoneGroup(TyperGroup):
     """The top-level command group: one clear line on stderr for any error we can explain.
 
@@ -46,14 +72,17 @@ class SharpzoneGroup(TyperGroup):
             code = error.exit_code
         except SharpzoneError as error:
             if debug:
-                raise
-            _say_error(_one_line(str(error)))
+                _print_traceback(error, argv)
+            _say_error(_one_line(_scrubbed(str(error), argv)))
             code = error.exit_code
         except BrokenPipeError:
             # The reader went away (``sharpzone frames | head``): say nothing, and keep
             # Python from complaining again when it flushes stdout at exit.
             devnull = os.open(os.devnull, os.O_WRONLY)
             os.dup2(devnull, sys.stdout.fileno())
+            code = 1
+        except Exception as error:  # noqa: BLE001 - a bug: its traceback, minus any password
+            _print_traceback(error, argv)
             code = 1
         if standalone_mode:
             sys.exit(code)
