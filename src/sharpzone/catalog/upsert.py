@@ -152,14 +152,17 @@ def _conflict_target(connection: Connection, table, key_columns) -> list:
     return [table.columns[key] if isinstance(key, str) else inline(key) for key in key_columns]
 
 
-def _on_conflict_insert(connection: Connection, table, batch, key_columns, update_columns):
-    """``INSERT … ON CONFLICT`` built with the connection's own dialect (SQLite or PostgreSQL)."""
+def _on_conflict_insert(connection: Connection, table, batch, key_columns, update_columns, source=None):
+    """``INSERT … ON CONFLICT`` built with the connection's own dialect (SQLite or
+    PostgreSQL); rows come as parameters, or from the ``source`` select when given."""
     if connection.dialect.name == "postgresql":
         from sqlalchemy.dialects.postgresql import insert
     else:
         from sqlalchemy.dialects.sqlite import insert
 
     statement = insert(table)
+    if source is not None:
+        statement = statement.from_select(list(batch[0]), source)
     changes = _changes(batch[0], key_columns, update_columns)
     target = _conflict_target(connection, table, key_columns)
     if changes:
@@ -169,17 +172,59 @@ def _on_conflict_insert(connection: Connection, table, batch, key_columns, updat
     return statement.on_conflict_do_nothing(index_elements=target)
 
 
-def _upsert_postgresql(connection: Connection, table, batch, key_columns, update_columns) -> UpsertResult:
-    from sqlalchemy import literal_column
+# The batch is copied into this temporary table, then moved with one INSERT … SELECT.
+STAGING_TABLE = "sharpzone_incoming"
 
-    statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns)
+
+def _upsert_postgresql(connection: Connection, table, batch, key_columns, update_columns) -> UpsertResult:
+    """PostgreSQL's own bulk path: ``COPY`` the batch into a temporary table, then one
+    ``INSERT … SELECT … ON CONFLICT``. A statement with thousands of parameters instead
+    costs more to build and parse than the insert itself."""
+    from sqlalchemy import column, literal_column, select
+    from sqlalchemy import table as table_clause
+
     # xmax is 0 for a row this statement inserted and the updating transaction otherwise;
     # rows left alone by DO NOTHING return nothing.
-    flags = connection.execute(statement.returning(literal_column("(xmax = 0)").label("inserted")), batch).scalars().all()
+    inserted_flag = literal_column("(xmax = 0)").label("inserted")
+    names = list(batch[0])
+    if _python_defaults_left_out(table, names):  # the ordinary path fills them in
+        statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns)
+        flags = connection.execute(statement.returning(inserted_flag), batch).scalars().all()
+    else:
+        _copy_to_staging(connection, table, names, batch)
+        staging = table_clause(STAGING_TABLE, column("sharpzone_ordinal"), *(column(name) for name in names))
+        source = select(*(staging.c[name] for name in names)).order_by(staging.c.sharpzone_ordinal)
+        statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns, source=source)
+        flags = connection.execute(statement.returning(inserted_flag)).scalars().all()
+        connection.exec_driver_sql(f"DROP TABLE {STAGING_TABLE}")
     inserted = sum(1 for flag in flags if flag)
     if _changes(batch[0], key_columns, update_columns):
         return UpsertResult(inserted=inserted, updated=len(flags) - inserted)
     return UpsertResult(inserted=inserted, kept=len(batch) - inserted)
+
+
+def _python_defaults_left_out(table, names: list[str]) -> bool:
+    """Whether a column the rows leave out has a default only SQLAlchemy knows."""
+    return any(column.default is not None and column.server_default is None and column.name not in names
+               for column in table.columns)
+
+
+def _copy_to_staging(connection: Connection, table, names: list[str], batch: list[dict]) -> None:
+    """A temporary table shaped like ``table``'s ``names`` columns (plus the rows' order),
+    filled by ``COPY`` through psycopg."""
+    quote = connection.dialect.identifier_preparer.quote
+    columns = ", ".join(quote(name) for name in names)
+    connection.exec_driver_sql(
+        f"CREATE TEMPORARY TABLE {STAGING_TABLE} ON COMMIT DROP AS "
+        f"SELECT 0 AS sharpzone_ordinal, {columns} FROM {quote(table.name)} WITH NO DATA"
+    )
+    cursor = connection.connection.driver_connection.cursor()
+    try:
+        with cursor.copy(f"COPY {STAGING_TABLE} (sharpzone_ordinal, {columns}) FROM STDIN") as copy:
+            for ordinal, row in enumerate(batch):
+                copy.write_row((ordinal, *(_storage_value(row[name]) for name in names)))
+    finally:
+        cursor.close()
 
 
 def _execute_sqlite(connection: Connection, statement, batch: list[dict]) -> None:
@@ -191,12 +236,13 @@ def _execute_sqlite(connection: Connection, statement, batch: list[dict]) -> Non
     if not set(order) <= set(batch[0]):
         connection.execute(statement, batch)
         return
-    connection.exec_driver_sql(str(compiled), [tuple(_driver_value(row[name]) for name in order) for row in batch])
+    connection.exec_driver_sql(str(compiled), [tuple(_storage_value(row[name]) for name in order) for row in batch])
 
 
-def _driver_value(value):
-    """A value in SQLAlchemy's storage form for SQLite, so rows written by
-    ``_execute_sqlite`` read back like any other (datetimes as wall-clock text)."""
+def _storage_value(value):
+    """A value as the drivers take it below SQLAlchemy (sqlite3's executemany, psycopg's
+    COPY): datetimes as wall-clock text in SQLAlchemy's storage form, so rows written this
+    way read back like any other."""
     import datetime as dt
 
     if isinstance(value, dt.datetime):
