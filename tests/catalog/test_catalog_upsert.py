@@ -123,3 +123,22 @@ def test_sequences_can_be_put_right_after_hand_written_ids(catalog):
 def test_nothing_to_write_touches_nothing(catalog_url):
     with open_catalog(catalog_url) as catalog, catalog.session_scope() as session:
         assert upsert_rows(session, Frame, [], ["path"]) == UpsertResult()
+
+
+def test_text_with_tabs_newlines_backslashes_and_quotes_arrives_intact(catalog):
+    # PostgreSQL's bulk path goes through COPY's text format, where these characters are special.
+    awkward = "tab\there\\N back\\slash 'quote' \"double\" new\nline ∞ café \\."
+    with catalog.session_scope() as session:
+        upsert_rows(session, Frame, [frame_row(1, path=f"/cards/{awkward}.jpg", warnings=awkward, file_size=2**40)],
+                    ["path"])
+    (frame,) = frames_by_path(catalog).values()
+    assert (frame.path, frame.warnings, frame.file_size) == (f"/cards/{awkward}.jpg", awkward, 2**40)
+
+
+def test_defaults_only_python_knows_are_filled_in(catalog):
+    from sharpzone.catalog.models import Shoot
+
+    with catalog.session_scope() as session:  # Shoot.created_at has no server-side default
+        assert upsert_rows(session, Shoot, [{"name": "Quay"}, {"name": "Dock"}], ["name"]).inserted == 2
+    with catalog.session_scope() as session:
+        assert all(shoot.created_at is not None for shoot in session.scalars(select(Shoot)))
