@@ -3,7 +3,8 @@
 ``upsert_rows`` is the one place where the catalogue writes rows in bulk (bundle import,
 ingest batches). SQLite and PostgreSQL both have ``INSERT … ON CONFLICT (key) DO UPDATE``,
 but SQLAlchemy builds it with each dialect's own ``insert``; anything else gets a plain
-look-up-then-write loop. On PostgreSQL the rows travel in multi-row statements, and
+look-up-then-write loop. SQLite gets the rows through sqlite3's executemany. PostgreSQL
+gets them by ``COPY`` into a temporary table and one ``INSERT … SELECT``, whose
 ``RETURNING (xmax = 0)`` tells inserted rows from updated ones exactly, even while other
 programs write to the same catalogue.
 
@@ -75,8 +76,8 @@ def upsert_rows(
         elif dialect == "postgresql":
             result += _upsert_postgresql(connection, table, batch, key_columns, update_columns)
         elif dialect == "sqlite":
-            # SQLite lets one writer in at a time (a stale reader's write fails), so counting
-            # the keys already there in the same transaction is exact.
+            # SQLite lets one writer in at a time, and a transaction that read before another
+            # one's commit cannot write at all, so counting the keys already there is exact.
             statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns)
             if _names(key_columns) is not None:
                 present = _count_present(connection, table, batch, key_columns)
