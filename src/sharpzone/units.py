@@ -67,7 +67,12 @@ def _checked(value_mm: float, original: object, what: str) -> float:
 
 def parse_length_mm(text: str | float | int, *, what: str = "length") -> float:
     """Parse a small optical length (focal length, CoC, pixel pitch): a bare number is mm."""
-    return parse_distance(text, default_unit="mm", what=what)
+    try:
+        return parse_distance(text, default_unit="mm", what=what)
+    except InvalidValue as error:
+        if "is not a distance" in error.message:
+            raise InvalidValue(f"{what} {text!r} is not a length: expected millimetres such as 50 or 0.03mm") from None
+        raise
 
 
 def format_distance(value_mm: float | None, *, imperial: bool = False, digits: int = 3) -> str:

@@ -234,7 +234,7 @@ def test_edit_shoot_switches_plan_kind_and_keeps_the_other_limit(catalog_session
 @pytest.mark.parametrize(
     ("kwargs", "message"),
     [
-        ({"near_mm": 9000, "far_mm": 4000}, r"far limit 4000 mm must be beyond the near limit 9000 mm"),
+        ({"near_mm": 9000, "far_mm": 4000}, r"far limit 4.00 m must be beyond the near limit 9.00 m"),
         ({"near_mm": 4000}, "a range plan needs both the near and the far limit"),
         ({"near_mm": 1, "far_mm": 2, "front_mm": 1, "back_mm": 1}, "not both"),
         ({"front_mm": 0, "back_mm": 0}, "must not be zero in front and behind"),

@@ -95,7 +95,7 @@ def test_lens_edit_alias_and_remove(cli):
         (("format", "add", "36X24", "--width", "36", "--height", "24"), 1, "already answers to the name '36X24'"),
         (("body", "add", "K1", "--make", "Korvath", "--model", "K1", "--format", "half-plate"), 2, "no sensor format 'half-plate'"),
         (("body", "add", "K1", "--make", "Korvath", "--model", "K1", "--format", "36x24", "--pixels", "big"), 2, "--pixels: 'big'"),
-        (("shoot", "add", "S", "--near", "9m", "--far", "4m"), 2, "far limit 4000 mm must be beyond the near limit 9000 mm"),
+        (("shoot", "add", "S", "--near", "9m", "--far", "4m"), 2, "far limit 4.00 m must be beyond the near limit 9.00 m"),
         (("shoot", "add", "S", "--near", "4m", "--far", "9m", "--front", "1m", "--back", "1m"), 2, "not both"),
         (("shoot", "add", "S", "--near", "four metres", "--far", "9m"), 2, "--near: value 'four metres' is not a distance"),
         (("shoot", "add", "S", "--coc-policy", "crisp"), 2, "CoC policy 'crisp' is not valid"),

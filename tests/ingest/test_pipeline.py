@@ -255,3 +255,14 @@ def test_non_utf8_file_name_is_ingested(tmp_path, written, catalog_url):
     assert result.added == 1 and again.unchanged == 1
     with session_scope(catalog_url) as session:
         assert session.query(Frame).one().path.endswith("caf\\xe9.jpg")
+
+
+def test_nothing_to_ingest_is_refused_before_anything_is_written(tmp_path):
+    url = str(tmp_path / "c.sqlite")
+    result = CliRunner().invoke(app, ["--catalog", url, "ingest", str(tmp_path / "no-such-card")])
+    assert result.exit_code == 2 and "does not exist" in result.stderr
+    with session_scope(url) as session:
+        assert session.query(Frame).count() == 0
+        from sharpzone.catalog.models import Shoot
+
+        assert session.query(Shoot).count() == 0

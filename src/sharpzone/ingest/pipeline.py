@@ -229,8 +229,13 @@ def ingest_paths(
     jobs = jobs or os.cpu_count() or 1
     matcher_factory = matcher_factory or CatalogMatcher
     roots = [os.path.abspath(os.fsdecode(p)) for p in paths]
+    existing = [root for root in roots if os.path.lexists(root)]
+    if not existing:
+        shown = ", ".join(printable_path(root) for root in roots)
+        raise InvalidValue(f"nothing to ingest: {shown} does not exist" if len(roots) == 1
+                           else f"nothing to ingest: none of {shown} exists")
     user_distances = read_user_distances(distances_csv) if distances_csv else {}
-    shoot_name = shoot or default_shoot_name(roots)
+    shoot_name = shoot or default_shoot_name(existing)
     summary = IngestSummary(shoot=shoot_name)
     shoot_id = _ensure_shoot(catalog, shoot_name, roots[0])
     notify = progress or (lambda stage, done, total: None)

@@ -26,6 +26,7 @@ from sharpzone.catalog.service._common import (
     require_name_free,
 )
 from sharpzone.errors import Conflict, InvalidValue
+from sharpzone.units import format_distance
 
 _PLAN_FIELDS = ("plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
 
@@ -176,7 +177,8 @@ def _set_plan(shoot, near, far, front, back, *, range_given=None, depth_given=No
         near = positive(near, f"{label}: near limit", "mm")
         far = positive(far, f"{label}: far limit", "mm", allow_inf=True)
         if far <= near:
-            raise InvalidValue(f"{label}: far limit {far:g} mm must be beyond the near limit {near:g} mm")
+            raise InvalidValue(f"{label}: far limit {format_distance(far)} must be beyond the near limit "
+                               f"{format_distance(near)}")
         kind, values["plan_near_mm"], values["plan_far_mm"] = "range", near, far
     elif front is not None or back is not None:
         if front is None or back is None:
