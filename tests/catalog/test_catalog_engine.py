@@ -156,3 +156,21 @@ def test_catalogue_path_that_is_a_folder_is_refused(tmp_path):
     with pytest.raises(CatalogError, match="is a folder"):
         with open_catalog(tmp_path):
             pass
+
+
+def test_a_writing_unit_of_work_holds_sqlite_write_lock_from_the_start(tmp_path):
+    # Two ingests at once must queue for the lock, not fail on what they read before it.
+    path = tmp_path / "lock.sqlite"
+    with open_catalog(path) as catalog:
+        with catalog.session_scope(write=True) as session:
+            session.execute(select(func.count()).select_from(Lens))  # a read only, yet locked
+            other = sqlite3.connect(path, timeout=0, isolation_level=None)
+            with pytest.raises(sqlite3.OperationalError, match="locked"):
+                other.execute("BEGIN IMMEDIATE")
+            other.close()
+        with catalog.session_scope() as session:  # a plain unit of work takes no lock to read
+            session.execute(select(func.count()).select_from(Lens))
+            other = sqlite3.connect(path, timeout=0, isolation_level=None)
+            other.execute("BEGIN IMMEDIATE")
+            other.rollback()
+            other.close()

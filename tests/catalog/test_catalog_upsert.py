@@ -142,3 +142,18 @@ def test_defaults_only_python_knows_are_filled_in(catalog):
         assert upsert_rows(session, Shoot, [{"name": "Quay"}, {"name": "Dock"}], ["name"]).inserted == 2
     with catalog.session_scope() as session:
         assert all(shoot.created_at is not None for shoot in session.scalars(select(Shoot)))
+
+
+def test_the_row_by_row_path_for_other_databases_gives_the_same_result(catalog):
+    from sharpzone.catalog.upsert import _upsert_one_by_one
+
+    with catalog.session_scope() as session:
+        connection = session.connection()
+        table = Frame.__table__
+        assert _upsert_one_by_one(connection, table, [frame_row(1), frame_row(2)], ["path"], None) == UpsertResult(2)
+        again = _upsert_one_by_one(connection, table, [frame_row(1, iso=800), frame_row(3)], ["path"], None)
+        assert again == UpsertResult(inserted=1, updated=1)
+        kept = _upsert_one_by_one(connection, table, [frame_row(1, iso=50)], ["path"], ())
+        assert kept == UpsertResult(kept=1)
+    stored = frames_by_path(catalog)
+    assert len(stored) == 3 and stored["/cards/a/000001.jpg"].iso == 800
