@@ -167,3 +167,17 @@ def test_wrong_password_is_one_line_naming_the_fix_and_not_the_password(password
         assert result.exit_code == 1
         assert "refused the login" in result.stderr and "PGPASSWORD" in result.stderr
         assert wrong not in result.output + result.stderr
+
+
+def test_missing_database_and_missing_rights_name_the_fix(postgres_url, password_role):
+    missing = make_url(postgres_url).set(database="sharpzone_no_such_db").render_as_string(hide_password=False)
+    result = CliRunner().invoke(app, ["--catalog", missing, "catalog", "info"])
+    assert result.exit_code == 1 and "no such database or user" in result.stderr and "createdb" in result.stderr
+    admin = create_engine(postgres_url)
+    with admin.begin() as connection:
+        connection.execute(text(f"REVOKE CREATE ON SCHEMA public FROM {ROLE}"))
+    admin.dispose()
+    url = make_url(password_role).set(password=ROLE_PASSWORD).render_as_string(hide_password=False)
+    result = CliRunner().invoke(app, ["--catalog", url, "catalog", "info"])
+    assert result.exit_code == 1 and "may not do this" in result.stderr and "GRANT CREATE" in result.stderr
+    assert len(result.stderr.strip().splitlines()) == 1
