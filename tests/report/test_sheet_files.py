@@ -233,3 +233,16 @@ def test_facts_say_when_close_focus_is_not_catalogued():
     assert facts["Lens"] == ("Korvath 85/1.4: 85 mm, f/1.4 to f/16, close focus not catalogued "
                              "(the rows start at 10 × the focal length)")
     assert dict(sheet_facts(build_sheet(ZOOM, choose_coc())))["Lens"].endswith("24–70 mm, f/2.8 to f/22, close focus 38 cm")
+
+
+def test_each_page_states_the_close_up_remark_of_its_own_focal_length():
+    from sharpzone.report.sheet_text import sheet_facts
+
+    # A thin 105 mm lens focused 45 cm from the sensor is near 4 f, so at 0.59×; the same
+    # distance with 24 mm is 0.06×, below the close-up threshold (0.1×) of the optics core.
+    lens = LensSpec("Altamira 24-105/4", 24, 105, 4, 4, 22, 450)
+    sheet = build_sheet(lens, choose_coc())
+    assert "Close-up" not in dict(sheet_facts(sheet, table=sheet.tables[0]))
+    tele = dict(sheet_facts(sheet, table=sheet.tables[-1]))
+    assert tele["Close-up"].startswith("0.59× at 45 cm (105 mm)")
+    assert dict(sheet_facts(sheet))["Close-up"] == tele["Close-up"]

@@ -109,7 +109,7 @@ def _page_figure(sheet: Sheet, table: FocalTable, *, imperial: bool):
         _draw_table(figure.add_axes((0.03, 0.335, 0.94, 0.255)), column_slice(text, 0, half))
         _draw_table(figure.add_axes((0.03, 0.065, 0.94, 0.255)), column_slice(text, half, columns))
     _draw_chart(chart, sheet, table, imperial=imperial)
-    _draw_facts(figure, sheet, imperial=imperial, x=0.655, top=0.915)
+    _draw_facts(figure, sheet, table, imperial=imperial, x=0.655, top=0.915)
     figure.text(0.03, 0.04, table_caption(sheet), fontsize=7.5, color=INK)
     figure.text(0.03, 0.018, sheet.caveat, fontsize=7.5, color=INK, style="italic")
     return figure
@@ -219,13 +219,13 @@ def _round_ticks(low_mm: float, high_mm: float, *, imperial: bool) -> list[float
     return ticks
 
 
-def _draw_facts(figure, sheet: Sheet, *, imperial: bool, x: float, top: float):
+def _draw_facts(figure, sheet: Sheet, table: FocalTable, *, imperial: bool, x: float, top: float):
     """The facts block beside the chart: bold labels in one column, wrapped text beside."""
     import textwrap
 
     line_height = 0.0152
     y = top
-    for label, value in sheet_facts(sheet, imperial=imperial):
+    for label, value in sheet_facts(sheet, imperial=imperial, table=table):
         lines = textwrap.wrap(value, 42)
         figure.text(x, y, label, fontsize=7, fontweight="bold", color=INK, va="top")
         figure.text(x + 0.102, y, "\n".join(lines), fontsize=7, color=INK, va="top", linespacing=1.3)

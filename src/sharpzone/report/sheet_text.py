@@ -98,9 +98,10 @@ def sheet_title(sheet: Sheet) -> str:
     return f"Sharp-zone sheet: {sheet.lens.name}"
 
 
-def sheet_facts(sheet: Sheet, *, imperial: bool = False) -> list[tuple[str, str]]:
+def sheet_facts(sheet: Sheet, *, imperial: bool = False, table: FocalTable | None = None) -> list[tuple[str, str]]:
     """What the sheet assumes, as (label, text) pairs: lens, format, CoC, reference, stops,
-    diffraction limit. Every number carries its unit."""
+    diffraction limit, and close-up remarks for ``table`` (a page of one focal length) or
+    for the sheet's closest-focusing table. Every number carries its unit."""
     lens = sheet.lens
     widest = (format_f_number(lens.max_aperture_wide) if lens.max_aperture_wide == lens.max_aperture_tele
               else f"{format_f_number(lens.max_aperture_wide)}–{lens.max_aperture_tele:g}")
@@ -119,12 +120,12 @@ def sheet_facts(sheet: Sheet, *, imperial: bool = False) -> list[tuple[str, str]
         ("f-numbers", f"{sheet.stops} stops from wide open (marked values)"),
         ("Diffraction", f"past f/{sheet.diffraction_limited_f_number:.1f} the Airy disk (550 nm) outgrows the CoC; "
                         f"columns marked {DIFFRACTION_MARK} are past it"),
-    ] + _nearest_row_fact(sheet, imperial=imperial) + _closeup_fact(sheet, imperial=imperial)
+    ] + _nearest_row_fact(sheet, imperial=imperial, table=table) + _closeup_fact(sheet, imperial=imperial, table=table)
 
 
-def _closeup_fact(sheet: Sheet, *, imperial: bool) -> list[tuple[str, str]]:
+def _closeup_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) -> list[tuple[str, str]]:
     """Where the nearest rows are close-up work, the light loss and earlier diffraction."""
-    closest = max(sheet.tables, key=lambda table: float(table.magnification[0]))
+    closest = table or max(sheet.tables, key=lambda each: float(each.magnification[0]))
     magnification = float(closest.magnification[0])
     if magnification < CLOSEUP_MAGNIFICATION:
         return []
@@ -135,8 +136,8 @@ def _closeup_fact(sheet: Sheet, *, imperial: bool) -> list[tuple[str, str]]:
              f"f/{sheet.diffraction_limited_f_number / factor:.1f}")]
 
 
-def _nearest_row_fact(sheet: Sheet, *, imperial: bool) -> list[tuple[str, str]]:
-    raised = [table for table in sheet.tables if table.close_focus_raised]
+def _nearest_row_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) -> list[tuple[str, str]]:
+    raised = [each for each in ([table] if table else sheet.tables) if each.close_focus_raised]
     if not raised or sheet.lens.close_focus_mm is None:
         return []
     focal = ", ".join(f"{table.focal_mm:g} mm" for table in raised)
@@ -308,13 +309,14 @@ def _past_class(past: bool) -> str:
 def render_html(sheet: Sheet, *, imperial: bool = False) -> str:
     """The sheet as one self-contained HTML page that prints one focal length per page."""
     esc = html.escape
-    facts = "".join(f"<dt>{esc(label)}</dt><dd>{esc(text)}</dd>" for label, text in sheet_facts(sheet, imperial=imperial))
     parts = [
         "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
         f"<title>{esc(sheet_title(sheet))}</title>", f"<style>{_HTML_STYLE}</style>", "</head>", "<body>",
     ]
     for table in sheet.tables:
         text = table_text(sheet, table, imperial=imperial)
+        facts = "".join(f"<dt>{esc(label)}</dt><dd>{esc(value)}</dd>"
+                        for label, value in sheet_facts(sheet, imperial=imperial, table=table))
         size, stacked = html_table_layout(text)
         table_class = ' class="stacked"' if stacked else ""
         marked = [False, *text.marked_columns]
