@@ -32,6 +32,8 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
+from sharpzone.ingest.records import FOCUS_SOURCES  # one list for the readers and the catalogue
+
 if TYPE_CHECKING:
     from sharpzone.optics.formats import SensorFormat
 
@@ -46,7 +48,6 @@ NAMING_CONVENTION = {
 }
 
 NAME_LENGTH = 200
-FOCUS_SOURCES = ("user", "exif", "xmp", "none")
 PLAN_KINDS = ("range", "depth")
 
 

@@ -7,14 +7,13 @@ import math
 import os
 
 from sharpzone.errors import InvalidValue
-from sharpzone.ingest.records import FileReadError, os_error_reason, printable_path
+from sharpzone.ingest.records import FOCUS_SOURCES, FileReadError, os_error_reason, printable_path
 from sharpzone.units import DISTANCE_HELP, parse_distance
 
 _PATH_COLUMNS = ("path", "file")
 _DISTANCE_COLUMN = "distance"
 
 # Where a frame's focus distance came from, strongest first.
-FOCUS_SOURCES = ("user", "exif", "xmp")
 
 
 def read_user_distances(csv_path: str | os.PathLike) -> dict[str, float]:
@@ -98,7 +97,7 @@ def choose_focus_distance(
     user_mm: float | None, exif_mm: float | None, xmp_mm: float | None
 ) -> tuple[float | None, str]:
     """(focus distance in mm, source): the user's value, else EXIF, else the XMP sidecar, else none."""
-    for source, value in zip(FOCUS_SOURCES, (user_mm, exif_mm, xmp_mm)):
+    for source, value in zip(FOCUS_SOURCES[:3], (user_mm, exif_mm, xmp_mm)):
         if value is not None and not (isinstance(value, float) and math.isnan(value)):
             return value, source
     return None, "none"

@@ -8,6 +8,9 @@ from datetime import datetime
 
 from sharpzone.errors import ReadError
 
+# Where a frame's focus distance came from, in order of precedence; "none" when nowhere.
+FOCUS_SOURCES = ("user", "exif", "xmp", "none")
+
 
 def printable_path(path: str | bytes) -> str:
     """A path that always prints: undecodable bytes in a file name show as ``\\xNN``.
