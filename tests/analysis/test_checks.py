@@ -8,11 +8,12 @@ import math
 import numpy as np
 import pytest
 
-from sharpzone.analysis.checks import Requirement, check_frames, describe_flag
+from sharpzone.analysis.checks import Requirement, check_frames
 from sharpzone.analysis.zones import add_zones
 from sharpzone.optics import plan_focus_stack, sharp_zone
 from sharpzone.optics.coc import FixedCoc
 from sharpzone.optics.stops import next_wider, round_up_to_stop
+from sharpzone.report.verdicts import describe_flag
 from tests.analysis.frames_factory import frames_frame
 
 COC = FixedCoc(0.03)

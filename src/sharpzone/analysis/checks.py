@@ -5,7 +5,7 @@ A requirement is either an absolute range (everything from ``near`` to ``far``, 
 the sensor) or a subject depth around each frame's focus point (``front`` in front of it,
 ``back`` behind it). It comes from the command line or from each frame's shoot plan.
 
-Verdict codes (the machine interface; words for people come from ``describe_flag``):
+Verdict codes (the machine interface; words for people come from ``report.verdicts.describe_flag``):
 
 ``distance-unknown``  no focus distance: cannot judge
 ``settings-unknown``  focal length, f-number or format unknown: cannot judge
@@ -28,7 +28,7 @@ from sharpzone.errors import InvalidValue
 from sharpzone.optics.dof import sharp_zone
 from sharpzone.optics.planning import best_focus_for_range, f_number_for_range, stack_frame_counts
 from sharpzone.optics.stops import round_up_to_stops
-from sharpzone.units import format_distance, format_f_number
+from sharpzone.units import format_distance
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -215,46 +215,3 @@ def _outside_plan(frames: pd.DataFrame, focus, coc, pupil, usable) -> np.ndarray
         subject = focus[rows]
         outside[rows] = (subject < zone.near_mm * (1 - 1e-9)) | (subject > zone.far_mm * (1 + 1e-9))
     return outside
-
-
-def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
-    """One sentence for people: what went wrong with this frame and what would have worked."""
-    def dist(value):
-        return format_distance(value, imperial=imperial)
-
-    if flag == "distance-unknown":
-        recorded = row.get("focus_mm")
-        if recorded is not None and recorded == recorded:
-            return (f"recorded focus distance {dist(recorded)} is nearer than a {row['focal_mm']:g} mm lens can "
-                    "focus (4 × its focal length from the sensor) — cannot judge; check the lens's focal length")
-        return ("focus distance unknown — cannot judge; give it with --distances FILE.csv at ingest "
-                "or a sidecar")
-    if flag == "settings-unknown":
-        return "focal length, f-number or sensor format unknown — cannot judge; confirm the body and lens"
-    if flag == "no-requirement":
-        return "nothing says what had to be sharp — set the shoot's plan or give --near/--far or --front/--back"
-    required = f"{dist(row['required_near_mm'])}–{dist(row['required_far_mm'])}"
-    if flag == "too-wide-open":
-        text = f"shot too wide open for {required}: {format_f_number(row['needed_f_number'])} would have held it"
-        notes = []
-        if row["needed_f_number"] > row["max_f_number"]:
-            which = "this lens's" if row.get("lens_min_known", False) else "the usual"
-            notes.append(f"past {which} narrowest {format_f_number(row['max_f_number'])}")
-        if row["needed_f_number"] > row["diffraction_f_number"]:
-            notes.append(f"into diffraction beyond about f/{row['diffraction_f_number']:.0f}")
-        return text + (f" ({'; '.join(notes)})" if notes else "")
-    if flag == "focus-misplaced":
-        return (f"focus placed wrong for {required}: focusing at {dist(row['better_focus_mm'])} with "
-                f"{format_f_number(row['better_f_number'])} would have held it")
-    if flag == "out-of-reach":
-        frames = row["stack_frames"]
-        if frames is None or np.isnan(frames) or frames < 0:
-            return f"out of reach at {row['focal_mm']:g} mm: {required} cannot be held; step back or widen the lens"
-        return (f"out of reach at {row['focal_mm']:g} mm with one frame: a focus stack of {int(frames)} frames "
-                f"at {format_f_number(row['f_number'])} would hold {required}")
-    if flag == "past-diffraction":
-        return (f"stopped down past the diffraction limit (about f/{row['diffraction_f_number']:.1f} here): "
-                "the plane of focus is softer than the CoC allows")
-    if flag == "outside-plan":
-        return f"subject at {dist(row['focus_mm'])} lies outside the zone the plan's settings give"
-    raise ValueError(f"unknown flag {flag!r}")

@@ -7,14 +7,13 @@ inside one unit of work, and hands the result to ``sharpzone.report.catalog_tabl
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator
-from contextlib import contextmanager
 from dataclasses import dataclass
 from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.options import distance_option, f_number_option, length_option
+from sharpzone.cli.options import ImperialOpt, distance_option, f_number_option, length_option
+from sharpzone.cli.state import catalog_session, echo_json
 from sharpzone.errors import InvalidValue
 from sharpzone.units import DISTANCE_HELP
 
@@ -34,24 +33,8 @@ def register(app: typer.Typer) -> None:
     app.add_typer(catalog_app, name="catalog")
 
 
-@contextmanager
-def _unit_of_work(ctx: typer.Context) -> Iterator:
-    """One session on the catalogue chosen by --catalog / SHARPZONE_CATALOG, committed once."""
-    from sharpzone.catalog.engine import session_scope
-
-    state = ctx.find_root().obj
-    with session_scope(state.catalog if state is not None else None) as session:
-        yield session
-
-
 def _say(text: str) -> None:
     typer.echo(text)
-
-
-def _json(value) -> None:
-    from sharpzone.report.jsonout import dumps
-
-    typer.echo(dumps(value))
 
 
 @dataclass(frozen=True)
@@ -95,7 +78,7 @@ def _show(row, noun: str, *, as_json: bool = False, imperial: bool = False, titl
 
     fields = _fields_of(noun)
     if as_json:
-        _json(catalog_tables.row_json(row, fields))
+        echo_json(catalog_tables.row_json(row, fields))
     else:
         catalog_tables.render_record(row, fields, title=title or f"{noun.capitalize()} {row.name}", imperial=imperial)
 
@@ -105,11 +88,11 @@ def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool) -> N
     from sharpzone.report import catalog_tables
 
     spec = _NOUNS[noun]
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         rows = getattr(service, spec.list_function)(session)
     fields = _fields_of(noun)
     if as_json:
-        _json([catalog_tables.row_json(row, fields) for row in rows])
+        echo_json([catalog_tables.row_json(row, fields) for row in rows])
     else:
         catalog_tables.render_rows(rows, fields, title=spec.plural_title, empty=spec.empty, imperial=imperial)
 
@@ -117,7 +100,7 @@ def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool) -> N
 def _run_show(ctx: typer.Context, noun: str, name: str, as_json: bool, imperial: bool) -> None:
     from sharpzone.catalog import service
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = getattr(service, _NOUNS[noun].get_function)(session, name)
     _show(row, noun, as_json=as_json, imperial=imperial)
 
@@ -153,7 +136,6 @@ for _noun, _group in (("format", format_app), ("body", body_app), ("lens", lens_
 # ---- option types ----------------------------------------------------------------------
 
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (lengths in mm, distances in metres, infinity as \"inf\").")]
-ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
 NewNameOpt = Annotated[Optional[str], typer.Option("--name", help="A new name.")]
 _RANGE = re.compile(r"^\s*([^-–]+?)\s*(?:[-–]\s*(.+?))?\s*$")
 
@@ -216,7 +198,7 @@ def format_add(
 
     if width is None or height is None:
         raise InvalidValue("format add needs --width and --height (mm)")
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = add_format(
             session, name, length_option(width, "--width"), length_option(height, "--height"),
             coc_divisor=1500.0 if coc_divisor is None else _number_option(coc_divisor, "coc-divisor"), aliases=alias or [],
@@ -240,7 +222,7 @@ def format_edit(
     """Change a sensor format; bodies of this format follow."""
     from sharpzone.catalog.service import edit_format
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = edit_format(
             session, name, new_name=new_name, width_mm=_maybe(length_option, width, "--width"),
             height_mm=_maybe(length_option, height, "--height"),
@@ -255,7 +237,7 @@ def format_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="
     """Remove a sensor format no body uses."""
     from sharpzone.catalog.service import remove_format
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         remove_format(session, name)
     _say(f"Removed format {name}.")
 
@@ -287,7 +269,7 @@ def body_add(
     if make is None or model is None or format is None:
         raise InvalidValue("body add needs --make, --model (as EXIF writes them) and --format")
     width, height = _pixels_option(pixels)
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = add_body(session, name, exif_make=make, exif_model=model, format_name=format, serial=serial,
                        pixel_width=width, pixel_height=height, confirmed=not unconfirmed)
     _show(row, "body", title=f"Added body {row.name}")
@@ -309,7 +291,7 @@ def body_edit(
     from sharpzone.catalog.service import edit_body
 
     width, height = _pixels_option(pixels)
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = edit_body(session, name, new_name=new_name, exif_make=make, exif_model=model, serial=serial,
                         format_name=format, pixel_width=width, pixel_height=height, confirmed=confirmed)
     _show(row, "body", title=f"Changed body {row.name}")
@@ -320,7 +302,7 @@ def body_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Bo
     """Remove a camera body; frames taken with it need --reassign-to."""
     from sharpzone.catalog.service import remove_body
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         moved = remove_body(session, name, reassign_to=reassign_to)
     _say(f"Removed body {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
 
@@ -368,7 +350,7 @@ def lens_add(
     numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil)
     defaults = {"min_aperture": 22.0, "pupil_magnification": 1.0}
     numbers.update({key: value for key, value in defaults.items() if numbers[key] is None})
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = add_lens(session, name, exif_names=exif_name or [], confirmed=not unconfirmed, **numbers)
     _show(row, "lens", title=f"Added lens {row.name}")
 
@@ -389,7 +371,7 @@ def lens_edit(
     from sharpzone.catalog.service import edit_lens
 
     numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil)
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = edit_lens(session, name, new_name=new_name, confirmed=confirmed, **numbers)
     _show(row, "lens", title=f"Changed lens {row.name}")
 
@@ -399,7 +381,7 @@ def lens_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Le
     """Remove a lens and its EXIF names; frames taken with it need --reassign-to."""
     from sharpzone.catalog.service import remove_lens
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         moved = remove_lens(session, name, reassign_to=reassign_to)
     _say(f"Removed lens {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
 
@@ -413,7 +395,7 @@ def lens_add_alias(
     """Let an EXIF LensModel text name this lens."""
     from sharpzone.catalog.service import add_lens_alias
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         alias = add_lens_alias(session, name, exif_name)
     _say(f"EXIF lens name {alias.exif_name!r} now names {alias.lens.name}.")
 
@@ -423,7 +405,7 @@ def lens_remove_alias(ctx: typer.Context, exif_name: Annotated[str, typer.Argume
     """Forget an EXIF LensModel text."""
     from sharpzone.catalog.service import remove_lens_alias
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         lens = remove_lens_alias(session, exif_name)
     _say(f"EXIF lens name {exif_name!r} no longer names {lens.name}.")
 
@@ -476,7 +458,7 @@ def shoot_add(
     from sharpzone.catalog.service import add_shoot
 
     values = _shoot_values(folder, near, far, front, back, focal, aperture, focus, coc_policy, notes)
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = add_shoot(session, name, **values)
     _show(row, "shoot", title=f"Added shoot {row.name}")
 
@@ -502,7 +484,7 @@ def shoot_edit(
     from sharpzone.catalog.service import edit_shoot
 
     values = _shoot_values(folder, near, far, front, back, focal, aperture, focus, coc_policy, notes)
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         row = edit_shoot(session, name, new_name=new_name, clear_plan=clear_plan, **values)
     _show(row, "shoot", title=f"Changed shoot {row.name}")
 
@@ -516,7 +498,7 @@ def shoot_remove(
     """Remove a shoot; one with frames needs --with-frames."""
     from sharpzone.catalog.service import remove_shoot
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         removed = remove_shoot(session, name, with_frames=with_frames)
     _say(f"Removed shoot {name}" + (f" and its {removed} frame(s) (image files untouched)." if removed else "."))
 
@@ -532,10 +514,10 @@ def catalog_info_command(ctx: typer.Context, json: JsonOpt = False) -> None:
     from sharpzone.catalog.service import catalog_info
     from sharpzone.report.catalog_tables import info_json, render_info
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         info = catalog_info(session)
     if json:
-        _json(info_json(info))
+        echo_json(info_json(info))
     else:
         render_info(info)
 
@@ -546,7 +528,7 @@ def catalog_export(ctx: typer.Context, bundle: BundleArg) -> None:
     from sharpzone.catalog.service import export_catalog
     from sharpzone.report.catalog_tables import render_counts
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         counts = export_catalog(session, bundle)
     render_counts(f"Exported to {bundle}", {"Rows": counts})
 
@@ -561,6 +543,6 @@ def catalog_import(
     from sharpzone.catalog.service import import_catalog
     from sharpzone.report.catalog_tables import render_counts
 
-    with _unit_of_work(ctx) as session:
+    with catalog_session(ctx) as session:
         result = import_catalog(session, bundle, replace=replace)
     render_counts(f"Imported {bundle}", {"Added": result.added, "Replaced": result.replaced, "Unchanged": result.unchanged})

@@ -7,7 +7,15 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.options import date_option, optional_distance, optional_f_number, optional_length
+from sharpzone.cli.options import (
+    ImperialOpt,
+    JsonOpt,
+    date_option,
+    optional_distance,
+    optional_f_number,
+    optional_length,
+)
+from sharpzone.cli.state import catalog_session, echo_json
 from sharpzone.optics.coc import POLICY_HELP
 from sharpzone.units import DISTANCE_HELP
 
@@ -27,8 +35,6 @@ NearOpt = Annotated[Text, typer.Option("--near", help=f"Required range starts he
 FarOpt = Annotated[Text, typer.Option("--far", help="Required range ends here (a distance or inf).")]
 FrontOpt = Annotated[Text, typer.Option("--front", help="Required depth in front of each frame's focus point.")]
 BackOpt = Annotated[Text, typer.Option("--back", help="Required depth behind each frame's focus point.")]
-ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
-JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (the machine interface) instead of tables.")]
 CsvOpt = Annotated[bool, typer.Option("--csv", help="Print CSV instead of a table.")]
 
 
@@ -67,18 +73,15 @@ def frames(
 ) -> None:
     """Every frame's sharp zone: near and far limits, hyperfocal distance, CoC used."""
     from sharpzone.analysis.frames import frames_with_zones
-    from sharpzone.catalog.engine import session_scope
 
     where = _filter(shoot, body, lens, date_from, date_to, f_min, f_max, focal_min, focal_max, verdict)
     requirement = _requirement(near, far, front, back)
-    with session_scope(ctx.obj.catalog) as session:
+    with catalog_session(ctx) as session:
         result = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
     from sharpzone.report import frames_render
 
     if json:
-        from sharpzone.report.jsonout import dumps
-
-        typer.echo(dumps(frames_render.rows_json(result.frames)))
+        echo_json(frames_render.rows_json(result.frames))
     elif csv:
         typer.echo(frames_render.frames_csv(result.frames), nl=False)
     else:
@@ -94,18 +97,15 @@ def check(
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
     from sharpzone.analysis.frames import check_shoot
-    from sharpzone.catalog.engine import session_scope
 
     where = _filter(shoot, body, lens, date_from, date_to, f_min, f_max, focal_min, focal_max, verdict)
     requirement = _requirement(near, far, front, back)
-    with session_scope(ctx.obj.catalog) as session:
+    with catalog_session(ctx) as session:
         result = check_shoot(session, where, requirement=requirement, coc_policy=coc_policy)
     from sharpzone.report import frames_render
 
     if json:
-        from sharpzone.report.jsonout import dumps
-
-        typer.echo(dumps(frames_render.rows_json(result.frames, frames_render.check_json)))
+        echo_json(frames_render.rows_json(result.frames, frames_render.check_json))
     else:
         frames_render.render_check(result, imperial=imperial)
 
@@ -119,16 +119,13 @@ def stats(
 ) -> None:
     """Per lens and body: frames, f-numbers used, share flagged, typical focus distances."""
     from sharpzone.analysis.stats import shoot_stats
-    from sharpzone.catalog.engine import session_scope
 
     where = _filter(shoot, body, lens, date_from, date_to, f_min, f_max, focal_min, focal_max)
-    with session_scope(ctx.obj.catalog) as session:
+    with catalog_session(ctx) as session:
         result = shoot_stats(session, where, coc_policy=coc_policy, requirement=_requirement(near, far, front, back))
     from sharpzone.report import frames_render
 
     if json:
-        from sharpzone.report.jsonout import dumps
-
-        typer.echo(dumps(frames_render.stats_json(result)))
+        echo_json(frames_render.stats_json(result))
     else:
         frames_render.render_stats(result, imperial=imperial)

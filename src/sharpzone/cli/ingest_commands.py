@@ -8,6 +8,8 @@ from typing import Annotated, Optional
 
 import typer
 
+from sharpzone.cli.state import catalog_location, echo_json
+
 
 def register(app: typer.Typer) -> None:
     app.command("ingest")(ingest)
@@ -30,14 +32,12 @@ def ingest(
     from sharpzone.report.ingest_render import ingest_json, ingest_progress, render_ingest
 
     show_progress = not json and sys.stderr.isatty()
-    with open_catalog(ctx.obj.catalog) as catalog, ingest_progress(show_progress) as progress:
+    with open_catalog(catalog_location(ctx)) as catalog, ingest_progress(show_progress) as progress:
         summary = ingest_paths(catalog, [str(p) for p in paths], shoot=shoot, jobs=jobs,
                                distances_csv=distances, prune=prune, progress=progress)
         where = catalog.display_url
     if json:
-        from sharpzone.report.jsonout import dumps
-
-        typer.echo(dumps(ingest_json(summary, where)))
+        echo_json(ingest_json(summary, where))
     else:
         render_ingest(summary, where)
     if strict and summary.failed:

@@ -2,30 +2,26 @@
 
 from __future__ import annotations
 
-from typing import Annotated, Optional
+from typing import Annotated
 
 import typer
 
 from sharpzone.cli.options import (
-    REFERENCE_HELP,
+    CocOpt,
+    CocPolicyOpt,
+    ImperialOpt,
+    JsonOpt,
+    ReferenceOpt,
+    SensorOpt,
     choice_option,
     distance_option,
     f_number_option,
     length_option,
 )
-from sharpzone.optics.coc import POLICY_HELP
+from sharpzone.cli.state import catalog_location, echo_json
 from sharpzone.units import DISTANCE_HELP
 
-SensorOpt = Annotated[
-    Optional[str],
-    typer.Option("--sensor", "-s", help="Sensor format name (see 'sharpzone format list'); default 36x24."),
-]
-CocOpt = Annotated[Optional[str], typer.Option("--coc", help="A fixed circle of confusion in mm (overrides the policy).")]
-CocPolicyOpt = Annotated[Optional[str], typer.Option("--coc-policy", help=POLICY_HELP[0].upper() + POLICY_HELP[1:] + ".")]
-ReferenceOpt = Annotated[str, typer.Option("--reference", help=REFERENCE_HELP[0].upper() + REFERENCE_HELP[1:] + ".")]
 PupilOpt = Annotated[float, typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter); 1 for a symmetric lens.")]
-ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
-JsonOpt = Annotated[bool, typer.Option("--json", help="Print the machine-readable JSON object instead of a table.")]
 FocalOpt = Annotated[str, typer.Option("--focal", "-f", help="Focal length in mm (the real one, not the 35 mm equivalent).")]
 ApertureOpt = Annotated[str, typer.Option("--aperture", "-a", help="f-number, e.g. 8 or f/5.6.")]
 
@@ -60,13 +56,12 @@ def dof(
     report = evaluate_setting(
         length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
         distance_option(distance, "--distance"), sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy,
-        reference=reference, pupil_magnification=pupil, lookup=format_lookup(ctx.obj.catalog),
+        reference=reference, pupil_magnification=pupil, lookup=format_lookup(catalog_location(ctx)),
     )
     if json:
         from sharpzone.report.machine import setting_json
-        from sharpzone.report.jsonout import dumps
 
-        typer.echo(dumps(setting_json(report)))
+        echo_json(setting_json(report))
     else:
         from sharpzone.report.console import render_setting
 
@@ -96,13 +91,12 @@ def stack(
         length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
         distance_option(near, "--near"), distance_option(far, "--far"), sensor=sensor, coc_mm=coc_mm,
         coc_policy=coc_policy, reference=reference, pupil_magnification=pupil, overlap=overlap,
-        lookup=format_lookup(ctx.obj.catalog),
+        lookup=format_lookup(catalog_location(ctx)),
     )
     if json:
         from sharpzone.report.machine import stack_json
-        from sharpzone.report.jsonout import dumps
 
-        typer.echo(dumps(stack_json(report)))
+        echo_json(stack_json(report))
     else:
         from sharpzone.report.console import render_stack
 

@@ -3,13 +3,34 @@ every bad value names the option it came from."""
 
 from __future__ import annotations
 
+from typing import Annotated, Optional
+
+import typer
+
 from sharpzone.errors import InvalidValue
+from sharpzone.optics.coc import POLICY_HELP
 from sharpzone.units import parse_distance, parse_f_number, parse_length_mm
 
 REFERENCE_HELP = (
     "where distances are measured from: 'sensor' (the focal-plane mark, as lens scales and "
     "EXIF give them) or 'lens' (as optics texts give them)"
 )
+
+
+def _sentence(text: str) -> str:
+    return text[0].upper() + text[1:] + "."
+
+
+# Options that several command groups share, declared once.
+SensorOpt = Annotated[
+    Optional[str],
+    typer.Option("--sensor", "-s", help="Sensor format name (see 'sharpzone format list'); default 36x24."),
+]
+CocOpt = Annotated[Optional[str], typer.Option("--coc", help="A fixed circle of confusion in mm (overrides the policy).")]
+CocPolicyOpt = Annotated[Optional[str], typer.Option("--coc-policy", help=_sentence(POLICY_HELP))]
+ReferenceOpt = Annotated[str, typer.Option("--reference", help=_sentence(REFERENCE_HELP))]
+ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (the machine interface) instead of a table.")]
 
 
 def _named(option: str, error: InvalidValue) -> InvalidValue:

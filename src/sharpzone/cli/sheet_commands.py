@@ -6,8 +6,17 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.optics_commands import CocOpt, CocPolicyOpt, ImperialOpt, ReferenceOpt, SensorOpt
-from sharpzone.cli.options import choice_option, distance_option, length_option
+from sharpzone.cli.options import (
+    CocOpt,
+    CocPolicyOpt,
+    ImperialOpt,
+    ReferenceOpt,
+    SensorOpt,
+    choice_option,
+    distance_option,
+    length_option,
+)
+from sharpzone.cli.state import catalog_session
 from sharpzone.errors import InvalidValue
 from sharpzone.units import DISTANCE_HELP
 
@@ -47,7 +56,6 @@ def sheet(
 ) -> None:
     """A lens's sharp-zone sheet to print and carry: near and far limits per focal length, f-number and focus distance."""
     from sharpzone.analysis.sheets import sheet_from_catalog
-    from sharpzone.catalog.engine import session_scope
     from sharpzone.report.sheet_files import sheet_form, write_sheet
 
     try:
@@ -56,7 +64,7 @@ def sheet(
         raise InvalidValue(f"--out: {error.message}") from None
     focal_lengths = [length_option(value, "--focal") for value in _listed(focal)]
     focus_distances = [distance_option(value, "--distances") for value in _listed(distances)]
-    with session_scope(ctx.obj.catalog) as session:
+    with catalog_session(ctx) as session:
         result = sheet_from_catalog(
             session, lens, body=body, sensor=sensor,
             coc_mm=length_option(coc, "--coc") if coc is not None else None, coc_policy=coc_policy,

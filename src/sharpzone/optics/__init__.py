@@ -1,37 +1,55 @@
 """The optics core: pure, numpy-vectorised functions over millimetres. No files, no database,
 no terminal. Every function takes a scalar or an array column through the same code."""
 
-from sharpzone.optics.coc import (
-    DEFAULT_POLICY,
-    CocPolicy,
-    DiagonalFraction,
-    FixedCoc,
-    PixelPitch,
-    PrintIntent,
-    parse_coc_policy,
-)
-from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
-from sharpzone.optics.dof import (
-    SharpZone,
-    blur_diameter_mm,
-    closeup_total_depth_mm,
-    effective_f_number,
-    hyperfocal_mm,
-    lens_to_sensor_distance,
-    magnification_at,
-    sensor_to_lens_distance,
-    sharp_zone,
-)
-from sharpzone.optics.formats import SensorFormat
-from sharpzone.optics.planning import (
-    FocusPlan,
-    StackPlan,
-    best_focus_for_range,
-    f_number_for_range,
-    plan_focus_stack,
-    stack_frame_counts,
-)
-from sharpzone.optics.stops import Stop, marked_f_numbers, round_up_to_stop, stop_series
+import importlib
+
+# The public names, loaded on first use (PEP 562): importing one light submodule, such as
+# the CoC policies for a command's help text, does not pull in numpy with the rest.
+_EXPORTS = {
+    "DEFAULT_POLICY": "sharpzone.optics.coc",
+    "CocPolicy": "sharpzone.optics.coc",
+    "DiagonalFraction": "sharpzone.optics.coc",
+    "FixedCoc": "sharpzone.optics.coc",
+    "PixelPitch": "sharpzone.optics.coc",
+    "PrintIntent": "sharpzone.optics.coc",
+    "parse_coc_policy": "sharpzone.optics.coc",
+    "airy_disk_diameter_mm": "sharpzone.optics.diffraction",
+    "diffraction_limited_f_number": "sharpzone.optics.diffraction",
+    "SharpZone": "sharpzone.optics.dof",
+    "blur_diameter_mm": "sharpzone.optics.dof",
+    "closeup_total_depth_mm": "sharpzone.optics.dof",
+    "effective_f_number": "sharpzone.optics.dof",
+    "hyperfocal_mm": "sharpzone.optics.dof",
+    "lens_to_sensor_distance": "sharpzone.optics.dof",
+    "magnification_at": "sharpzone.optics.dof",
+    "sensor_to_lens_distance": "sharpzone.optics.dof",
+    "sharp_zone": "sharpzone.optics.dof",
+    "SensorFormat": "sharpzone.optics.formats",
+    "FocusPlan": "sharpzone.optics.planning",
+    "StackPlan": "sharpzone.optics.planning",
+    "best_focus_for_range": "sharpzone.optics.planning",
+    "f_number_for_range": "sharpzone.optics.planning",
+    "plan_focus_stack": "sharpzone.optics.planning",
+    "stack_frame_counts": "sharpzone.optics.planning",
+    "Stop": "sharpzone.optics.stops",
+    "marked_f_numbers": "sharpzone.optics.stops",
+    "round_up_to_stop": "sharpzone.optics.stops",
+    "stop_series": "sharpzone.optics.stops",
+}
+
+
+def __getattr__(name: str):
+    module = _EXPORTS.get(name)
+    if module is None:
+        raise AttributeError(f"module 'sharpzone.optics' has no attribute {name!r}")
+    value = getattr(importlib.import_module(module), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(__all__)
+
 
 __all__ = [
     "CocPolicy", "DEFAULT_POLICY", "DiagonalFraction", "FixedCoc", "PixelPitch", "PrintIntent",

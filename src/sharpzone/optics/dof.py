@@ -60,6 +60,15 @@ def validate_lens_inputs(focal_mm, f_number, coc_mm, pupil_magnification=1.0):
     return f, n, c, p
 
 
+def lens_distance_array(distance_mm, focal_mm, what: str = "focus distance") -> np.ndarray:
+    """``distance_mm`` (from the lens) as an array, checked to lie beyond the focal length:
+    a lens images only subjects farther away than f."""
+    distance = as_array(distance_mm, what)
+    require(distance, distance > focal_mm, what + " {value:g} mm is not beyond the focal length: "
+            "a lens focuses only on subjects farther than its focal length")
+    return distance
+
+
 def hyperfocal_mm(focal_mm, f_number, coc_mm):
     """Hyperfocal distance H = f²/(N c) + f in mm, measured from the lens.
 
@@ -100,9 +109,8 @@ def sensor_to_lens_distance(sensor_distance_mm, focal_mm):
 def lens_to_sensor_distance(lens_distance_mm, focal_mm):
     """Convert a subject distance from the lens (s > f) to one from the sensor: D = s + v."""
     scalar = all_scalar(lens_distance_mm, focal_mm)
-    s = as_array(lens_distance_mm, "focus distance")
     f = as_array(focal_mm, "focal length")
-    require(s, s > f, "focus distance {value:g} mm from the lens is not beyond the focal length")
+    s = lens_distance_array(lens_distance_mm, f)
     return scalar_or_array(np.where(np.isinf(s), np.inf, s + image_distance_mm(s, f)), scalar)
 
 
@@ -173,9 +181,7 @@ def sharp_zone(
     if reference == "sensor":
         s = np.asarray(sensor_to_lens_distance(focus, f))
     else:
-        require(focus, focus > f, "focus distance {value:g} mm is not beyond the focal length: "
-                "a lens focuses only on subjects farther than its focal length")
-        s = focus
+        s = lens_distance_array(focus, f)
     near, far, m = zone_limits_lens_mm(f, n, c, s, p)
     hyperfocal = f * f / (n * c) + f
     if reference == "sensor":
@@ -217,10 +223,8 @@ def blur_diameter_mm(focal_mm, f_number, focus_mm, subject_mm, *, pupil_magnific
     """
     scalar = all_scalar(focal_mm, f_number, focus_mm, subject_mm, pupil_magnification)
     f, n, _, p = validate_lens_inputs(focal_mm, f_number, 1.0, pupil_magnification)
-    s = as_array(focus_mm, "focus distance")
-    x = as_array(subject_mm, "subject distance")
-    require(s, s > f, "focus distance {value:g} mm is not beyond the focal length")
-    require(x, x > f, "subject distance {value:g} mm is not beyond the focal length")
+    s = lens_distance_array(focus_mm, f)
+    x = lens_distance_array(subject_mm, f, "subject distance")
     with np.errstate(divide="ignore", invalid="ignore"):
         m = np.where(np.isinf(s), 0.0, f / (s - f))
         m_subject = np.where(np.isinf(x), 0.0, f / (x - f))
@@ -232,8 +236,7 @@ def magnification_at(focal_mm, lens_distance_mm):
     """Image scale m = f / (s − f) of a subject ``lens_distance_mm`` from the lens (0 at ∞)."""
     scalar = all_scalar(focal_mm, lens_distance_mm)
     f = as_array(focal_mm, "focal length")
-    s = as_array(lens_distance_mm, "focus distance")
-    require(s, s > f, "focus distance {value:g} mm is not beyond the focal length")
+    s = lens_distance_array(lens_distance_mm, f)
     with np.errstate(divide="ignore"):
         return scalar_or_array(np.where(np.isinf(s), 0.0, f / (s - f)), scalar)
 

@@ -24,6 +24,7 @@ from sharpzone.optics.dof import (
     Reference,
     check_reference,
     image_distance_mm,
+    lens_distance_array,
     sensor_to_lens_distance,
     sharp_zone,
     validate_lens_inputs,
@@ -80,8 +81,7 @@ def f_number_for_range(
         v = image_distance_mm(s, f)
         a, b = a - v, b - v
     else:
-        require(focus, focus > f, "focus distance {value:g} mm is not beyond the focal length")
-        s = focus
+        s = lens_distance_array(focus, f)
     for_near, for_far = _needed_f_numbers_lens(f, c, p, s, a, b)
     return scalar_or_array(np.maximum(np.maximum(for_near, for_far), 0.0), scalar)
 

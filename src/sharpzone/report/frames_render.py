@@ -10,10 +10,10 @@ from typing import TYPE_CHECKING, Any
 from rich.console import Console
 from rich.table import Table
 
-from sharpzone.analysis.checks import describe_flag
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import stdout_console
 from sharpzone.report.jsonout import metres
+from sharpzone.report.verdicts import describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm
 
 if TYPE_CHECKING:
