@@ -24,6 +24,19 @@ def test_revisions_form_one_line_from_0001_to_head():
     assert migrate.next_revision_id() == "0003"
 
 
+def test_quick_head_and_stamp_readers_agree_with_alembic(catalog_url):
+    # head_revision reads file names and current_revision a plain query, so opening a
+    # catalogue need not load Alembic; Alembic itself must say the same.
+    from alembic.runtime.migration import MigrationContext
+
+    assert migrate.head_revision() == migrate.script_directory().get_current_head()
+    migrate.upgrade(catalog_url, "0001")
+    engine = create_engine(catalog_url)
+    with engine.connect() as connection:
+        assert migrate.current_revision(connection) == MigrationContext.configure(connection).get_current_revision() == "0001"
+    engine.dispose()
+
+
 def test_migrations_are_found_inside_the_package():
     folder = migrate.migrations_folder()
     assert (folder / "env.py").is_file()
