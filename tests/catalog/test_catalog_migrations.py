@@ -19,9 +19,9 @@ from sharpzone.seed import shipped_formats
 
 
 def test_revisions_form_one_line_from_0001_to_head():
-    assert migrate.known_revisions() == ["0001", "0002"]
-    assert migrate.head_revision() == "0002"
-    assert migrate.next_revision_id() == "0003"
+    assert migrate.known_revisions() == ["0001", "0002", "0003"]
+    assert migrate.head_revision() == "0003"
+    assert migrate.next_revision_id() == "0004"
 
 
 def test_quick_head_and_stamp_readers_agree_with_alembic(catalog_url):
@@ -41,22 +41,23 @@ def test_migrations_are_found_inside_the_package():
     folder = migrate.migrations_folder()
     assert (folder / "env.py").is_file()
     assert (folder / "script.py.mako").is_file()
-    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:2] == [
+    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:3] == [
         "0001_initial_schema.py",
         "0002_pupils_warnings_problems.py",
+        "0003_focus_brackets_and_measured_blur.py",
     ]
 
 
 def test_empty_database_is_created_at_head_with_the_shipped_formats(catalog_url):
     result = migrate.prepare_catalog(catalog_url)
-    assert result.created and result.revision == "0002"
+    assert result.created and result.revision == "0003"
     engine = create_engine(catalog_url)
     with engine.connect() as connection:
-        assert migrate.current_revision(connection) == "0002"
+        assert migrate.current_revision(connection) == "0003"
         names = set(connection.scalars(select(SensorFormatRow.name)))
     engine.dispose()
     assert names == {shipped.format.name for shipped in shipped_formats()}
-    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0002")
+    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0003")
 
 
 def test_models_and_migrations_do_not_drift(catalog_url):
@@ -134,6 +135,11 @@ def test_old_catalogue_with_rows_is_backed_up_and_upgraded_keeping_every_row(cat
         frame = session.scalars(select(Frame)).one()
         assert (frame.shoot_id, frame.body_id, frame.lens_id, frame.utc_offset_minutes) == (1, 1, 1, 60)
         assert math.isinf(frame.focus_mm) and frame.warnings is None
+        # 0003: an exact distance of a 0002 catalogue is its own bracket, with its key.
+        assert math.isinf(frame.focus_near_mm) and math.isinf(frame.focus_far_mm)
+        assert frame.focus_key == "Exif.Photo.SubjectDistance"
+        assert frame.device is None and frame.focus_point_x is None
+        assert body.format_id == 1 and lens.max_magnification is None
         assert session.scalars(select(IngestProblem)).all() == []
         assert session.scalars(select(LensAlias)).one().lens_id == 1
 
@@ -192,9 +198,9 @@ def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, mo
     shutil.copytree(migrate.migrations_folder(), copy, ignore=shutil.ignore_patterns("__pycache__"))
     monkeypatch.setattr(migrate, "migrations_folder", lambda: copy)
     path = migrate.new_revision("nothing changed")
-    assert path.parent == copy / "versions" and path.name.startswith("0003_")
+    assert path.parent == copy / "versions" and path.name.startswith("0004_")
     draft = path.read_text(encoding="utf-8")
-    assert "revision = '0003'" in draft and "down_revision = '0002'" in draft
+    assert "revision = '0004'" in draft and "down_revision = '0003'" in draft
     assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
 
 

@@ -32,7 +32,7 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
-from sharpzone.ingest.records import FOCUS_SOURCES  # one list for the readers and the catalogue
+from sharpzone.vocabulary import FOCUS_SOURCES, PLAN_KINDS  # noqa: F401 - shared with the readers
 
 if TYPE_CHECKING:
     from sharpzone.optics.formats import SensorFormat
@@ -48,7 +48,6 @@ NAMING_CONVENTION = {
 }
 
 NAME_LENGTH = 200
-PLAN_KINDS = ("range", "depth")
 
 
 def utc_now() -> dt.datetime:
@@ -128,18 +127,20 @@ class Body(Base):
     exif_make: Mapped[str] = mapped_column(String(NAME_LENGTH))
     exif_model: Mapped[str] = mapped_column(String(NAME_LENGTH))
     serial: Mapped[Optional[str]] = mapped_column(String(NAME_LENGTH))
-    format_id: Mapped[int] = mapped_column(ForeignKey("sensor_format.id"), index=True)
+    format_id: Mapped[Optional[int]] = mapped_column(ForeignKey("sensor_format.id"), index=True)
     pixel_width: Mapped[Optional[int]] = mapped_column(Integer)
     pixel_height: Mapped[Optional[int]] = mapped_column(Integer)
     confirmed: Mapped[bool] = mapped_column(Boolean, default=True, server_default=true())
 
-    sensor_format: Mapped[SensorFormatRow] = relationship(back_populates="bodies", lazy="joined")
+    sensor_format: Mapped[Optional[SensorFormatRow]] = relationship(back_populates="bodies", lazy="joined")
 
     @property
     def pixel_pitch_mm(self) -> float | None:
-        """Pixel pitch in mm (``None`` while the pixel dimensions are unknown)."""
+        """Pixel pitch in mm (``None`` while the format or the pixel dimensions are unknown)."""
         from sharpzone.optics.formats import pixel_pitch_mm
 
+        if self.sensor_format is None:
+            return None
         return pixel_pitch_mm(self.sensor_format.to_core(), self.pixel_width, self.pixel_height)
 
     __table_args__ = (
@@ -154,6 +155,8 @@ class Lens(Base):
     the smallest at ``focal_max_mm`` (the same for a prime or a constant-aperture zoom);
     ``min_aperture`` the largest f-number (e.g. 22). ``pupil_magnification`` is exit/entrance
     pupil diameter (1 for a symmetric design), used in close-up depth of field.
+    ``max_magnification`` is the lens's specified maximum magnification at
+    ``close_focus_mm`` (e.g. 1.0 for a 1:1 macro lens; ``None`` when not known).
     """
 
     __tablename__ = "lens"
@@ -167,6 +170,7 @@ class Lens(Base):
     min_aperture: Mapped[float] = mapped_column(Double)
     close_focus_mm: Mapped[Optional[float]] = mapped_column(Double)
     pupil_magnification: Mapped[float] = mapped_column(Double, default=1.0, server_default="1")
+    max_magnification: Mapped[Optional[float]] = mapped_column(Double)
     confirmed: Mapped[bool] = mapped_column(Boolean, default=True, server_default=true())
 
     aliases: Mapped[list[LensAlias]] = relationship(
@@ -224,8 +228,12 @@ class Shoot(Base):
 class Frame(Base):
     """One image file and the capture settings read from it (inputs only: zones are computed
     at query time). ``focus_mm`` may be ``math.inf``; ``focus_source`` says where it came
-    from (one of ``FOCUS_SOURCES``). The ``exif_*`` columns keep the raw strings so a frame
-    can be matched again after the catalogue learns a body or lens.
+    from (one of ``FOCUS_SOURCES``) and ``focus_key`` the exact key; ``focus_near_mm`` and
+    ``focus_far_mm`` bracket what the recorded distance can mean (equal to ``focus_mm`` when
+    exact). ``focus_point_*`` say where the camera focused, in fractions of the image (0..1
+    from the top left; width and height 0 for a point). ``device``/``inode`` identify the file
+    however it is reached. The ``exif_*`` columns keep the raw strings so a frame can be
+    matched again after the catalogue learns a body or lens.
     """
 
     __tablename__ = "frame"
@@ -245,6 +253,17 @@ class Frame(Base):
     iso: Mapped[Optional[int]] = mapped_column(Integer)
     focus_mm: Mapped[Optional[float]] = mapped_column(Double)
     focus_source: Mapped[str] = mapped_column(String(16), default="none", server_default="none")
+    focus_near_mm: Mapped[Optional[float]] = mapped_column(Double)
+    focus_far_mm: Mapped[Optional[float]] = mapped_column(Double)
+    focus_key: Mapped[Optional[str]] = mapped_column(String(NAME_LENGTH))
+    subject_distance_range: Mapped[Optional[str]] = mapped_column(String(16))
+    focus_point_x: Mapped[Optional[float]] = mapped_column(Double)
+    focus_point_y: Mapped[Optional[float]] = mapped_column(Double)
+    focus_point_w: Mapped[Optional[float]] = mapped_column(Double)
+    focus_point_h: Mapped[Optional[float]] = mapped_column(Double)
+    focus_point_key: Mapped[Optional[str]] = mapped_column(String(NAME_LENGTH))
+    device: Mapped[Optional[int]] = mapped_column(BigInteger)
+    inode: Mapped[Optional[int]] = mapped_column(BigInteger)
     focal_35mm_mm: Mapped[Optional[float]] = mapped_column(Double)
     width_px: Mapped[Optional[int]] = mapped_column(Integer)
     height_px: Mapped[Optional[int]] = mapped_column(Integer)
@@ -256,6 +275,42 @@ class Frame(Base):
     shoot: Mapped[Optional[Shoot]] = relationship()
     body: Mapped[Optional[Body]] = relationship()
     lens: Mapped[Optional[Lens]] = relationship()
+
+    __table_args__ = (Index("ix_frame_device_inode", "device", "inode"),)
+
+
+class FrameBlur(Base):
+    """The blur measured from a frame's pixels (its embedded preview, decoded small).
+
+    Blur diameters are in pixels of the analysed image, whose long side is
+    ``analysed_long_px``: a fraction of the frame, so the blur in sensor millimetres follows
+    from the body's format at query time (a format set later needs no new measurement).
+    ``None`` where a region had too few edges to measure. ``focus_*`` is the region at the
+    camera's focus point (``None`` without one); ``best_*`` the sharpest region of the grid;
+    positions are region centres in fractions of the image (0..1 from the top left).
+    ``grid`` is the grid of region blurs as JSON (rows of numbers or nulls). ``method`` and
+    ``method_version`` name the estimator, so a later version can measure again.
+    """
+
+    __tablename__ = "frame_blur"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    frame_id: Mapped[int] = mapped_column(ForeignKey("frame.id", ondelete="CASCADE"), unique=True)
+    method: Mapped[str] = mapped_column(String(64))
+    method_version: Mapped[int] = mapped_column(Integer)
+    measured_at: Mapped[dt.datetime] = mapped_column(WallClockDateTime, default=utc_now)
+    analysed_long_px: Mapped[int] = mapped_column(Integer)
+    focus_blur_px: Mapped[Optional[float]] = mapped_column(Double)
+    focus_edges: Mapped[Optional[int]] = mapped_column(Integer)
+    focus_x: Mapped[Optional[float]] = mapped_column(Double)
+    focus_y: Mapped[Optional[float]] = mapped_column(Double)
+    best_blur_px: Mapped[Optional[float]] = mapped_column(Double)
+    best_x: Mapped[Optional[float]] = mapped_column(Double)
+    best_y: Mapped[Optional[float]] = mapped_column(Double)
+    median_blur_px: Mapped[Optional[float]] = mapped_column(Double)
+    regions_measured: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
+    regions_total: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
+    grid: Mapped[Optional[str]] = mapped_column(Text)
 
 
 class IngestProblem(Base):
@@ -272,4 +327,4 @@ class IngestProblem(Base):
     shoot: Mapped[Optional[Shoot]] = relationship()
 
 
-TABLES_IN_DEPENDENCY_ORDER = (SensorFormatRow, Body, Lens, LensAlias, Shoot, Frame, IngestProblem)
+TABLES_IN_DEPENDENCY_ORDER = (SensorFormatRow, Body, Lens, LensAlias, Shoot, Frame, FrameBlur, IngestProblem)

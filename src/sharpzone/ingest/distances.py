@@ -97,7 +97,7 @@ def choose_focus_distance(
     user_mm: float | None, exif_mm: float | None, xmp_mm: float | None
 ) -> tuple[float | None, str]:
     """(focus distance in mm, source): the user's value, else EXIF, else the XMP sidecar, else none."""
-    for source, value in zip(FOCUS_SOURCES[:3], (user_mm, exif_mm, xmp_mm)):
+    for source, value in zip(("user", "exif", "xmp"), (user_mm, exif_mm, xmp_mm)):
         if value is not None and not (isinstance(value, float) and math.isnan(value)):
             return value, source
     return None, "none"

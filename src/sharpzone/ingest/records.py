@@ -8,8 +8,7 @@ from datetime import datetime
 
 from sharpzone.errors import ReadError
 
-# Where a frame's focus distance came from, in order of precedence; "none" when nowhere.
-FOCUS_SOURCES = ("user", "exif", "xmp", "none")
+from sharpzone.vocabulary import FOCUS_SOURCES  # noqa: F401 - re-exported for the ingest stages
 
 
 def printable_path(path: str | bytes) -> str:
@@ -51,7 +50,19 @@ class CaptureRecord:
 
     Lengths in millimetres (``focus_mm`` may be ``math.inf``), exposure in seconds,
     ``None`` wherever the file gives no usable value; ``warnings`` says why a value was
-    dropped or guessed. ``focus_source`` is ``"user"``, ``"exif"``, ``"xmp"`` or ``"none"``.
+    dropped or guessed. ``focus_source`` is one of ``FOCUS_SOURCES``.
+
+    Focus distance with its precision: ``focus_near_mm``/``focus_far_mm`` bracket the
+    nearest and farthest distance the record can mean (both equal to ``focus_mm`` when it
+    is exact; the maker's lower/upper pair; ± half a step for a step code), all measured
+    from the sensor plane; ``focus_key`` is the exact key it was read from (e.g.
+    ``"Exif.Photo.SubjectDistance"``). ``focus_point`` is where the camera focused, as
+    (centre x, centre y, width, height) in fractions of the image (0..1, from the top
+    left; width and height 0 for a point), with ``focus_point_key`` naming its source.
+    ``lens_candidates`` are the lens names a maker-note lens id may mean, best first.
+    ``sensor_width_mm``/``sensor_height_mm`` are a sensor size the maker note records;
+    ``sensor_width_px``/``sensor_height_px`` the sensor's own pixel dimensions when the file
+    says (never a preview's or a downsized copy's).
     """
 
     path: str
@@ -61,6 +72,9 @@ class CaptureRecord:
     iso: int | None = None
     focus_mm: float | None = None
     focus_source: str = "none"
+    focus_near_mm: float | None = None
+    focus_far_mm: float | None = None
+    focus_key: str | None = None
     subject_distance_range: str | None = None
     focal_35mm_mm: float | None = None
     lens_spec: tuple[float | None, float | None, float | None, float | None] | None = None
@@ -76,6 +90,13 @@ class CaptureRecord:
     height_px: int | None = None
     focal_plane_width_mm: float | None = None
     focal_plane_height_mm: float | None = None
+    sensor_width_mm: float | None = None
+    sensor_height_mm: float | None = None
+    sensor_width_px: int | None = None
+    sensor_height_px: int | None = None
+    lens_candidates: tuple[str, ...] = ()
+    focus_point: tuple[float, float, float, float] | None = None
+    focus_point_key: str | None = None
     warnings: tuple[str, ...] = ()
 
     @property

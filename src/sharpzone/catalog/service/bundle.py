@@ -44,6 +44,7 @@ from sharpzone.catalog.models import (
     TABLES_IN_DEPENDENCY_ORDER,
     Body,
     Frame,
+    FrameBlur,
     IngestProblem,
     Lens,
     LensAlias,
@@ -63,6 +64,7 @@ REFERENCES = {
     ("frame", "shoot_id"): ("shoot", Shoot),
     ("frame", "body_id"): ("body", Body),
     ("frame", "lens_id"): ("lens", Lens),
+    ("frame_blur", "frame_id"): ("frame", Frame),
     ("ingest_problem", "shoot_id"): ("shoot", Shoot),
 }
 NATURAL_KEYS = {
@@ -72,6 +74,7 @@ NATURAL_KEYS = {
     LensAlias: ("exif_name",),
     Shoot: ("name",),
     Frame: ("path",),
+    FrameBlur: ("frame_id",),
     IngestProblem: None,
 }
 
@@ -346,7 +349,9 @@ def _same(stored, incoming) -> bool:
 
 
 def _names_by_id(session: Session, model) -> dict[int, str]:
-    return {row_id: name for row_id, name in session.execute(select(model.id, model.name))}
+    """How a bundle names each row of ``model`` that others refer to: its name (a frame: its path)."""
+    label = model.path if model is Frame else model.name
+    return {row_id: name for row_id, name in session.execute(select(model.id, label))}
 
 
 def _ids_by_name(session: Session, model) -> dict[str, int]:
