@@ -10,14 +10,20 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from sharpzone.ingest.fields import standard_key
 from sharpzone.ingest.normalise import normalise_capture
 from sharpzone.ingest.records import CaptureRecord
 
 PATH = "/shoots/harbour/frame-0001.jpg"
 
 
+def keyed(tags: dict) -> dict:
+    """Short tag names (as CIPA DC-008 names them) → the readers' full keys."""
+    return {standard_key(name): value for name, value in tags.items()}
+
+
 def capture(**tags) -> CaptureRecord:
-    return normalise_capture(tags, PATH)
+    return normalise_capture(keyed(tags), PATH)
 
 
 def test_a_complete_frame():
@@ -176,7 +182,7 @@ def test_sensor_size_from_focal_plane_resolution(unit, x_resolution):
                 FocalPlaneXResolution=x_resolution, FocalPlaneYResolution=x_resolution)
     if unit is not None:
         tags["FocalPlaneResolutionUnit"] = unit
-    record = normalise_capture(tags, PATH)
+    record = normalise_capture(keyed(tags), PATH)
     assert record.focal_plane_width_mm == pytest.approx(36.0)
     assert record.focal_plane_height_mm == pytest.approx(24.0)
 
@@ -208,7 +214,7 @@ _TAG_NAMES = st.sampled_from([
 @settings(deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.dictionaries(_TAG_NAMES, _ANY_VALUE))
 def test_never_raises_and_keeps_only_sane_numbers(tags):
-    record = normalise_capture(tags, PATH)
+    record = normalise_capture(keyed(tags), PATH)
     assert record.f_number is None or record.f_number >= 0.5
     assert record.focal_mm is None or record.focal_mm > 0
     assert record.focus_mm is None or record.focus_mm >= 1.0

@@ -1,7 +1,8 @@
-"""One frame, read end to end: EXIF tags → capture record → focus distance by precedence.
+"""One frame, read end to end: tags → capture record → focus distance by precedence.
 
 ``read_capture`` is a plain module-level function taking and returning picklable values,
-so a process pool can map it over a shoot.
+so a process pool can map it over a shoot. The readers (libexiv2, then exifread) are chosen
+in ``sharpzone.ingest.readers``.
 """
 
 from __future__ import annotations
@@ -11,18 +12,21 @@ import os
 
 from sharpzone.errors import ReadError
 from sharpzone.ingest.distances import choose_focus_distance
-from sharpzone.ingest.exif import read_tags
 from sharpzone.ingest.normalise import normalise_capture
+from sharpzone.ingest.readers import read_tags
 from sharpzone.ingest.records import CaptureRecord, FileReadError, ReadProblem
 from sharpzone.ingest.sidecar import read_xmp_focus_distance
+
+XMP_FOCUS_KEY = "Xmp.exif.SubjectDistance"
 
 
 def read_capture(path: str | bytes, user_focus_mm: float | None = None) -> CaptureRecord | ReadProblem:
     """Read one image into a ``CaptureRecord``, or a ``ReadProblem`` saying why it could not be.
 
-    ``user_focus_mm`` is a distance the user gave for this frame (it wins over EXIF, which
-    wins over the XMP sidecar). A damaged sidecar only adds a warning. Never raises for a
-    bad file.
+    Focus distance precedence: ``user_focus_mm`` (a distance the user gave for this frame),
+    then the file's own record (standard SubjectDistance, then the maker notes, as the field
+    table orders them), then the XMP sidecar. A damaged sidecar only adds a warning. Never
+    raises for a bad file.
     """
     path = os.fsdecode(path)
     try:
@@ -38,4 +42,12 @@ def read_capture(path: str | bytes, user_focus_mm: float | None = None) -> Captu
         except ReadError as err:
             warnings.append(f"XMP sidecar ignored: {getattr(err, 'reason', err)}")
     focus_mm, source = choose_focus_distance(user_focus_mm, record.focus_mm, xmp_mm)
-    return dataclasses.replace(record, focus_mm=focus_mm, focus_source=source, warnings=tuple(warnings))
+    if source == "exif":  # the file's own record: standard or maker note, as normalised
+        source, near, far, key = record.focus_source, record.focus_near_mm, record.focus_far_mm, record.focus_key
+    elif source == "none":
+        near = far = key = None
+    else:
+        near, far = focus_mm, focus_mm
+        key = XMP_FOCUS_KEY if source == "xmp" else None
+    return dataclasses.replace(record, focus_mm=focus_mm, focus_source=source, focus_near_mm=near,
+                               focus_far_mm=far, focus_key=key, warnings=tuple(warnings))

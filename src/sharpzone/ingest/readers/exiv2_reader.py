@@ -1,0 +1,175 @@
+"""The primary reader: libexiv2 0.28 through the ``exiv2`` bindings (0.19).
+
+It decodes the maker notes of every major maker (decrypting the encrypted lens-data
+blocks), opens every raw container and ISO BMFF (HEIF, AVIF, CR3), and prints calibrated
+values (lens names for lens ids). Rules kept here, learned the hard way:
+
+* only explicit key look-ups (``ExifData.findKey(ExifKey(...))``): the bindings' convenience
+  functions (``exiv2.subjectDistance()``, ``exiv2.lensName()`` ...) crash the interpreter on
+  files where the key is absent;
+* read-only: ``readMetadata`` only, never ``writeMetadata``;
+* libexiv2's log is muted (``silence_exiv2``); its exceptions become ``FileReadError``;
+* libexiv2 silently drops a directory it finds too large and reads the rest, so a crafted
+  file would pass as a frame without metadata: the shared directory check of
+  ``containers`` runs first, and its damage verdict is final.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import math
+import os
+
+from sharpzone.ingest import fields, formats
+from sharpzone.ingest.exiv2_quiet import silence_exiv2
+from sharpzone.ingest.readers import Tags, TagValue
+from sharpzone.ingest.readers.containers import Unreadable, check_directories, exif_tiff_block
+from sharpzone.ingest.records import FileReadError, os_error_reason
+
+# libexiv2 TypeId values (TIFF 6.0 field types plus its own string types).
+_ASCII, _UNDEFINED = 2, 7
+_UNSIGNED_RATIONAL, _SIGNED_RATIONAL = 5, 10
+_FLOATS = (11, 12)
+_TEXT_TYPES = (_ASCII, 0x10000, 0x10001, 0x10002, 0x10003)
+# A tag we look up never holds more values than this; more is damage, not information.
+_MAX_VALUES = 64
+_MAX_TEXT_BYTES = 1024
+_INFINITE_NUMERATOR = 0xFFFFFFFF
+# Containers whose main image is not the sensor data (libexiv2 MIME types).
+_NOT_RAW_TYPES = frozenset({"image/jpeg", "image/png", "image/webp", "image/tiff", "image/heic", "image/heif",
+                            "image/avif", "image/jxl"})
+_WALKABLE = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP})
+
+_keys = None
+
+
+class Exiv2Reader:
+    """Every tag the field table names, standard and maker-note, through libexiv2."""
+
+    name = "exiv2"
+    kinds = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP, formats.BMFF_RAW,
+                       formats.MRW, formats.CIFF, formats.RAF})
+
+    def read(self, path: str) -> Tags:
+        import exiv2
+
+        silence_exiv2()
+        _check_budget(path)
+        try:
+            with _openable_name(path) as name:
+                image = exiv2.ImageFactory.open(name)
+                image.readMetadata()
+            data = image.exifData()
+            tags = _tags(exiv2, data)
+            width, height = image.pixelWidth(), image.pixelHeight()
+            mime = image.mimeType()
+        except exiv2.Exiv2Error as err:
+            raise FileReadError(path, f"the metadata reader refused the file ({_error_name(err)})") from None
+        if width > 0 and height > 0:
+            tags[fields.CONTAINER_WIDTH] = int(width)
+            tags[fields.CONTAINER_HEIGHT] = int(height)
+        tags[fields.CONTAINER_IS_RAW] = mime not in _NOT_RAW_TYPES
+        return tags
+
+
+@contextlib.contextmanager
+def _openable_name(path: str):
+    """A name libexiv2 can open: it takes a UTF-8 string, so a file name with undecodable
+    bytes is opened through its descriptor's name in /proc (Linux); elsewhere it is refused
+    (and read by the fallback reader)."""
+    try:
+        path.encode("utf-8")
+    except UnicodeEncodeError:
+        if not os.path.isdir("/proc/self/fd"):
+            raise FileReadError(path, "the metadata reader cannot open this file name") from None
+        try:
+            descriptor = os.open(path, os.O_RDONLY)
+        except OSError as err:
+            raise FileReadError(path, os_error_reason(err)) from None
+        try:
+            yield f"/proc/self/fd/{descriptor}"
+        finally:
+            os.close(descriptor)
+        return
+    yield path
+
+
+def _check_budget(path: str) -> None:
+    """Run the shared directory check (the work budget) on the file's EXIF block, if we can
+    walk its container; a damaged verdict is final, other walking trouble is left to libexiv2."""
+    try:
+        with open(path, "rb") as file:
+            block = exif_tiff_block(file)
+            if block is None:
+                return
+            if block is file:
+                file.seek(0, 2)
+                check_directories(file, file.tell())
+            else:
+                check_directories(io.BytesIO(block), len(block))
+    except Unreadable as err:
+        if str(err).startswith("damaged EXIF"):
+            raise FileReadError(path, str(err)) from None
+        if str(err) in ("empty file", "not an image"):
+            return
+    except OSError as err:
+        raise FileReadError(path, os_error_reason(err)) from None
+
+
+def _exif_keys(exiv2):
+    global _keys
+    if _keys is None:
+        _keys = tuple((name, exiv2.ExifKey(name)) for name in fields.wanted_keys())
+    return _keys
+
+
+def _tags(exiv2, data) -> Tags:
+    tags: Tags = {}
+    end = data.end()
+    for name, key in _exif_keys(exiv2):
+        datum = data.findKey(key)
+        if datum == end:
+            continue
+        value = _plain_value(datum)
+        if value is None:
+            continue
+        tags[name] = value
+        if name in fields.PRINTED_KEYS:
+            printed = datum.print(data)
+            if printed:
+                tags[name + fields.PRINTED] = printed[:_MAX_TEXT_BYTES].strip()
+    return tags
+
+
+def _plain_value(datum) -> TagValue:
+    type_id = int(datum.typeId())
+    count = datum.count()
+    if type_id in _TEXT_TYPES:
+        text = datum.toString()[:_MAX_TEXT_BYTES].strip("\x00 \t\r\n")
+        return text or None
+    if count == 0 or count > _MAX_VALUES:
+        return None
+    if type_id == _UNDEFINED:
+        return bytes(datum.getValue().data())
+    if type_id in (_UNSIGNED_RATIONAL, _SIGNED_RATIONAL):
+        values = []
+        for index in range(count):
+            numerator, denominator = datum.toRational(index)
+            if type_id == _UNSIGNED_RATIONAL:
+                numerator, denominator = numerator & 0xFFFFFFFF, denominator & 0xFFFFFFFF
+                if numerator == _INFINITE_NUMERATOR:
+                    values.append(math.inf)
+                    continue
+            values.append(numerator / denominator if denominator else None)
+    elif type_id in _FLOATS:
+        values = [float(datum.toFloat(index)) for index in range(count)]
+    else:
+        values = [int(datum.toInt64(index)) for index in range(count)]
+    return values[0] if count == 1 else tuple(values)
+
+
+def _error_name(err) -> str:
+    code = err.args[0] if err.args else None
+    name = getattr(code, "name", None) or type(err).__name__
+    return name.removeprefix("ker")
