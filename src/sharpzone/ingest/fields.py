@@ -592,7 +592,7 @@ FIELDS: tuple[Field, ...] = (
     Field("lens_model", ("Exif.Photo.LensModel",), convert=_text),
     Field("body_serial", ("Exif.Photo.BodySerialNumber",),
           ("Exif.Canon.SerialNumber", "Exif.Nikon3.SerialNumber", "Exif.Fujifilm.SerialNumber",
-           "Exif.Olympus.SerialNumber", "Exif.OlympusEq.SerialNumber", "Exif.Panasonic.InternalSerialNumber"),
+           "Exif.OlympusEq.SerialNumber", "Exif.Panasonic.InternalSerialNumber"),
           convert=_text),
     Field("lens_serial", ("Exif.Photo.LensSerialNumber",), ("Exif.OlympusEq.LensSerialNumber",), convert=_text),
     Field("captured_at", ("Exif.Photo.DateTimeOriginal",), convert=_captured_at),

@@ -59,6 +59,13 @@ RAW_EXTENSIONS = (IMAGE_EXTENSIONS[TIFF] | IMAGE_EXTENSIONS[EMBEDDED_JPEG] | IMA
 SIDECAR_EXTENSIONS = RAW_EXTENSIONS | IMAGE_EXTENSIONS[HEIF]
 
 
+def is_raw_name(path: str) -> bool:
+    """Whether a file's extension names a raw container (DNG is TIFF inside, so the content
+    alone does not tell)."""
+    dot = path.rfind(".")
+    return dot > max(path.rfind("/"), path.rfind("\\")) and path[dot:].lower() in RAW_EXTENSIONS
+
+
 def sniff_image_kind(head: bytes) -> str | None:
     """The kind of image whose file starts with ``head`` (at least 32 bytes), or ``None``."""
     if head[:2] == JPEG_SOI and head[2:3] == b"\xff":

@@ -63,7 +63,9 @@ class ExifreadReader:
                 if block is None:
                     return {}
                 stream = file if block is file else io.BytesIO(block)
-                return _tags_from_tiff(stream)
+                tags = _tags_from_tiff(stream)
+                tags[fields.CONTAINER_IS_RAW] = formats.is_raw_name(path)
+                return tags
         except FileReadError:
             raise
         except Unreadable as err:

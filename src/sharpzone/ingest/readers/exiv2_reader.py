@@ -39,7 +39,7 @@ _INFINITE_NUMERATOR = 0xFFFFFFFF
 # Containers whose main image is not the sensor data (libexiv2 MIME types).
 _NOT_RAW_TYPES = frozenset({"image/jpeg", "image/png", "image/webp", "image/tiff", "image/heic", "image/heif",
                             "image/avif", "image/jxl"})
-_WALKABLE = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP})
+_BMFF_TYPES = frozenset({"image/heic", "image/heif", "image/avif", "image/x-canon-cr3", "video/quicktime"})
 
 _keys = None
 
@@ -66,10 +66,12 @@ class Exiv2Reader:
             mime = image.mimeType()
         except exiv2.Exiv2Error as err:
             raise FileReadError(path, f"the metadata reader refused the file ({_error_name(err)})") from None
-        if width > 0 and height > 0:
+        # For ISO BMFF libexiv2 falls back to the EXIF pixel dimensions when the file has no
+        # image-size property, so there the size would only echo EXIF: left out.
+        if width > 0 and height > 0 and mime not in _BMFF_TYPES:
             tags[fields.CONTAINER_WIDTH] = int(width)
             tags[fields.CONTAINER_HEIGHT] = int(height)
-        tags[fields.CONTAINER_IS_RAW] = mime not in _NOT_RAW_TYPES
+        tags[fields.CONTAINER_IS_RAW] = mime not in _NOT_RAW_TYPES or formats.is_raw_name(path)
         return tags
 
 
