@@ -191,3 +191,15 @@ def test_unknown_lens_id_gives_no_name(written):
     assert makernotes.printed(data, ".jpg", "Exif.CanonCs.LensType").startswith("Unknown")
     record = _frame(written, "canon-lens.jpg", data)
     assert record.lens_model is None and record.lens_candidates == ()
+
+
+# --- sensor size ----------------------------------------------------------------------------
+
+def test_sensor_size_from_a_maker_note_pixel_pitch(written):
+    exif = images.exif_block(extra_exif={0xA002: 1200, 0xA003: 800})
+    base = images.pillow_image("JPEG", exif, size=(1200, 800))
+    data = makernotes.with_exiv2(base, ".jpg", makernotes.NIKON, {"Exif.Nikon3.SensorPixelSize": "84/10 84/10"})
+    assert makernotes.printed(data, ".jpg", "Exif.Nikon3.SensorPixelSize") == "8.4 x 8.4 um"
+    record = _frame(written, "pitch.jpg", data)
+    # 1200 px x 8.4 µm = 10.08 mm; 800 px x 8.4 µm = 6.72 mm (computed by hand).
+    assert (record.sensor_width_mm, record.sensor_height_mm) == (pytest.approx(10.08), pytest.approx(6.72))

@@ -379,6 +379,25 @@ def sensor_pixels(tags: dict) -> tuple[int | None, int | None]:
 
 _MIN_ORIGINAL_LONG_SIDE_PX = 1024
 
+# Maker-note keys that record the sensor's pixel pitch (width, height of one pixel), in µm:
+# libexiv2 0.28 prints Exif.Nikon3.SensorPixelSize 84/10 84/10 as "8.4 x 8.4 um".
+PIXEL_PITCH_KEYS = ("Exif.Nikon3.SensorPixelSize",)
+
+
+def sensor_size_mm(tags: dict, width_px: int | None, height_px: int | None) -> tuple[float | None, float | None]:
+    """The sensor's size in mm from a maker note's pixel pitch and the sensor's own pixels."""
+    if not width_px or not height_px:
+        return None, None
+    for key in PIXEL_PITCH_KEYS:
+        value = tags.get(key)
+        pitch = value if isinstance(value, tuple) else (value, value)
+        if len(pitch) != 2:
+            continue
+        pitch_x, pitch_y = number(pitch[0]), number(pitch[1])
+        if pitch_x and pitch_y and pitch_x > 0 and pitch_y > 0:
+            return width_px * pitch_x / 1000.0, height_px * pitch_y / 1000.0
+    return None, None
+
 
 def focus_point(tags: dict, width_px: int | None, height_px: int | None):
     """(cx, cy, w, h) in fractions of the image from EXIF SubjectArea / SubjectLocation.
@@ -608,6 +627,7 @@ EXTRA_KEYS = (
     "Exif.Photo.ApertureValue", "Exif.Photo.RecommendedExposureIndex", "Exif.Photo.StandardOutputSensitivity",
     "Exif.Photo.SubSecTimeOriginal", "Exif.Photo.FocalPlaneXResolution", "Exif.Photo.FocalPlaneYResolution",
     "Exif.Photo.FocalPlaneResolutionUnit", "Exif.Photo.SubjectArea", "Exif.Photo.SubjectLocation",
+    *PIXEL_PITCH_KEYS,
 ) + tuple(f"{group}.{name}" for group in _IMAGE_DIRECTORIES
           for name in ("ImageWidth", "ImageLength", "NewSubfileType"))
 

@@ -35,6 +35,7 @@ def normalise_capture(tags: dict, path: str) -> CaptureRecord:
     if values["lens_spec"] is None:
         values["lens_spec"] = fields.lens_spec_from_name(values["lens_model"])
     sensor_width_px, sensor_height_px = fields.sensor_pixels(tags)
+    sensor_width_mm, sensor_height_mm = fields.sensor_size_mm(tags, sensor_width_px, sensor_height_px)
     image_width = values["width_px"] or fields.as_int(tags.get(fields.CONTAINER_WIDTH))
     image_height = values["height_px"] or fields.as_int(tags.get(fields.CONTAINER_HEIGHT))
     point, point_key = fields.focus_point(tags, image_width, image_height)
@@ -49,6 +50,8 @@ def normalise_capture(tags: dict, path: str) -> CaptureRecord:
         lens_candidates=candidates,
         sensor_width_px=sensor_width_px,
         sensor_height_px=sensor_height_px,
+        sensor_width_mm=sensor_width_mm,
+        sensor_height_mm=sensor_height_mm,
         focal_plane_width_mm=fields.focal_plane_mm("Exif.Photo.FocalPlaneXResolution", values["width_px"], tags, warnings),
         focal_plane_height_mm=fields.focal_plane_mm("Exif.Photo.FocalPlaneYResolution", values["height_px"], tags, warnings),
         focus_point=point,
