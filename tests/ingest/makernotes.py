@@ -10,13 +10,14 @@ from __future__ import annotations
 
 import contextlib
 import os
+import struct
 import tempfile
 
 import exiv2
 
 from sharpzone.ingest.exiv2_quiet import silence_exiv2
 
-from . import images
+from . import images, tiffbuild
 
 CANON = ("Canon", "Canon EOS 5D")
 CANON_COMPACT = ("Canon", "Canon PowerShot G9")
@@ -101,3 +102,28 @@ def printed(data: bytes, suffix: str, key: str) -> str | None:
         exif_data = image.exifData()
         datum = exif_data.findKey(exiv2.ExifKey(key))
         return None if datum == exif_data.end() else datum.print(exif_data)
+
+
+# Canon's uuid box in a CR3 file (ISO BMFF): it holds the CMT1 (IFD0), CMT2 (Exif IFD) and
+# CMT3 (Canon maker note) TIFF structures, which libexiv2 reads.
+_CANON_CR3_UUID = bytes.fromhex("85c0b687820f11e08111f4ce462b6a48")
+
+
+def _box(kind: bytes, payload: bytes) -> bytes:
+    return struct.pack(">I", 8 + len(payload)) + kind + payload
+
+
+def cr3(focus_upper_cm: int, focus_lower_cm: int) -> bytes:
+    """A minimal CR3 (no pixel data): ftyp 'crx ', moov with Canon's uuid box: CMT1 with
+    Make/Model, CMT2 with FNumber 56/10 and FocalLength 35/1, CMT3 with a file-info array
+    (tag 0x0093, 16-bit; element 0 its size in bytes, 20 and 21 the upper and lower focus
+    distance, as libexiv2 decodes it)."""
+    cmt1 = tiffbuild.tiff(tiffbuild.Directory({0x010F: tiffbuild.ascii(CANON[0]),
+                                              0x0110: tiffbuild.ascii("Canon EOS R5")}))
+    cmt2 = tiffbuild.tiff(tiffbuild.Directory({0x829D: tiffbuild.rational((56, 10)),
+                                              0x920A: tiffbuild.rational((35, 1))}))
+    file_info = [44] + [0] * 19 + [focus_upper_cm & 0xFFFF, focus_lower_cm]
+    cmt3 = tiffbuild.tiff(tiffbuild.Directory({0x0093: tiffbuild.short(*file_info)}))
+    canon = _box(b"uuid", _CANON_CR3_UUID + _box(b"CNCV", b"CanonCR3_001/01.09.00/00.00.00")
+                 + _box(b"CMT1", cmt1) + _box(b"CMT2", cmt2) + _box(b"CMT3", cmt3))
+    return _box(b"ftyp", b"crx " + struct.pack(">I", 1) + b"crx isom") + _box(b"moov", canon)

@@ -67,6 +67,15 @@ def test_focus_point_from_subject_location_and_outside_the_image():
     assert fields.focus_point({"Exif.Photo.SubjectArea": (5, 10)}, None, 800) == (None, None)
 
 
+def test_maker_note_af_area_when_exif_has_none():
+    tags = {"Exif.NikonAf2.AFImageWidth": 6000, "Exif.NikonAf2.AFImageHeight": 4000,
+            "Exif.NikonAf2.AFAreaXPosition": 3000, "Exif.NikonAf2.AFAreaYPosition": 1000,
+            "Exif.NikonAf2.AFAreaWidth": 600, "Exif.NikonAf2.AFAreaHeight": 400}
+    assert fields.focus_point(tags, None, None) == (pytest.approx((0.5, 0.25, 0.1, 0.1)),
+                                                    "Exif.NikonAf2.AFAreaXPosition")
+    assert fields.focus_point({**tags, "Exif.NikonAf2.AFAreaXPosition": 0}, None, None) == (None, None)
+
+
 def test_sensor_pixels_of_a_raw_file_take_the_primary_image():
     tags = {fields.CONTAINER_IS_RAW: True,
             "Exif.Image.NewSubfileType": 1, "Exif.Image.ImageWidth": 256, "Exif.Image.ImageLength": 171,

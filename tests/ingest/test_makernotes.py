@@ -9,6 +9,7 @@ marked so.
 from __future__ import annotations
 
 import math
+import struct
 
 import exiv2
 import pytest
@@ -203,3 +204,34 @@ def test_sensor_size_from_a_maker_note_pixel_pitch(written):
     record = _frame(written, "pitch.jpg", data)
     # 1200 px x 8.4 µm = 10.08 mm; 800 px x 8.4 µm = 6.72 mm (computed by hand).
     assert (record.sensor_width_mm, record.sensor_height_mm) == (pytest.approx(10.08), pytest.approx(6.72))
+
+
+# --- AF area --------------------------------------------------------------------------------
+
+def test_af_area_from_a_nikon_maker_note(written):
+    # AF info 2, version 0100, as libexiv2 lays it out: version, 4 flags, 7 point bytes and
+    # one spare, then 16-bit image width/height and area centre x/y, width, height, in the
+    # byte order of the file (piexif writes big-endian, "MM").
+    block = b"0100" + bytes([1, 0, 1, 0]) + bytes(8) + struct.pack(">6H", 6048, 4024, 3024, 1006, 302, 201) + bytes(2)
+    data = makernotes.makernote_jpeg(makernotes.NIKON, {
+        "Exif.Nikon3.Version": "48 50 49 48", "Exif.Nikon3.AFInfo2": " ".join(str(byte) for byte in block)})
+    assert makernotes.printed(data, ".jpg", "Exif.NikonAf2.AFAreaXPosition") == "3024"
+    record = _frame(written, "af.jpg", data)
+    assert record.focus_point == pytest.approx((0.5, 0.25, 302 / 6048, 201 / 4024))
+    assert record.focus_point_key == "Exif.NikonAf2.AFAreaXPosition"
+
+
+# --- a raw container: CR3 ---------------------------------------------------------------------
+
+def test_cr3_raw_gives_its_tags_and_the_bracket(written):
+    from sharpzone.ingest import formats
+    from sharpzone.ingest.scan import sniff_file
+
+    data = makernotes.cr3(focus_upper_cm=250, focus_lower_cm=240)
+    path = written("frame.cr3", data)
+    assert sniff_file(path) == formats.BMFF_RAW
+    assert makernotes.printed(data, ".cr3", "Exif.CanonFi.FocusDistanceUpper") == "2.50 m"
+    record = read_capture(path)
+    assert (record.exif_make, record.f_number, record.focal_mm) == ("Canon", pytest.approx(5.6), 35.0)
+    assert (record.focus_near_mm, record.focus_far_mm) == (pytest.approx(2400.0), pytest.approx(2500.0))
+    assert record.focus_source == "makernote"

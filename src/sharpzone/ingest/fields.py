@@ -399,34 +399,49 @@ def sensor_size_mm(tags: dict, width_px: int | None, height_px: int | None) -> t
     return None, None
 
 
-def focus_point(tags: dict, width_px: int | None, height_px: int | None):
-    """(cx, cy, w, h) in fractions of the image from EXIF SubjectArea / SubjectLocation.
+# Maker-note AF areas libexiv2 0.28 decodes: the centre, width and height of the area that
+# focused, in pixels of an image of the size the same block gives (AFImageWidth/Height).
+AF_AREA_GROUPS = ("Exif.NikonAf2", "Exif.NikonAf22")
+_AF_AREA_NAMES = ("AFImageWidth", "AFImageHeight", "AFAreaXPosition", "AFAreaYPosition", "AFAreaWidth",
+                  "AFAreaHeight")
+AF_AREA_KEYS = tuple(f"{group}.{name}" for group in AF_AREA_GROUPS for name in _AF_AREA_NAMES)
 
-    CIPA DC-008 0x9214 SubjectArea: 2 values = a point, 3 = a circle (centre, diameter),
-    4 = a rectangle (centre, width, height); 0xA214 SubjectLocation: a point; all in
-    pixels of the main image, from its top left. Returns (point, key) or (None, None).
+
+def focus_point(tags: dict, width_px: int | None, height_px: int | None):
+    """(cx, cy, w, h) in fractions of the image, and the key it came from, or (None, None).
+
+    First EXIF: CIPA DC-008 0x9214 SubjectArea: 2 values = a point, 3 = a circle (centre,
+    diameter), 4 = a rectangle (centre, width, height); 0xA214 SubjectLocation: a point; all
+    in pixels of the main image, from its top left. Then a maker note's AF area.
     """
-    if not width_px or not height_px:
-        return None, None
-    for key in ("Exif.Photo.SubjectArea", "Exif.Photo.SubjectLocation"):
-        value = tags.get(key)
-        values = value if isinstance(value, tuple) else (value,)
-        numbers = [number(item) for item in values]
-        if not numbers or any(item is None or item < 0 for item in numbers):
-            continue
-        if len(numbers) == 2 or key.endswith("SubjectLocation"):
-            area = (numbers[0], numbers[1], 0.0, 0.0) if len(numbers) >= 2 else None
-        elif len(numbers) == 3:
-            area = (numbers[0], numbers[1], numbers[2], numbers[2])
-        elif len(numbers) == 4:
-            area = tuple(numbers)
-        else:
-            area = None
-        if area is None or area[0] > width_px or area[1] > height_px:
-            continue
-        return (area[0] / width_px, area[1] / height_px, min(area[2] / width_px, 1.0),
-                min(area[3] / height_px, 1.0)), key
+    if width_px and height_px:
+        for key in ("Exif.Photo.SubjectArea", "Exif.Photo.SubjectLocation"):
+            area = _subject_area(tags.get(key), key.endswith("SubjectLocation"))
+            if area is None or area[0] > width_px or area[1] > height_px:
+                continue
+            return (area[0] / width_px, area[1] / height_px, min(area[2] / width_px, 1.0),
+                    min(area[3] / height_px, 1.0)), key
+    for group in AF_AREA_GROUPS:
+        frame_w, frame_h, x, y, w, h = (number(tags.get(f"{group}.{name}")) for name in _AF_AREA_NAMES)
+        if not (frame_w and frame_h and x and y) or x > frame_w or y > frame_h:
+            continue  # 0 = no area recorded (e.g. phase-detect frames)
+        w, h = w or 0.0, h or 0.0
+        return (x / frame_w, y / frame_h, min(w / frame_w, 1.0), min(h / frame_h, 1.0)), f"{group}.AFAreaXPosition"
     return None, None
+
+
+def _subject_area(value, is_location: bool) -> tuple[float, float, float, float] | None:
+    values = value if isinstance(value, tuple) else (value,)
+    numbers = [number(item) for item in values]
+    if not numbers or any(item is None or item < 0 for item in numbers):
+        return None
+    if len(numbers) == 2 or (is_location and len(numbers) >= 2):
+        return (numbers[0], numbers[1], 0.0, 0.0)
+    if len(numbers) == 3:
+        return (numbers[0], numbers[1], numbers[2], numbers[2])
+    if len(numbers) == 4:
+        return tuple(numbers)
+    return None
 
 
 # ---------------------------------------------------------------------------------------
@@ -627,7 +642,7 @@ EXTRA_KEYS = (
     "Exif.Photo.ApertureValue", "Exif.Photo.RecommendedExposureIndex", "Exif.Photo.StandardOutputSensitivity",
     "Exif.Photo.SubSecTimeOriginal", "Exif.Photo.FocalPlaneXResolution", "Exif.Photo.FocalPlaneYResolution",
     "Exif.Photo.FocalPlaneResolutionUnit", "Exif.Photo.SubjectArea", "Exif.Photo.SubjectLocation",
-    *PIXEL_PITCH_KEYS,
+    *PIXEL_PITCH_KEYS, *AF_AREA_KEYS,
 ) + tuple(f"{group}.{name}" for group in _IMAGE_DIRECTORIES
           for name in ("ImageWidth", "ImageLength", "NewSubfileType"))
 
