@@ -85,3 +85,20 @@ def test_importing_the_read_stages_loads_no_heavy_library():
     )
     run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert run.stdout.strip() == "[]"
+
+
+def test_sidecar_beside_a_raw_file_gives_its_key_and_an_exact_bracket(written):
+    from . import makernotes
+
+    path = written("frame.cr3", makernotes.cr3(focus_upper_cm=0, focus_lower_cm=0))
+    written("frame.xmp", attribute_form("75/10"))
+    record = read_capture(path)
+    assert (record.focus_mm, record.focus_source, record.focus_key) == (
+        pytest.approx(7500.0), "xmp", "Xmp.exif.SubjectDistance")
+    assert record.focus_near_mm == record.focus_far_mm == record.focus_mm
+
+
+def test_exif_distance_keeps_its_key_through_read_capture(written):
+    record = read_capture(written("frame.jpg", images.jpeg(images.exif_block())))
+    assert (record.focus_key, record.focus_near_mm, record.focus_far_mm) == (
+        "Exif.Photo.SubjectDistance", pytest.approx(3200.0), pytest.approx(3200.0))

@@ -91,3 +91,13 @@ def test_every_distance_key_documents_its_units_and_codes():
     for entry in fields.DISTANCE_KEYS:
         assert entry.note and entry.precision in (fields.EXACT, fields.BRACKET, fields.STEP, fields.RESOLUTION)
         assert (entry.mm_per_unit is None) == (entry.precision == fields.STEP)
+
+
+def test_keys_for_make_keep_standard_keys_and_the_makers_groups():
+    keys = fields.wanted_keys()
+    canon = fields.keys_for_make(keys, "Canon", is_raw=False)
+    assert "Exif.Photo.FNumber" in canon and "Exif.CanonFi.FocusDistanceUpper" in canon
+    assert not any(key.startswith(("Exif.Nikon", "Exif.SubImage")) for key in canon)
+    assert "Exif.SubImage1.ImageWidth" in fields.keys_for_make(keys, "Canon", is_raw=True)
+    # A Make the table does not know: every maker-note key is looked up.
+    assert set(fields.keys_for_make(keys, "Korvath", is_raw=True)) == set(keys)

@@ -647,6 +647,45 @@ EXTRA_KEYS = (
           for name in ("ImageWidth", "ImageLength", "NewSubfileType"))
 
 
+# Which maker-note groups a file can hold, by its EXIF Make (lower case, a substring): libexiv2
+# picks the maker-note layout by Make in the same way. A Make not listed here gets every key.
+MAKER_GROUPS = {
+    "canon": ("Canon",),
+    "nikon": ("Nikon",),
+    "olympus": ("Olympus",),
+    "om digital": ("Olympus",),
+    "casio": ("Casio",),
+    "sony": ("Sony", "Minolta"),
+    "minolta": ("Minolta",),
+    "pentax": ("Pentax",),
+    "ricoh": ("Pentax",),
+    "samsung": ("Samsung",),
+    "panasonic": ("Panasonic",),
+    "leica": ("Panasonic",),
+    "fujifilm": ("Fujifilm",),
+}
+_STANDARD_GROUPS = ("Exif.Image.", "Exif.Photo.", "Exif.GPSInfo.")
+
+
+def keys_for_make(keys: tuple[str, ...], make: str | None, is_raw: bool) -> tuple[str, ...]:
+    """The keys worth looking up in a file of this Make: the standard ones, the raw image
+    directories only in a raw file, and only the maker-note groups its Make can hold."""
+    groups = None
+    lowered = (make or "").lower()
+    for fragment, prefixes in MAKER_GROUPS.items():
+        if fragment in lowered:
+            groups = tuple(f"Exif.{prefix}" for prefix in prefixes)
+            break
+    chosen = []
+    for key in keys:
+        if key.startswith("Exif.SubImage"):
+            if is_raw:
+                chosen.append(key)
+        elif key.startswith(_STANDARD_GROUPS) or groups is None or key.startswith(groups):
+            chosen.append(key)
+    return tuple(chosen)
+
+
 def wanted_keys() -> tuple[str, ...]:
     """All keys the readers look up, in a stable order (printed-value keys without suffix)."""
     keys: list[str] = []

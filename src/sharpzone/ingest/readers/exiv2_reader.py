@@ -42,6 +42,8 @@ _NOT_RAW_TYPES = frozenset({"image/jpeg", "image/png", "image/webp", "image/tiff
 _BMFF_TYPES = frozenset({"image/heic", "image/heif", "image/avif", "image/x-canon-cr3", "video/quicktime"})
 
 _keys = None
+# Distinct (Make, raw?) pairs whose key lists are kept; a card holds few.
+_MAX_CACHED_MAKES = 64
 
 
 class Exiv2Reader:
@@ -61,9 +63,10 @@ class Exiv2Reader:
                 image = exiv2.ImageFactory.open(name)
                 image.readMetadata()
             data = image.exifData()
-            tags = _tags(exiv2, data)
-            width, height = image.pixelWidth(), image.pixelHeight()
             mime = image.mimeType()
+            is_raw = mime not in _NOT_RAW_TYPES or formats.is_raw_name(path)
+            tags = _tags(exiv2, data, is_raw)
+            width, height = image.pixelWidth(), image.pixelHeight()
         except exiv2.Exiv2Error as err:
             raise FileReadError(path, f"the metadata reader refused the file ({_error_name(err)})") from None
         # For ISO BMFF libexiv2 falls back to the EXIF pixel dimensions when the file has no
@@ -71,7 +74,7 @@ class Exiv2Reader:
         if width > 0 and height > 0 and mime not in _BMFF_TYPES:
             tags[fields.CONTAINER_WIDTH] = int(width)
             tags[fields.CONTAINER_HEIGHT] = int(height)
-        tags[fields.CONTAINER_IS_RAW] = mime not in _NOT_RAW_TYPES or formats.is_raw_name(path)
+        tags[fields.CONTAINER_IS_RAW] = is_raw
         return tags
 
 
@@ -119,17 +122,26 @@ def _check_budget(path: str) -> None:
         raise FileReadError(path, os_error_reason(err)) from None
 
 
-def _exif_keys(exiv2):
+def _exif_keys(exiv2, make: str | None, is_raw: bool):
+    """(name, ExifKey) pairs for a file of this Make, built once per Make."""
     global _keys
     if _keys is None:
-        _keys = tuple((name, exiv2.ExifKey(name)) for name in fields.wanted_keys())
-    return _keys
+        _keys = {"": {name: exiv2.ExifKey(name) for name in fields.wanted_keys()}}
+    cache_key = (make, is_raw)
+    if cache_key not in _keys:
+        if len(_keys) > _MAX_CACHED_MAKES:
+            _keys = {"": _keys[""]}
+        names = fields.keys_for_make(tuple(_keys[""]), make, is_raw)
+        _keys[cache_key] = tuple((name, _keys[""][name]) for name in names)
+    return _keys[cache_key]
 
 
-def _tags(exiv2, data) -> Tags:
+def _tags(exiv2, data, is_raw: bool) -> Tags:
     tags: Tags = {}
     end = data.end()
-    for name, key in _exif_keys(exiv2):
+    make_datum = data.findKey(exiv2.ExifKey("Exif.Image.Make"))
+    make = None if make_datum == end else make_datum.toString()[:_MAX_TEXT_BYTES]
+    for name, key in _exif_keys(exiv2, make, is_raw):
         datum = data.findKey(key)
         if datum == end:
             continue
