@@ -77,6 +77,19 @@ def test_both_readers_give_the_same_record(written, name):
     assert (record.focus_key, record.focus_source) == ("Exif.Photo.SubjectDistance", "exif")
 
 
+@pytest.mark.parametrize("image_format", ["JPEG", "PNG", "TIFF", "WEBP"])
+def test_both_readers_agree_on_a_full_size_image(written, image_format):
+    """A full-size 1200 x 800 image whose EXIF pixel dimensions are its own: both readers
+    give it as the sensor's pixel size (the containers' own headers agree)."""
+    exif = images.exif_block(extra_exif={0xA002: 1200, 0xA003: 800})
+    buffer = io.BytesIO()
+    Image.new("RGB", (1200, 800), (120, 90, 60)).save(buffer, image_format, exif=exif)
+    path = written(f"full.{image_format.lower()}", buffer.getvalue())
+    records = [normalise_capture(reader.read(path), path) for reader in READERS]
+    assert records[0] == records[1]
+    assert (records[0].sensor_width_px, records[0].sensor_height_px) == (1200, 800)
+
+
 @pytest.mark.parametrize("distance", [(0xFFFFFFFF, 1), (0xFFFFFFFF, 100), (0, 1), (0, 0)])
 def test_both_readers_agree_on_infinity_and_unknown(written, distance):
     # CIPA DC-008 SubjectDistance: numerator 0xFFFFFFFF = infinity, 0 = unknown.

@@ -389,3 +389,52 @@ def sniff_path(path: str) -> str | None:
     if not head:
         raise FileReadError(path, "empty file")
     return formats.sniff_image_kind(head)
+
+
+# JPEG start-of-frame markers (ISO/IEC 10918-1 B.1.1.3): C0-CF except DHT C4, JPG C8, DAC CC.
+_SOF_MARKERS = frozenset(range(0xC0, 0xD0)) - {0xC4, 0xC8, 0xCC}
+
+
+def image_size(file: BinaryIO, kind: str | None) -> tuple[int, int] | None:
+    """The pixel size of the main image as its container's own header says (JPEG frame
+    header, PNG IHDR, extended WebP VP8X), or ``None``; the TIFF size is a tag."""
+    try:
+        if kind == formats.JPEG:
+            return _jpeg_frame_size(file)
+        if kind == formats.PNG:
+            file.seek(16)
+            width, height = struct.unpack(">II", file.read(8))
+            return width, height
+        if kind == formats.WEBP:
+            return _webp_size(file)
+    except (struct.error, Unreadable):
+        return None
+    return None
+
+
+def _jpeg_frame_size(file: BinaryIO) -> tuple[int, int] | None:
+    file.seek(2)
+    while True:
+        marker = _next_jpeg_marker(file)
+        if marker in (0xDA, 0xD9):
+            return None
+        if 0xD0 <= marker <= 0xD7 or marker == 0x01:
+            continue
+        (length,) = struct.unpack(">H", file.read(2))
+        if marker in _SOF_MARKERS:
+            _precision, height, width = struct.unpack(">BHH", file.read(5))
+            return width, height
+        if length < 2:
+            return None
+        file.seek(length - 2, os.SEEK_CUR)
+
+
+def _webp_size(file: BinaryIO) -> tuple[int, int] | None:
+    """The canvas size of an extended WebP (the VP8X chunk: flags, 3 reserved bytes, then
+    width - 1 and height - 1 in 24 bits each). A WebP with an EXIF chunk is always extended."""
+    file.seek(12)
+    chunk_id, _length = struct.unpack("<4sI", file.read(8))
+    if chunk_id != b"VP8X":
+        return None
+    data = file.read(10)
+    return int.from_bytes(data[4:7], "little") + 1, int.from_bytes(data[7:10], "little") + 1

@@ -34,6 +34,7 @@ from sharpzone.ingest.readers.containers import (
     Unreadable,
     check_directories,
     exif_tiff_block,
+    image_size,
     tiff_byte_order,
 )
 from sharpzone.ingest.records import FileReadError, os_error_reason
@@ -65,6 +66,9 @@ class ExifreadReader:
                 stream = file if block is file else io.BytesIO(block)
                 tags = _tags_from_tiff(stream)
                 tags[fields.CONTAINER_IS_RAW] = formats.is_raw_name(path)
+                size = _container_size(file, tags)
+                if size is not None:
+                    tags[fields.CONTAINER_WIDTH], tags[fields.CONTAINER_HEIGHT] = size
                 return tags
         except FileReadError:
             raise
@@ -76,6 +80,18 @@ class ExifreadReader:
             raise FileReadError(path, "damaged EXIF (directories point into each other)") from None
         except Exception as err:  # noqa: BLE001 - the boundary: nothing else may escape
             raise FileReadError(path, f"damaged EXIF ({type(err).__name__})") from None
+
+
+def _container_size(file: BinaryIO, tags: Tags) -> tuple[int, int] | None:
+    """The main image's own pixel size, as libexiv2 reports it: the container header, or for
+    TIFF the first directory's ImageWidth/ImageLength (none for ISO BMFF, as there)."""
+    file.seek(0)
+    kind = formats.sniff_image_kind(file.read(64))
+    if kind == formats.TIFF:
+        width, height = tags.get("Exif.Image.ImageWidth"), tags.get("Exif.Image.ImageLength")
+        return (width, height) if isinstance(width, int) and isinstance(height, int) else None
+    size = image_size(file, kind)
+    return size if size and size[0] > 0 and size[1] > 0 else None
 
 
 def _exifread():
