@@ -151,3 +151,23 @@ def tiff_with_ifd_loop() -> bytes:
 
     first, second = 8, 8 + 18
     return b"II*\x00" + struct.pack("<I", first) + ifd(second) + ifd(first)
+
+
+def mutation_strategies() -> dict:
+    """hypothesis strategies for ``mutated``: up to 12 bytes overwritten, maybe a cut."""
+    from hypothesis import strategies as st
+
+    return {
+        "changes": st.lists(st.tuples(st.floats(0, 1, exclude_max=True), st.integers(0, 255)), max_size=12),
+        "keep": st.one_of(st.none(), st.floats(0, 1)),
+    }
+
+
+def mutated(data: bytes, changes, keep) -> bytes:
+    """``data`` with bytes overwritten at relative positions, then cut to a share of it."""
+    result = bytearray(data)
+    for where, byte in changes:
+        result[int(where * len(result))] = byte
+    if keep is not None:
+        result = result[: int(keep * len(result))]
+    return bytes(result)

@@ -318,17 +318,11 @@ _SEED_FILES = {
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(
     kind=st.sampled_from(sorted(_SEED_FILES)),
-    changes=st.lists(st.tuples(st.floats(0, 1, exclude_max=True), st.integers(0, 255)), max_size=12),
-    keep=st.one_of(st.none(), st.floats(0, 1)),
+    **images.mutation_strategies(),
 )
 def test_mutated_files_give_tags_or_read_error_only(tmp_path, kind, changes, keep):
-    data = bytearray(_SEED_FILES[kind])
-    for where, byte in changes:
-        data[int(where * len(data))] = byte
-    if keep is not None:
-        data = data[: int(keep * len(data))]
     path = tmp_path / f"fuzz.{kind}"
-    path.write_bytes(bytes(data))
+    path.write_bytes(images.mutated(_SEED_FILES[kind], changes, keep))
     try:
         tags = read_tags(path)
     except FileReadError as err:

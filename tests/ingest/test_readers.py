@@ -15,6 +15,8 @@ import sys
 
 import exiv2
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from PIL import Image
 
 from sharpzone.ingest import fields
@@ -260,3 +262,26 @@ def test_records_from_libexiv2_are_plain_and_picklable(written):
     record = read_capture(written("frame.jpg", images.jpeg(images.exif_block())))
     assert isinstance(record, CaptureRecord)
     assert pickle.loads(pickle.dumps(record)) == record
+
+
+_SEED_FILES = {
+    "jpg": images.jpeg(images.exif_block()),
+    "tif": images.pillow_image("TIFF", images.exif_block(), size=(4, 4)),
+    "webp": images.pillow_image("WEBP", images.exif_block()),
+    "heic": images.heif(images.exif_block()),
+}
+
+
+@settings(max_examples=150, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@given(
+    kind=st.sampled_from(sorted(_SEED_FILES)),
+    **images.mutation_strategies(),
+)
+def test_mutated_files_give_a_record_or_a_read_problem_through_both_readers(tmp_path, kind, changes, keep):
+    path = tmp_path / f"fuzz.{kind}"
+    path.write_bytes(images.mutated(_SEED_FILES[kind], changes, keep))
+    result = read_capture(str(path))
+    assert isinstance(result, (CaptureRecord, ReadProblem))
+    if isinstance(result, ReadProblem):
+        assert result.reason and "\n" not in result.reason

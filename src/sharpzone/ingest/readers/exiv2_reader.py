@@ -69,6 +69,10 @@ class Exiv2Reader:
             width, height = image.pixelWidth(), image.pixelHeight()
         except exiv2.Exiv2Error as err:
             raise FileReadError(path, f"the metadata reader refused the file ({_error_name(err)})") from None
+        except FileReadError:
+            raise
+        except Exception as err:  # noqa: BLE001 - the boundary: the fallback reader gets its turn
+            raise FileReadError(path, f"the metadata reader failed ({type(err).__name__})") from None
         # For ISO BMFF libexiv2 falls back to the EXIF pixel dimensions when the file has no
         # image-size property, so there the size would only echo EXIF: left out.
         if width > 0 and height > 0 and mime not in _BMFF_TYPES:
