@@ -208,7 +208,8 @@ def _known_by_inode(session: Session, rows: list[dict]) -> dict[tuple[int, int],
 
 
 def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
-                   target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary) -> None:
+                   target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
+                   found: set[str] | None = None) -> None:
     """Write one batch of read results in one transaction (retried once if a concurrent run
     registered the same body, lens or shoot first)."""
     from sqlalchemy import delete, update
@@ -251,7 +252,10 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
                         match = known.get((row["device"], row["inode"]))
                         if match is None:
                             kept.append(row)
-                        elif _same_file(match[1], (row["device"], row["inode"])):
+                            continue
+                        if found is not None:
+                            found.add(match[1])  # its old path is accounted for, not vanished
+                        if _same_file(match[1], (row["device"], row["inode"])):
                             duplicates += 1
                         else:
                             session.execute(update(Frame).where(Frame.id == match[0]).values(path=row["path"]))
@@ -433,13 +437,13 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
             batch.append((result, by_path[result.path]))
             done += 1
             if len(batch) >= batch_size:
-                _persist_batch(catalog, batch, target, stored, matcher_factory, summary)
+                _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
                 batch = []
             notify("read", done, plan.total_to_read)
     finally:
         results.close()
     if batch:
-        _persist_batch(catalog, batch, target, stored, matcher_factory, summary)
+        _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
     if plan.scan_problems:
         _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, "")) for problem in plan.scan_problems],
                        target, stored, matcher_factory, summary)
