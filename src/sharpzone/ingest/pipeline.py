@@ -301,6 +301,18 @@ def _update_user_distances(catalog: Catalog, changes: list[tuple[str, float]]) -
                 focus_key=USER_DISTANCES_KEY))
 
 
+def _still_without_format(catalog: Catalog, names: list[str]) -> list[str]:
+    """Those of the bodies ``names`` that still have no sensor format (a later frame may
+    have told it), in the order given."""
+    from sqlalchemy import select
+
+    from sharpzone.catalog.models import Body
+
+    with catalog.session_scope() as session:
+        missing = set(session.scalars(select(Body.name).where(Body.name.in_(names), Body.format_id.is_(None))))
+    return [name for name in names if name in missing]
+
+
 def _move_frames(catalog: Catalog, paths: list[str], target: _Target) -> None:
     """File unchanged frames under the shoot named with an explicit ``--shoot``."""
     from sqlalchemy import update
@@ -452,6 +464,8 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
         summary.unchanged -= len(plan.distance_changes)
         summary.updated += len(plan.distance_changes)
     _file_elsewhere(catalog, plan, target, summary, shoot_names)
+    if summary.needs_format:
+        summary.needs_format = _still_without_format(catalog, summary.needs_format)
 
     found = plan.found
     found.update(printable_path(problem.path) for problem in plan.scan_problems)
