@@ -45,3 +45,12 @@ class CatalogError(SharpzoneError):
 
 class ReadError(SharpzoneError):
     """An image or sidecar file could not be read; ingest records it and goes on."""
+
+
+class Interrupted(SharpzoneError):
+    """The user stopped a long run (Ctrl-C, or SIGTERM from a service manager); what was
+    finished is kept. Exit code 130 for SIGINT and 143 for SIGTERM (128 + the signal)."""
+
+    def __init__(self, message: str, *, signal_number: int = 2) -> None:
+        super().__init__(message)
+        self.exit_code = 128 + signal_number

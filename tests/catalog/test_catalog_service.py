@@ -108,7 +108,8 @@ def test_database_also_refuses_a_second_body_without_serial(catalog):
     [
         ({"format_name": "half-plate"}, InvalidValue, r"no sensor format 'half-plate'"),
         ({"pixel_width": 0}, InvalidValue, r"pixel width 0 must be a positive whole number"),
-        ({"exif_make": " "}, InvalidValue, r"EXIF make name must not be empty"),
+        # Some files name only a make or only a model (issue 10 part 6); not neither.
+        ({"exif_make": " ", "exif_model": " "}, InvalidValue, r"EXIF make and model must not both be empty"),
     ],
 )
 def test_bad_body_values_are_refused(catalog_session, kwargs, error, message):

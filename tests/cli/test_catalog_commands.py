@@ -9,7 +9,7 @@ import pytest
 from sqlalchemy import func, select
 from typer.testing import CliRunner
 
-from sharpzone.catalog.engine import create_catalog_engine
+from sharpzone.catalog.engine import create_catalog_engine, open_catalog
 from sharpzone.catalog.models import Body, Lens, Shoot
 from sharpzone.cli.app import app
 
@@ -25,7 +25,9 @@ def cli(tmp_path):
         return runner.invoke(app, ["--catalog", str(path), *args], env={"COLUMNS": "200"})
 
     invoke.path = path
-    assert invoke("catalog", "info").exit_code == 0  # the catalogue exists before each check
+    with open_catalog(path):  # the catalogue exists before each check (read commands never create one)
+        pass
+    assert invoke("catalog", "info").exit_code == 0
     return invoke
 
 

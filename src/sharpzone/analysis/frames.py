@@ -124,7 +124,7 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
         Body.id.label("body_id"), Body.name.label("body"), Body.pixel_width, Body.pixel_height,
         SensorFormatRow.name.label("format_name"), SensorFormatRow.width_mm.label("format_width_mm"),
         SensorFormatRow.height_mm.label("format_height_mm"), SensorFormatRow.coc_divisor.label("format_coc_divisor"),
-    ).join(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")
+    ).outerjoin(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")  # a body may lack a format
     lenses = table(select(
         Lens.id.label("lens_id"), Lens.name.label("lens"), Lens.pupil_magnification,
         Lens.min_aperture.label("lens_min_aperture")), "lens_id")

@@ -353,6 +353,9 @@ def sheet_from_catalog(
     pixel_pitch_mm = None
     if body:
         body_row = get_body(session, body)
+        if body_row.sensor_format is None:
+            raise InvalidValue(f"body {body_row.name!r} has no sensor format yet",
+                               hint=f"set it with 'sharpzone body edit {body_row.name!r} --format FORMAT' or give --sensor")
         fmt = body_row.sensor_format.to_core()
         pixel_pitch_mm = body_row.pixel_pitch_mm
     else:

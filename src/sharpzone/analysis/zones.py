@@ -87,11 +87,29 @@ def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None
     return coc, specs, origins
 
 
+_MISSING_WORDS = ("body unknown", "sensor format unknown", "focal length unknown", "f-number unknown")
+
+
+def _settings_missing(frames: pd.DataFrame, focal: np.ndarray, f_number: np.ndarray) -> list[str | None]:
+    """Per frame, what keeps its zone from being computed, in words ("sensor format unknown"
+    for a body registered without one, until ``body edit --format`` sets it); ``None`` if nothing."""
+    import pandas as pd
+
+    body_known = (frames["body"].notna() if "body" in frames else pd.Series(False, index=frames.index)).to_numpy()
+    format_known = frames["format_name"].notna().to_numpy()
+    flags = np.column_stack([~body_known, body_known & ~format_known, ~(focal > 0), ~(f_number > 0)])
+    codes = flags.astype(np.int64) @ (1 << np.arange(len(_MISSING_WORDS), dtype=np.int64)) if len(frames) else []
+    words = {int(code): ", ".join(w for i, w in enumerate(_MISSING_WORDS) if code >> i & 1) or None
+             for code in np.unique(codes)}
+    return [words[int(code)] for code in codes]
+
+
 def add_zones(frames: pd.DataFrame, coc_policy: CocPolicy | None = None) -> pd.DataFrame:
     """``frames`` with the ``ZONE_COLUMNS`` added (mm, from the sensor plane).
 
-    Rows whose focal length, f-number or format is unknown get NaN everywhere; rows with an
-    unknown focus distance still get CoC, hyperfocal distance and Airy disk.
+    Rows whose focal length, f-number or format is unknown get NaN everywhere and say which
+    in ``settings_missing`` (e.g. "sensor format unknown"); rows with an unknown focus
+    distance still get CoC, hyperfocal distance and Airy disk.
     """
     result = frames.copy()
     count = len(result)
@@ -122,6 +140,7 @@ def add_zones(frames: pd.DataFrame, coc_policy: CocPolicy | None = None) -> pd.D
         columns["effective_f_number"][rows] = zone.effective_f_number
     has_n = ~np.isnan(columns["effective_f_number"])
     columns["airy_disk_mm"][has_n] = airy_disk_diameter_mm(columns["effective_f_number"][has_n])
+    result["settings_missing"] = _settings_missing(result, focal, f_number)
     for name in ZONE_COLUMNS:
         if name == "coc_policy":
             result[name] = specs

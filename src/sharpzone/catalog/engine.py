@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from sharpzone.catalog.location import (
+    ENV_VAR,
     display_url,
     refuse_raw_at_in_password,
     resolve_catalog_url,
@@ -193,20 +194,28 @@ class Catalog:
 
 
 @contextmanager
-def open_catalog(location: str | os.PathLike | None = None) -> Iterator[Catalog]:
+def open_catalog(location: str | os.PathLike | None = None, *, write: bool = True) -> Iterator[Catalog]:
     """Open (creating or upgrading as needed) the catalogue at ``location``.
 
     ``location`` is a file path or SQLAlchemy URL; ``None`` means ``SHARPZONE_CATALOG`` or
     the default file in the user data folder. A new catalogue is created at the newest
     schema with the shipped sensor formats; an older one is backed up and upgraded; one
     newer than this program is refused (see ``sharpzone.catalog.migrate.prepare_catalog``).
+
+    ``write=False`` is for commands that only read: a catalogue file the user named (by
+    ``location`` or ``SHARPZONE_CATALOG``) that does not exist is an error ("no catalogue at
+    …") instead of a new empty one, and a file in a read-only folder, or itself read-only,
+    is opened read-only (SQLite's immutable mode: no journal files are needed).
     """
     from sqlalchemy.exc import DBAPIError
 
     from sharpzone.catalog.migrate import prepare_catalog
 
     url = resolve_catalog_url(location)
-    _make_sqlite_folder(url)
+    if not write:
+        url = _url_for_reading(url, named=location is not None or bool(os.environ.get(ENV_VAR)))
+    else:
+        _make_sqlite_folder(url)
     prepare_catalog(url)
     engine = create_catalog_engine(url)
     catalog = Catalog(url, engine)
@@ -219,10 +228,37 @@ def open_catalog(location: str | os.PathLike | None = None) -> Iterator[Catalog]
 
 
 @contextmanager
-def session_scope(location: str | os.PathLike | None = None) -> Iterator[Session]:
+def session_scope(location: str | os.PathLike | None = None, *, write: bool = True) -> Iterator[Session]:
     """``open_catalog`` and one ``Catalog.session_scope`` in a single ``with``."""
-    with open_catalog(location) as catalog, catalog.session_scope() as session:
+    with open_catalog(location, write=write) as catalog, catalog.session_scope() as session:
         yield session
+
+
+def read_only_url(path: str | os.PathLike) -> str:
+    """A SQLite URL that reads the file at ``path`` without writing anything beside it."""
+    from urllib.parse import quote
+
+    return f"sqlite:///file:{quote(str(Path(path).resolve()))}?mode=ro&immutable=1&uri=true"
+
+
+def _writable(path: Path) -> bool:
+    effective = os.access in os.supports_effective_ids
+    return os.access(path, os.W_OK, effective_ids=effective)
+
+
+def _url_for_reading(url: str, *, named: bool) -> str:
+    path = sqlite_path(url)
+    if path is None:
+        return url
+    if not path.exists():
+        if named:
+            raise CatalogError(f"no catalogue at {path}",
+                               hint="a command that writes (such as 'sharpzone ingest') creates it")
+        _make_sqlite_folder(url)
+        return url
+    if not _writable(path) or not _writable(path.parent):
+        return read_only_url(path)
+    return url
 
 
 def _make_sqlite_folder(url: str) -> None:

@@ -8,7 +8,7 @@ import sys
 import typer
 from typer.core import TyperGroup
 
-from sharpzone.errors import SharpzoneError
+from sharpzone.errors import Interrupted, SharpzoneError
 
 PROG = "sharpzone"
 
@@ -51,7 +51,8 @@ class SharpzoneGroup(TyperGroup):
     """The top-level command group: one clear line on stderr for any error we can explain.
 
     Exit codes: 0 success, 1 a ``SharpzoneError`` (2 for bad values and usage), 130 on
-    Ctrl-C. A traceback is shown only with ``--debug``. A closed pipe (``| head``) is quiet.
+    Ctrl-C (143 on SIGTERM during an ingest), 1 with one line for a bug. A traceback
+    is shown only with ``--debug``. A closed pipe (``| head``) is quiet.
     """
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):  # noqa: D102
@@ -70,6 +71,10 @@ class SharpzoneGroup(TyperGroup):
             where = f"{context.command_path}: " if context is not None else ""
             _say_error(where + _one_line(error.format_message()))
             code = error.exit_code
+        except Interrupted as error:
+            # Ctrl-C or SIGTERM during a long run: what was kept and how to finish, one line.
+            typer.echo(f"{PROG}: {_one_line(error)}", err=True)
+            code = error.exit_code
         except SharpzoneError as error:
             if debug:
                 _print_traceback(error, argv)
@@ -81,8 +86,11 @@ class SharpzoneGroup(TyperGroup):
             devnull = os.open(os.devnull, os.O_WRONLY)
             os.dup2(devnull, sys.stdout.fileno())
             code = 1
-        except Exception as error:  # noqa: BLE001 - a bug: its traceback, minus any password
-            _print_traceback(error, argv)
+        except Exception as error:  # noqa: BLE001 - a bug: one line, its traceback with --debug
+            if debug:
+                _print_traceback(error, argv)
+            detail = _one_line(_scrubbed(f"{type(error).__name__}: {error}", argv))
+            _say_error(f"internal error: {detail}; run again with --debug and report it")
             code = 1
         if standalone_mode:
             sys.exit(code)

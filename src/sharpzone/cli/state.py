@@ -21,12 +21,21 @@ def catalog_location(ctx) -> str | None:
     return state.catalog if state is not None else None
 
 
+# Commands that only read the catalogue: they never create one (a named catalogue that does
+# not exist is an error) and they read one in a read-only folder or file.
+READ_COMMANDS = frozenset({"list", "show", "info", "export", "frames", "check", "stats", "sheet"})
+
+
 @contextmanager
-def catalog_session(ctx) -> Iterator:
-    """One unit of work on the chosen catalogue: a session committed once, rolled back on error."""
+def catalog_session(ctx, *, write: bool | None = None) -> Iterator:
+    """One unit of work on the chosen catalogue: a session committed once, rolled back on error.
+
+    ``write`` defaults to whether the running command is not one of ``READ_COMMANDS``."""
     from sharpzone.catalog.engine import session_scope
 
-    with session_scope(catalog_location(ctx)) as session:
+    if write is None:
+        write = ctx.info_name not in READ_COMMANDS
+    with session_scope(catalog_location(ctx), write=write) as session:
         yield session
 
 

@@ -1,17 +1,27 @@
 """Match stage: which catalogued body and lens took a frame.
 
-Bodies are matched by EXIF make, model (and serial); lenses by the EXIF LensModel strings
-catalogued as their aliases. Unknown ones are registered as unconfirmed so every frame can be
-judged, and the user confirms or corrects them later (``sharpzone body edit``/``lens edit``):
-- a body's format is inferred from the 35 mm equivalent focal length (crop factor) or, failing
-  that, from the focal-plane resolution, as the nearest catalogued format;
-- a lens's focal range and apertures come from LensSpecification (EXIF 0xA432), else from
-  the frame itself.
+Bodies are matched by EXIF make, model (and serial); lenses by the lens names catalogued as
+their EXIF aliases. Unknown ones are registered as unconfirmed so every frame is linked, and
+the user confirms or corrects them later (``sharpzone body edit``/``lens edit``):
+
+- a body is registered whenever the file names a make or a model, named without the make
+  repeated ("Acme" + "Acme X1" → "Acme X1"). Its sensor format is inferred, in order, from
+  the 35 mm equivalent focal length (crop factor), from the focal-plane resolution with the
+  sensor's own pixel dimensions, and from the sensor size a maker note records, as the
+  nearest catalogued format; else it is registered without one and its frames are judged
+  as soon as the user sets it (``body edit NAME --format F``), with no re-ingest;
+- a lens is named by LensModel, else by the first lens a maker-note lens id may mean (the
+  other candidates become EXIF names it answers to), else by its LensSpecification. Its
+  focal range and apertures come from LensSpecification, else from its name ("18-55mm
+  F3.5-5.6"), else from the frame; an unconfirmed lens widens them as later frames show
+  shorter or longer focal lengths and wider or narrower apertures, so a zoom first seen at
+  one end does not stay a prime.
 """
 
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -24,6 +34,35 @@ if TYPE_CHECKING:
 
 # How far a measured sensor size may be from a catalogued format and still be taken for it.
 FORMAT_TOLERANCE = 0.08
+# The narrowest aperture given to a lens registered from frames (common practice: most
+# interchangeable lenses stop down to f/22).
+REGISTERED_MIN_APERTURE = 22.0
+
+_NUMBER = r"(\d+(?:[.,]\d+)?)"
+_FOCAL_IN_NAME = re.compile(_NUMBER + r"(?:\s*-\s*" + _NUMBER + r")?\s*mm", re.IGNORECASE)
+_APERTURE_IN_NAME = re.compile(r"\b(?:f\s*/?|1\s*:\s*)\s*" + _NUMBER + r"(?:\s*-\s*" + _NUMBER + r")?", re.IGNORECASE)
+
+
+def body_name(make: str | None, model: str | None) -> str:
+    """The name a body is registered under: the model alone when it already starts with the
+    make or the make's first word, ignoring case ("Acme" + "ACME X1" → "ACME X1"), else make
+    and model ("ACME CORP" + "X1" → "ACME CORP X1"); whichever is given when one is missing."""
+    make, model = (make or "").strip(), (model or "").strip()
+    if not make or not model:
+        return make or model
+    folded_make, folded_model = make.casefold(), model.casefold()
+    first_word = folded_make.split()[0]
+    if folded_model.startswith(folded_make) or folded_model.split()[0] == first_word:
+        return model
+    return f"{make} {model}"
+
+
+def _nearest_by_size(width: float, height: float, formats: Sequence[SensorFormat]) -> SensorFormat | None:
+    width, height = max(width, height), min(width, height)
+    best = min(formats, key=lambda fmt: abs(math.log(fmt.width_mm / width)) + abs(math.log(fmt.height_mm / height)))
+    if abs(best.width_mm / width - 1) <= FORMAT_TOLERANCE and abs(best.height_mm / height - 1) <= FORMAT_TOLERANCE:
+        return best
+    return None
 
 
 def infer_format(record: CaptureRecord, formats: Sequence[SensorFormat]) -> tuple[SensorFormat | None, str]:
@@ -37,23 +76,70 @@ def infer_format(record: CaptureRecord, formats: Sequence[SensorFormat]) -> tupl
         best = min(formats, key=lambda fmt: abs(math.log(fmt.diagonal_mm / diagonal)))
         if abs(best.diagonal_mm / diagonal - 1) <= FORMAT_TOLERANCE:
             return best, "35 mm equivalent focal length"
-    if record.focal_plane_width_mm and record.focal_plane_height_mm:
-        width = max(record.focal_plane_width_mm, record.focal_plane_height_mm)
-        height = min(record.focal_plane_width_mm, record.focal_plane_height_mm)
-        best = min(formats, key=lambda fmt: abs(math.log(fmt.width_mm / width)) + abs(math.log(fmt.height_mm / height)))
-        if abs(best.width_mm / width - 1) <= FORMAT_TOLERANCE and abs(best.height_mm / height - 1) <= FORMAT_TOLERANCE:
+    plane = _focal_plane_size(record)
+    if plane is not None:
+        best = _nearest_by_size(*plane, formats)
+        if best is not None:
             return best, "focal-plane resolution"
+    if record.sensor_width_mm and record.sensor_height_mm and record.sensor_width_mm > 0 and record.sensor_height_mm > 0:
+        best = _nearest_by_size(record.sensor_width_mm, record.sensor_height_mm, formats)
+        if best is not None:
+            return best, "sensor size in the maker note"
     return None, ""
+
+
+def _focal_plane_size(record: CaptureRecord) -> tuple[float, float] | None:
+    """The sensor size (mm) the focal-plane resolution gives. The record's focal-plane size
+    is the image's pixel count over that resolution; when the file gives the sensor's own
+    pixel dimensions it is scaled to them (a raw file's EXIF image may be a smaller preview)."""
+    width, height = record.focal_plane_width_mm, record.focal_plane_height_mm
+    if not (width and height and width > 0 and height > 0):
+        return None
+    if record.sensor_width_px and record.sensor_height_px and record.width_px and record.height_px:
+        width *= record.sensor_width_px / record.width_px
+        height *= record.sensor_height_px / record.height_px
+    return width, height
+
+
+def lens_from_name(name: str) -> tuple[float | None, float | None, float | None, float | None]:
+    """(focal min, focal max, widest aperture at the short end, at the long end) as far as a
+    lens name says them ("18-55mm F3.5-5.6", "50mm f/1.8", "1:2.8"); ``None`` where it does not."""
+    focal = _FOCAL_IN_NAME.search(name)
+    aperture = _APERTURE_IN_NAME.search(name)
+
+    def number(text):
+        return float(text.replace(",", ".")) if text else None
+
+    low = number(focal.group(1)) if focal else None
+    high = number(focal.group(2)) if focal and focal.group(2) else low
+    wide = number(aperture.group(1)) if aperture else None
+    tele = number(aperture.group(2)) if aperture and aperture.group(2) else wide
+    if low is not None and high is not None and high < low:
+        low, high = high, low
+    return low, high, wide, tele
+
+
+def _spec_name(spec: tuple) -> str | None:
+    """A lens name in the trade's notation from a LensSpecification ("24-70mm f/2.8")."""
+    low, high, wide, tele = spec
+    if not low:
+        return None
+    focal = f"{low:g}mm" if not high or high == low else f"{low:g}-{high:g}mm"
+    if not wide:
+        return focal
+    return f"{focal} f/{wide:g}" if not tele or tele == wide else f"{focal} f/{wide:g}-{tele:g}"
 
 
 @dataclass
 class MatchOutcome:
-    """Ids for the frame (``None`` = unknown), what was registered, and warnings."""
+    """Ids for the frame (``None`` = unknown), what was registered, warnings, and the
+    frame's body name when that body still needs a sensor format."""
 
     body_id: int | None = None
     lens_id: int | None = None
     registered: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
+    needs_format: list[str] = field(default_factory=list)
 
 
 class CatalogMatcher:
@@ -76,57 +162,117 @@ class CatalogMatcher:
         return outcome
 
     def _body(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
+        from sharpzone.catalog.models import Body
         from sharpzone.catalog.service import add_body, find_body_for_exif
 
         make, model = (record.exif_make or "").strip(), (record.exif_model or "").strip()
-        if not make or not model:
-            outcome.warnings.append("no camera make/model in EXIF: body unknown")
+        if not make and not model:
+            outcome.warnings.append("no camera make or model in the file: body unknown")
             return None
-        key = (make.lower(), model.lower(), (record.body_serial or "").strip() or None)
-        if key in self._bodies:
-            return self._bodies[key]
-        body = find_body_for_exif(self.session, make, model, record.body_serial)
+        key = (make.casefold(), model.casefold(), (record.body_serial or "").strip() or None)
+        body_id = self._bodies.get(key)
+        body = self.session.get(Body, body_id) if body_id is not None else None
+        if body is None:
+            body = find_body_for_exif(self.session, make, model, record.body_serial)
         if body is None:
             fmt, how = infer_format(record, self._formats)
-            if fmt is None:
-                outcome.warnings.append(
-                    f"body {make} {model}: sensor format unknown — add it with 'sharpzone body add'")
-                self._bodies[key] = None
-                return None
-            name = self._free_name(f"{make} {model}", "body")
-            body = add_body(self.session, name, exif_make=make, exif_model=model, format_name=fmt.name,
-                            pixel_width=record.width_px, pixel_height=record.height_px, confirmed=False)
-            outcome.registered.append(f"body '{name}' ({fmt.name}, from the {how}; unconfirmed)")
+            name = self._free_name(body_name(make, model), "body")
+            body = add_body(self.session, name, exif_make=make, exif_model=model,
+                            format_name=fmt.name if fmt else None, pixel_width=record.width_px,
+                            pixel_height=record.height_px, confirmed=False)
+            found = f"{fmt.name}, from the {how}" if fmt else "sensor format unknown"
+            outcome.registered.append(f"body '{name}' ({found}; unconfirmed)")
+        elif body.sensor_format is None and not body.confirmed:
+            fmt, how = infer_format(record, self._formats)
+            if fmt is not None:  # a later frame tells what the first ones did not
+                body.sensor_format = self._format_rows[fmt.name]
+                outcome.registered.append(f"body '{body.name}': format {fmt.name}, from the {how}")
+        if body.sensor_format is None:
+            outcome.needs_format.append(body.name)
         self._bodies[key] = body.id
         return body.id
 
     def _lens(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
+        from sharpzone.catalog.models import Lens
+        from sharpzone.catalog.service import find_lens_for_exif
+
+        spec = record.lens_spec or (None, None, None, None)
+        names = [name.strip() for name in (record.lens_model, *record.lens_candidates) if name and name.strip()]
+        if not record.lens_model and record.lens_candidates:
+            how = "the maker note's lens id"
+        elif record.lens_model:
+            how = "LensModel"
+            names = names[:1]  # a LensModel names one lens; candidates are for when it is missing
+        else:
+            names = [name for name in (_spec_name(spec),) if name]
+            how = "LensSpecification"
+        if not names:
+            return None
+        key = names[0]
+        if key in self._lenses:
+            lens_id = self._lenses[key]
+            if lens_id is not None:
+                self._widen(self.session.get(Lens, lens_id), record)
+            return lens_id
+        lens = find_lens_for_exif(self.session, key)
+        if lens is None:
+            lens = self._register_lens(names, spec, record, how, outcome)
+            if lens is None:
+                self._lenses[key] = None
+                return None
+        else:
+            self._widen(lens, record)
+        self._lenses[key] = lens.id
+        return lens.id
+
+    def _register_lens(self, names: list[str], spec: tuple, record: CaptureRecord, how: str, outcome: MatchOutcome):
         from sharpzone.catalog.service import add_lens, find_lens_for_exif
 
-        model = (record.lens_model or "").strip()
-        if not model:
+        named = lens_from_name(names[0])
+        focal_min = spec[0] or named[0] or record.focal_mm
+        focal_max = spec[1] or (named[1] if named[0] else None) or focal_min
+        if not focal_min:
+            outcome.warnings.append(f"lens {names[0]!r}: focal length unknown — not registered")
             return None
-        if model in self._lenses:
-            return self._lenses[model]
-        lens = find_lens_for_exif(self.session, model)
-        if lens is None:
-            spec = record.lens_spec or (None, None, None, None)
-            focal_min = spec[0] or record.focal_mm
-            focal_max = spec[1] or focal_min
-            if not focal_min:
-                outcome.warnings.append(f"lens {model!r}: focal length unknown — not registered")
-                self._lenses[model] = None
-                return None
-            wide = spec[2] or record.f_number or 2.8
-            tele = spec[3] or wide
-            name = self._free_name(model, "lens")
-            lens = add_lens(self.session, name, focal_min_mm=focal_min, focal_max_mm=max(focal_max, focal_min),
-                            max_aperture_wide=wide, max_aperture_tele=max(tele, wide) if focal_max > focal_min else wide,
-                            min_aperture=max(22.0, wide, tele), exif_names=[model], confirmed=False)
-            source = "LensSpecification" if record.lens_spec else "the frame's own settings"
-            outcome.registered.append(f"lens '{name}' (from {source}; unconfirmed)")
-        self._lenses[model] = lens.id
-        return lens.id
+        focal_min, focal_max = min(focal_min, record.focal_mm or focal_min), max(focal_max, record.focal_mm or focal_max)
+        wide = spec[2] or named[2] or record.f_number or 2.8
+        tele = spec[3] or named[3] or wide
+        if focal_max == focal_min:
+            tele = wide
+        source = ("LensSpecification" if record.lens_spec else "its name" if named[0] else "the frame's own settings")
+        aliases = [name for name in dict.fromkeys(names) if find_lens_for_exif(self.session, name) is None]
+        lens = add_lens(self.session, self._free_name(names[0], "lens"), focal_min_mm=focal_min,
+                        focal_max_mm=focal_max, max_aperture_wide=wide, max_aperture_tele=max(tele, wide),
+                        min_aperture=max(REGISTERED_MIN_APERTURE, wide, tele), exif_names=aliases, confirmed=False)
+        also = f"; also answers to {', '.join(repr(n) for n in aliases[1:])}" if len(aliases) > 1 else ""
+        outcome.registered.append(f"lens '{lens.name}' (named from {how}, range from {source}{also}; unconfirmed)")
+        return lens
+
+    def _widen(self, lens, record: CaptureRecord) -> None:
+        """An unconfirmed lens takes in this frame's focal length and aperture."""
+        if lens is None or lens.confirmed:
+            return
+        focal, f_number = record.focal_mm, record.f_number
+        if focal and focal > 0:
+            if focal < lens.focal_min_mm:
+                if lens.focal_min_mm == lens.focal_max_mm:
+                    lens.max_aperture_tele = lens.max_aperture_wide
+                lens.focal_min_mm = focal
+            elif focal > lens.focal_max_mm:
+                if lens.focal_min_mm == lens.focal_max_mm:
+                    lens.max_aperture_tele = lens.max_aperture_wide
+                lens.focal_max_mm = focal
+        if f_number and f_number > 0:
+            near_long_end = focal and lens.focal_max_mm > lens.focal_min_mm and \
+                focal >= (lens.focal_min_mm + lens.focal_max_mm) / 2
+            if f_number > lens.min_aperture:
+                lens.min_aperture = f_number
+            elif near_long_end and f_number < lens.max_aperture_tele:
+                # the short end opens at least as wide as the long end
+                lens.max_aperture_wide = min(lens.max_aperture_wide, f_number)
+                lens.max_aperture_tele = f_number
+            elif not near_long_end and f_number < lens.max_aperture_wide:
+                lens.max_aperture_wide = f_number
 
     def _free_name(self, wanted: str, what: str) -> str:
         from sharpzone.catalog.models import Body, Lens

@@ -10,18 +10,20 @@ from __future__ import annotations
 
 import itertools
 import math
-import multiprocessing
 import os
+import signal
+import threading
 import time
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
-from sharpzone.errors import Conflict, InvalidValue
+from sharpzone.errors import Conflict, Interrupted, InvalidValue
 from sharpzone.ingest.capture import read_capture
 from sharpzone.ingest.distances import lookup_user_distance, read_user_distances
 from sharpzone.ingest.records import CaptureRecord, ReadProblem, printable_path
 from sharpzone.ingest.scan import CandidateFile, iter_scan
+from sharpzone.ingest.workers import TIME_LIMIT_S, Reader, ReaderPool
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -29,15 +31,24 @@ if TYPE_CHECKING:
     from sharpzone.catalog.engine import Catalog
 
 BATCH_SIZE = 500
-# Below this many files to read, a worker pool costs more than it saves.
+# Below this many files to read, one worker process does (more cost more than they save).
 POOL_THRESHOLD = 64
+# The focus key stored for a distance the user gave in a distances CSV.
+USER_DISTANCES_KEY = "user distances CSV"
 
 ProgressCallback = Callable[[str, int, int | None], None]
 
 
+
 @dataclass
 class IngestSummary:
-    """What an ingest did. ``failed``/``vanished`` hold printable paths (and reasons)."""
+    """What an ingest did. ``failed``/``vanished`` hold printable paths (and reasons).
+
+    ``elsewhere`` counts files found that belong to another shoot and were left there (by
+    shoot name); ``moved`` counts frames moved into this shoot by an explicit ``--shoot`` (by
+    the shoot they came from). ``needs_format`` names the bodies of these frames whose sensor
+    format is still unknown (their frames are judged once it is set).
+    """
 
     shoot: str
     added: int = 0
@@ -49,10 +60,19 @@ class IngestSummary:
     pruned: int = 0
     warnings: int = 0
     registered: list[str] = field(default_factory=list)
+    elsewhere: dict[str, int] = field(default_factory=dict)
+    moved: dict[str, int] = field(default_factory=dict)
+    needs_format: list[str] = field(default_factory=list)
+    shoot_created: bool = False
     seconds: float = 0.0
 
     @property
     def read(self) -> int:
+        return self.added + self.updated
+
+    @property
+    def saved(self) -> int:
+        """Frames written to the catalogue by this run (added or updated)."""
         return self.added + self.updated
 
 
@@ -62,6 +82,9 @@ class _Stored:
     mtime_ns: int
     focus_mm: float | None
     focus_source: str
+    shoot_id: int | None
+    device: int | None
+    inode: int | None
 
 
 def _stored_frames(session: Session, roots: Sequence[str]) -> dict[str, _Stored]:
@@ -74,79 +97,132 @@ def _stored_frames(session: Session, roots: Sequence[str]) -> dict[str, _Stored]
     for root in roots:
         conditions.append(Frame.path == root)
         conditions.append(Frame.path.startswith(root.rstrip(os.sep) + os.sep, autoescape=True))
+    return _stored_where(session, or_(*conditions))
+
+
+def _stored_where(session: Session, condition) -> dict[str, _Stored]:
+    from sqlalchemy import select
+
+    from sharpzone.catalog.models import Frame
+
     rows = session.execute(
-        select(Frame.path, Frame.file_size, Frame.file_mtime_ns, Frame.focus_mm, Frame.focus_source)
-        .where(or_(*conditions)))
-    return {path: _Stored(size, mtime, focus, source) for path, size, mtime, focus, source in rows}
+        select(Frame.path, Frame.file_size, Frame.file_mtime_ns, Frame.focus_mm, Frame.focus_source, Frame.shoot_id,
+               Frame.device, Frame.inode).where(condition))
+    return {path: _Stored(*values) for path, *values in rows}
 
 
-def _ensure_shoot(catalog: Catalog, name: str, root: str) -> int:
+def _shoot_names(session: Session) -> dict[int, str]:
+    from sqlalchemy import select
+
     from sharpzone.catalog.models import Shoot
-    from sharpzone.catalog.service import add_shoot
-    from sharpzone.catalog.service._common import find_by_name
 
-    for attempt in range(2):
-        try:
-            with catalog.session_scope(write=True) as session:
-                shoot = find_by_name(session, Shoot, name)
-                if shoot is None:
-                    shoot = add_shoot(session, name, root_folder=root)
-                return shoot.id
-        except Conflict:
-            if attempt:
-                raise  # another run created it at the same moment: look again once
-    raise AssertionError("unreachable")
+    return dict(session.execute(select(Shoot.id, Shoot.name)).all())
 
 
-def _read_all(paths: Iterable[tuple[str, float | None]], jobs: int) -> Iterator[CaptureRecord | ReadProblem]:
-    """Read files, in worker processes when it pays; results in any order.
+class _Target:
+    """The shoot frames are filed under, created only when the first frame is written (an
+    empty folder or a folder of non-images creates no shoot)."""
 
-    ``paths`` may be a generator (the scan): the pool's feeder thread draws from it while
-    results are consumed, so walking the folders overlaps with reading.
+    def __init__(self, name: str, root: str, shoot_id: int | None, explicit: bool) -> None:
+        self.name, self.root, self.id, self.explicit = name, root, shoot_id, explicit
+        self.created = False
+
+    def ensure(self, session: Session) -> int:
+        from sharpzone.catalog.models import Shoot
+        from sharpzone.catalog.service import add_shoot
+        from sharpzone.catalog.service._common import find_by_name
+
+        if self.id is None:
+            shoot = find_by_name(session, Shoot, self.name)
+            if shoot is None:
+                shoot = add_shoot(session, self.name, root_folder=self.root)
+                self.created = True
+            self.id = shoot.id
+        return self.id
+
+
+def _read_all(tasks: Iterable[tuple[str, float | None]], jobs: int, reader: Reader,
+              time_limit_s: float) -> Iterator[CaptureRecord | ReadProblem]:
+    """Read files in contained worker processes (see ``ingest.workers``); results in any order.
+
+    ``tasks`` may be a generator (the scan): it is drawn from as workers have room, so
+    walking the folders overlaps with reading.
     """
-    paths = iter(paths)
-    head = list(itertools.islice(paths, POOL_THRESHOLD))
-    if jobs <= 1 or len(head) < POOL_THRESHOLD:
-        for path, user_mm in itertools.chain(head, paths):
-            yield read_capture(path, user_mm)
+    tasks = iter(tasks)
+    head = list(itertools.islice(tasks, POOL_THRESHOLD))
+    if not head:
         return
-    methods = multiprocessing.get_all_start_methods()
-    context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
-    with context.Pool(processes=jobs) as pool:
-        yield from pool.imap_unordered(_read_one, itertools.chain(head, paths), chunksize=64)
+    workers = jobs if len(head) >= POOL_THRESHOLD else 1
+    with ReaderPool(reader, workers, time_limit_s=time_limit_s) as pool:
+        yield from pool.read(itertools.chain(head, tasks))
 
 
-def _read_one(item: tuple[str, float | None]) -> CaptureRecord | ReadProblem:
-    return read_capture(item[0], item[1])
-
-
-def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int, body_id, lens_id,
+def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int | None, body_id, lens_id,
                warnings: list[str]) -> dict:
+    near, far, key = record.focus_near_mm, record.focus_far_mm, record.focus_key
+    if record.focus_source == "user":
+        near = far = record.focus_mm
+        key = USER_DISTANCES_KEY
+    elif record.focus_mm is not None and near is None and far is None:
+        near = far = record.focus_mm  # a reader that gives no bracket gives an exact distance
+    point = record.focus_point or (None, None, None, None)
     return {
         "path": printable_path(record.path), "shoot_id": shoot_id, "file_size": candidate.size,
         "file_mtime_ns": candidate.mtime_ns, "captured_at": record.captured_at,
         "utc_offset_minutes": record.utc_offset_minutes, "body_id": body_id, "lens_id": lens_id,
         "focal_mm": record.focal_mm, "f_number": record.f_number, "exposure_s": record.exposure_s,
         "iso": record.iso, "focus_mm": record.focus_mm, "focus_source": record.focus_source,
+        "focus_near_mm": near, "focus_far_mm": far, "focus_key": key,
+        "subject_distance_range": record.subject_distance_range,
+        "focus_point_x": point[0], "focus_point_y": point[1], "focus_point_w": point[2], "focus_point_h": point[3],
+        "focus_point_key": record.focus_point_key if record.focus_point else None,
+        "device": candidate.device, "inode": candidate.inode,
         "focal_35mm_mm": record.focal_35mm_mm, "width_px": record.width_px, "height_px": record.height_px,
         "exif_make": record.exif_make, "exif_model": record.exif_model, "exif_lens_model": record.lens_model,
         "warnings": "; ".join(warnings) or None,
     }
 
 
+def _same_file(path: str, file_id: tuple[int, int]) -> bool:
+    """Whether ``path`` (printable form) still names the file ``(device, inode)``."""
+    try:
+        info = os.stat(path)  # an undecodable name shows escaped and is taken for gone
+    except (OSError, UnicodeError, ValueError):
+        return False
+    return (info.st_dev, info.st_ino) == file_id
+
+
+def _known_by_inode(session: Session, rows: list[dict]) -> dict[tuple[int, int], tuple[int, str]]:
+    """Catalogued frames sharing a (device, inode) with ``rows`` under another path."""
+    from sqlalchemy import select, tuple_
+
+    from sharpzone.catalog.models import Frame
+
+    ids = {(row["device"], row["inode"]): row["path"] for row in rows if row["device"] is not None}
+    if not ids:
+        return {}
+    found = session.execute(select(Frame.id, Frame.path, Frame.device, Frame.inode)
+                            .where(tuple_(Frame.device, Frame.inode).in_(list(ids))))
+    return {(device, inode): (frame_id, path) for frame_id, path, device, inode in found
+            if ids.get((device, inode)) != path}
+
+
 def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
-                   shoot_id: int, matcher_factory, summary: IngestSummary) -> None:
+                   target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
+                   found: set[str] | None = None) -> None:
     """Write one batch of read results in one transaction (retried once if a concurrent run
-    registered the same body or lens first)."""
-    from sqlalchemy import delete
+    registered the same body, lens or shoot first)."""
+    from sqlalchemy import delete, update
 
     from sharpzone.catalog.models import Frame, IngestProblem
     from sharpzone.catalog.upsert import upsert_rows
 
     for attempt in range(2):
-        added = updated = warnings = 0
+        added = updated = warnings = duplicates = 0
         failed: list[tuple[str, str]] = []
         registered: list[str] = []
+        needs_format: list[str] = []
+        created_id = target.id
         try:
             with catalog.session_scope(write=True) as session:
                 matcher = matcher_factory(session)
@@ -155,14 +231,36 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
                     shown = printable_path(candidate.path)
                     if isinstance(result, ReadProblem):
                         failed.append((shown, result.reason))
-                        problem_rows.append({"shoot_id": shoot_id, "path": shown, "reason": result.reason})
+                        problem_rows.append({"shoot_id": target.id, "path": shown, "reason": result.reason})
                         continue
                     outcome = matcher.match(result)
                     registered.extend(outcome.registered)
+                    needs_format.extend(getattr(outcome, "needs_format", ()))
                     notes = list(result.warnings) + outcome.warnings
                     warnings += len(notes)
-                    rows.append(_frame_row(result, candidate, shoot_id, outcome.body_id, outcome.lens_id, notes))
+                    before = stored.get(shown)
+                    keep = before.shoot_id if before is not None and not target.explicit else None
+                    rows.append(_frame_row(result, candidate, keep if keep is not None else target.ensure(session),
+                                           outcome.body_id, outcome.lens_id, notes))
                     read_ok.append(shown)
+                # One file reached by a new path (a hard link, or renamed): the frame that
+                # still has the file keeps it; a frame whose path is gone follows the file.
+                known = _known_by_inode(session, rows)
+                if known:
+                    kept = []
+                    for row in rows:
+                        match = known.get((row["device"], row["inode"]))
+                        if match is None:
+                            kept.append(row)
+                            continue
+                        if found is not None:
+                            found.add(match[1])  # its old path is accounted for, not vanished
+                        if _same_file(match[1], (row["device"], row["inode"])):
+                            duplicates += 1
+                        else:
+                            session.execute(update(Frame).where(Frame.id == match[0]).values(path=row["path"]))
+                            kept.append(row)
+                    rows = kept
                 # The database says which rows were new: exact even while another run
                 # ingests the same files into a shared catalogue.
                 rows.sort(key=lambda row: row["path"])  # one lock order for concurrent runs
@@ -175,13 +273,19 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
                     session.execute(IngestProblem.__table__.insert(), problem_rows)
             break
         except Conflict:
+            target.id = created_id
             if attempt:
                 raise
+        except BaseException:
+            target.id, target.created = created_id, target.created and created_id is not None
+            raise
     summary.added += added
     summary.updated += updated
+    summary.unchanged += duplicates
     summary.warnings += warnings
     summary.failed.extend(failed)
     summary.registered.extend(registered)
+    summary.needs_format.extend(name for name in needs_format if name not in summary.needs_format)
 
 
 def _update_user_distances(catalog: Catalog, changes: list[tuple[str, float]]) -> None:
@@ -192,7 +296,33 @@ def _update_user_distances(catalog: Catalog, changes: list[tuple[str, float]]) -
 
     with catalog.session_scope(write=True) as session:
         for path, distance in changes:
-            session.execute(update(Frame).where(Frame.path == path).values(focus_mm=distance, focus_source="user"))
+            session.execute(update(Frame).where(Frame.path == path).values(
+                focus_mm=distance, focus_source="user", focus_near_mm=distance, focus_far_mm=distance,
+                focus_key=USER_DISTANCES_KEY))
+
+
+def _still_without_format(catalog: Catalog, names: list[str]) -> list[str]:
+    """Those of the bodies ``names`` that still have no sensor format (a later frame may
+    have told it), in the order given."""
+    from sqlalchemy import select
+
+    from sharpzone.catalog.models import Body
+
+    with catalog.session_scope() as session:
+        missing = set(session.scalars(select(Body.name).where(Body.name.in_(names), Body.format_id.is_(None))))
+    return [name for name in names if name in missing]
+
+
+def _move_frames(catalog: Catalog, paths: list[str], target: _Target) -> None:
+    """File unchanged frames under the shoot named with an explicit ``--shoot``."""
+    from sqlalchemy import update
+
+    from sharpzone.catalog.models import Frame
+
+    with catalog.session_scope(write=True) as session:
+        shoot_id = target.ensure(session)
+        for start in range(0, len(paths), 500):
+            session.execute(update(Frame).where(Frame.path.in_(paths[start:start + 500])).values(shoot_id=shoot_id))
 
 
 def default_shoot_name(paths: Sequence[str]) -> str:
@@ -200,6 +330,14 @@ def default_shoot_name(paths: Sequence[str]) -> str:
     first = os.path.abspath(paths[0])
     folder = first if os.path.isdir(first) else os.path.dirname(first)
     return os.path.basename(folder.rstrip(os.sep)) or folder
+
+
+class _Stop(BaseException):
+    """SIGTERM during an ingest, raised in the main thread to stop it in order."""
+
+
+def _on_sigterm(signal_number, frame) -> None:
+    raise _Stop()
 
 
 def ingest_paths(
@@ -210,14 +348,26 @@ def ingest_paths(
     jobs: int | None = None,
     distances_csv: str | os.PathLike | None = None,
     prune: bool = False,
-    batch_size: int = BATCH_SIZE,
+    batch_size: int | None = None,
     progress: ProgressCallback | None = None,
     matcher_factory=None,
+    reader: Reader | None = None,
+    time_limit_s: float | None = None,
 ) -> IngestSummary:
-    """Ingest the image files under ``paths`` into ``catalog`` as shoot ``shoot`` (default: the
-    first folder's name). ``jobs`` worker processes read EXIF (default: one per core);
-    ``distances_csv`` gives focus distances that win over EXIF; ``prune`` removes frames whose
-    files vanished. ``progress(stage, done, total)`` is called as work proceeds.
+    """Ingest the image files under ``paths`` into ``catalog`` as shoot ``shoot``.
+
+    Without ``shoot``, new frames join the shoot that the frames already catalogued under
+    ``paths`` belong to, else a shoot named after the first folder; frames of other shoots
+    stay where they are (``IngestSummary.elsewhere`` says which). With ``shoot``, every
+    frame found is filed under it (``moved``). A shoot is created only when a frame is
+    written. ``jobs`` worker processes read the files (default: one per core), each file
+    within ``time_limit_s`` seconds (default 30); ``reader`` replaces
+    ``ingest.capture.read_capture`` (tests inject readers that crash or hang).
+    ``distances_csv`` gives focus distances that win over EXIF; ``prune`` removes frames
+    whose files vanished. ``progress(stage, done, total)`` is called as work proceeds.
+
+    Ctrl-C or SIGTERM stops the run in order: workers are shut down, finished batches are
+    kept, and ``Interrupted`` says how many frames were saved (exit code 130 / 143).
     """
     from sharpzone.ingest.match import CatalogMatcher
 
@@ -227,71 +377,159 @@ def ingest_paths(
     if jobs is not None and jobs < 1:
         raise InvalidValue(f"--jobs {jobs} is not valid: expected 1 or more")
     jobs = jobs or os.cpu_count() or 1
+    batch_size = batch_size or BATCH_SIZE
     matcher_factory = matcher_factory or CatalogMatcher
-    roots = [os.path.abspath(os.fsdecode(p)) for p in paths]
-    existing = [root for root in roots if os.path.lexists(root)]
+    reader = reader or read_capture
+    given = [os.path.abspath(os.fsdecode(p)) for p in paths]
+    existing = [path for path in given if os.path.lexists(path)]
     if not existing:
-        shown = ", ".join(printable_path(root) for root in roots)
-        raise InvalidValue(f"nothing to ingest: {shown} does not exist" if len(roots) == 1
+        shown = ", ".join(printable_path(path) for path in given)
+        raise InvalidValue(f"nothing to ingest: {shown} does not exist" if len(given) == 1
                            else f"nothing to ingest: none of {shown} exists")
+    roots = [os.path.realpath(path) for path in given]
     user_distances = read_user_distances(distances_csv) if distances_csv else {}
-    shoot_name = shoot or default_shoot_name(existing)
-    summary = IngestSummary(shoot=shoot_name)
-    shoot_id = _ensure_shoot(catalog, shoot_name, roots[0])
     notify = progress or (lambda stage, done, total: None)
 
     with catalog.session_scope() as session:
         stored = _stored_frames(session, [printable_path(r) for r in roots])
-    plan = _ReadPlan(roots, stored, user_distances, summary, notify)
+        shoot_names = _shoot_names(session)
+    target = _choose_target(shoot, existing, roots[0], stored, shoot_names)
+    summary = IngestSummary(shoot=target.name)
+    plan = _ReadPlan(catalog, roots, stored, user_distances, summary, notify)
 
-    # scan → read → match → persist: the scan feeds the readers as it walks, and results are
-    # written in batches as they come back.
+    restore = None
+    if threading.current_thread() is threading.main_thread():
+        restore = signal.signal(signal.SIGTERM, _on_sigterm)
+    try:
+        _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s or TIME_LIMIT_S, batch_size,
+             matcher_factory, notify, prune, shoot_names)
+    except KeyboardInterrupt:
+        raise _interrupted(summary, signal.SIGINT) from None
+    except _Stop:
+        raise _interrupted(summary, signal.SIGTERM) from None
+    finally:
+        if restore is not None:
+            signal.signal(signal.SIGTERM, restore)
+    summary.shoot_created = target.created
+    summary.seconds = time.perf_counter() - started
+    return summary
+
+
+def _interrupted(summary: IngestSummary, signal_number: int) -> Interrupted:
+    saved = summary.saved
+    frames = "1 frame" if saved == 1 else f"{saved:,} frames"
+    return Interrupted(f"interrupted: {frames} saved; run the same command again to finish",
+                       signal_number=signal_number)
+
+
+def _choose_target(shoot: str | None, existing: list[str], root: str, stored: dict[str, _Stored],
+                   shoot_names: dict[int, str]) -> _Target:
+    if shoot is not None:
+        return _Target(shoot, root, None, explicit=True)
+    counts: dict[int, int] = {}
+    for before in stored.values():
+        if before.shoot_id is not None:
+            counts[before.shoot_id] = counts.get(before.shoot_id, 0) + 1
+    if counts:
+        shoot_id = max(counts, key=lambda key: (counts[key], -key))
+        return _Target(shoot_names[shoot_id], root, shoot_id, explicit=False)
+    return _Target(default_shoot_name(existing), root, None, explicit=False)
+
+
+def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, batch_size, matcher_factory, notify,
+         prune, shoot_names) -> None:
+    """scan → read → match → persist: the scan feeds the readers as it walks, and results
+    are written in batches as they come back."""
     by_path: dict[str, CandidateFile] = plan.by_path
     batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]] = []
     done = 0
-    for result in _read_all(plan.files_to_read(), jobs):
-        batch.append((result, by_path[result.path]))
-        done += 1
-        if len(batch) >= batch_size:
-            _persist_batch(catalog, batch, shoot_id, matcher_factory, summary)
-            batch = []
-        notify("read", done, plan.total_to_read)
+    results = _read_all(plan.files_to_read(), jobs, reader, time_limit_s)
+    try:
+        for result in results:
+            batch.append((result, by_path[result.path]))
+            done += 1
+            if len(batch) >= batch_size:
+                _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
+                batch = []
+            notify("read", done, plan.total_to_read)
+    finally:
+        results.close()
     if batch:
-        _persist_batch(catalog, batch, shoot_id, matcher_factory, summary)
+        _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
     if plan.scan_problems:
         _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, "")) for problem in plan.scan_problems],
-                       shoot_id, matcher_factory, summary)
+                       target, stored, matcher_factory, summary)
     if plan.distance_changes:
         _update_user_distances(catalog, plan.distance_changes)
         summary.unchanged -= len(plan.distance_changes)
         summary.updated += len(plan.distance_changes)
+    _file_elsewhere(catalog, plan, target, summary, shoot_names)
+    if summary.needs_format:
+        summary.needs_format = _still_without_format(catalog, summary.needs_format)
 
-    # vanished files
     found = plan.found
     found.update(printable_path(problem.path) for problem in plan.scan_problems)
     summary.vanished = sorted(path for path in stored if path not in found)
     if prune and summary.vanished:
         summary.pruned = _prune(catalog, summary.vanished)
-    summary.seconds = time.perf_counter() - started
-    return summary
+
+
+def _file_elsewhere(catalog: Catalog, plan: _ReadPlan, target: _Target, summary: IngestSummary,
+                    shoot_names: dict[int, str]) -> None:
+    """Unchanged frames of other shoots: moved with an explicit ``--shoot``, else named."""
+    others: dict[int, list[str]] = {}
+    for path in plan.unchanged_paths:
+        shoot_id = plan.stored[path].shoot_id
+        if shoot_id is not None and shoot_id != target.id:
+            others.setdefault(shoot_id, []).append(path)
+    if not others:
+        return
+    if target.explicit:
+        _move_frames(catalog, [path for paths in others.values() for path in paths], target)
+        summary.moved = {shoot_names.get(key, "?"): len(paths) for key, paths in others.items() if key != target.id}
+    else:
+        summary.elsewhere = {shoot_names.get(key, "?"): len(paths) for key, paths in others.items()}
 
 
 class _ReadPlan:
     """Walks the roots and decides, file by file, what must be read: new and changed files
-    (same path, size and modification time = unchanged, not reopened)."""
+    (same path, size and modification time = unchanged, not reopened). A file catalogued
+    under another path that still names it (a hard link, a second route) counts once."""
 
-    def __init__(self, roots, stored: dict[str, _Stored], user_distances: dict[str, float],
+    def __init__(self, catalog: Catalog, roots, stored: dict[str, _Stored], user_distances: dict[str, float],
                  summary: IngestSummary, notify: ProgressCallback) -> None:
+        self.catalog = catalog
         self.roots = roots
         self.stored = stored
+        self.by_inode = {(s.device, s.inode): path for path, s in stored.items() if s.device is not None}
         self.user_distances = user_distances
         self.summary = summary
         self.notify = notify
         self.by_path: dict[str, CandidateFile] = {}
         self.found: set[str] = set()
+        self.unchanged_paths: list[str] = []
         self.scan_problems: list[ReadProblem] = []
         self.distance_changes: list[tuple[str, float]] = []
         self.total_to_read: int | None = None
+        self._prefixes = tuple(printable_path(root).rstrip(os.sep) + os.sep for root in roots)
+
+    def _lookup(self, shown: str, candidate: CandidateFile) -> tuple[str, _Stored | None]:
+        """The catalogued frame of this file: by its path, else by (device, inode) under
+        another path that still names it; else, for a file outside the folders (reached by
+        a file link), by its path in the catalogue."""
+        before = self.stored.get(shown)
+        if before is not None:
+            return shown, before
+        other = self.by_inode.get(candidate.file_id) if candidate.file_id else None
+        if other is not None and _same_file(other, candidate.file_id):
+            return other, self.stored[other]
+        if not (shown + os.sep).startswith(self._prefixes) and shown not in self._prefixes:
+            from sharpzone.catalog.models import Frame
+
+            with self.catalog.session_scope() as session:
+                self.stored.update(_stored_where(session, Frame.path == shown))
+            return shown, self.stored.get(shown)
+        return shown, None
 
     def files_to_read(self) -> Iterator[tuple[str, float | None]]:
         count = 0
@@ -302,12 +540,12 @@ class _ReadPlan:
             if not isinstance(event, CandidateFile):
                 self.summary.ignored += 1
                 continue
-            shown = printable_path(event.path)
+            shown, before = self._lookup(printable_path(event.path), event)
             self.found.add(shown)
             user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
-            before = self.stored.get(shown)
             if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
                 self.summary.unchanged += 1
+                self.unchanged_paths.append(shown)
                 if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
                     self.distance_changes.append((shown, user_mm))
                 continue

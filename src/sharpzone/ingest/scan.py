@@ -1,5 +1,10 @@
 """Find a shoot's image files: walk folders, follow folder links without looping, sniff content.
 
+Every file is reported by its resolved path (links followed) with its (device, inode), so a
+file is one frame however it is reached: through a link to the folder, a link inside it, a
+file link or a hard link. A folder link is followed only while it stays inside the folders
+the user named; one leading elsewhere is reported and not followed.
+
 A file is a candidate when its extension is an image extension *and* its first bytes are
 those of an image (JPEG, TIFF and TIFF-based raw, HEIF, PNG, or a raw container with an
 embedded EXIF JPEG). Other files are counted and ignored without being opened; a file with
@@ -26,10 +31,16 @@ class CandidateFile:
     size: int
     mtime_ns: int
     kind: str
+    device: int | None = field(default=None, compare=False)
+    inode: int | None = field(default=None, compare=False)
 
     @property
     def printable_path(self) -> str:
         return printable_path(self.path)
+
+    @property
+    def file_id(self) -> tuple[int, int] | None:
+        return None if self.device is None else (self.device, self.inode)
 
 
 @dataclass(frozen=True)
@@ -73,30 +84,49 @@ def iter_scan(paths: Iterable[str | bytes | os.PathLike], *, sniff: bool = True)
     """
     seen_files: set[tuple[int, int]] = set()
     seen_folders: dict[tuple[int, int], bytes] = {}
-    for given in paths:
-        path = os.path.abspath(os.fsencode(given))
+    given_paths = [os.path.abspath(os.fsencode(given)) for given in paths]
+    roots = resolved_roots(given_paths)
+    for path in given_paths:
         try:
             info = os.stat(path)
         except OSError as err:
             yield _problem(path, err)
             continue
+        resolved = os.path.realpath(path)
         if stat.S_ISDIR(info.st_mode):
-            yield from _walk(path, info, seen_folders, seen_files, sniff)
+            yield from _walk(resolved, info, seen_folders, seen_files, sniff, roots)
         else:
-            yield from _consider_file(path, info, seen_files, sniff)
+            yield from _consider_file(resolved, info, seen_files, sniff)
+
+
+def resolved_roots(paths: Iterable[str | bytes]) -> tuple[bytes, ...]:
+    """The folders among ``paths``, resolved, each ending in a separator: where links may lead."""
+    roots = []
+    for path in paths:
+        resolved = os.path.realpath(os.fsencode(path))
+        if os.path.isdir(resolved):
+            roots.append(resolved.rstrip(os.sep.encode()) + os.sep.encode())
+    return tuple(roots)
+
+
+def _inside(path: bytes, roots: tuple[bytes, ...]) -> bool:
+    return any((path + os.sep.encode()).startswith(root) for root in roots)
 
 
 def _walk(root: bytes, root_info: os.stat_result, seen_folders: dict, seen_files: set,
-          sniff: bool = True) -> Iterator[ScanEvent]:
+          sniff: bool = True, roots: tuple[bytes, ...] = ()) -> Iterator[ScanEvent]:
     # Depth-first with an explicit stack; each entry carries the folder ids above it, so a
     # link back to an ancestor is told apart from a second route to an already-seen folder.
-    stack = [(root, root_info, ())]
+    # Folders are walked by their resolved paths, so a file's path is resolved by joining
+    # its name, except for links, which are resolved one by one.
+    separator = os.sep.encode()
+    stack = [(root, root, root_info, ())]
     while stack:
-        folder, info, ancestors = stack.pop()
+        folder, reached_as, info, ancestors = stack.pop()
         folder_id = (info.st_dev, info.st_ino)
         if folder_id in ancestors:
             target = seen_folders.get(folder_id, b"")
-            yield ReadProblem(os.fsdecode(folder), f"folder link loop back to {printable_path(target)}: not followed")
+            yield ReadProblem(os.fsdecode(reached_as), f"folder link loop back to {printable_path(target)}: not followed")
             continue
         if folder_id in seen_folders:
             continue  # reached again by another route; its files are already listed
@@ -108,16 +138,23 @@ def _walk(root: bytes, root_info: os.stat_result, seen_folders: dict, seen_files
             yield _problem(folder, err)
             continue
         subfolders = []
+        prefix = folder.rstrip(separator) + separator
         for entry in listed:
             try:
                 entry_info = entry.stat()  # follows links
+                linked = entry.is_symlink()
+                path = os.path.realpath(entry.path) if linked else prefix + entry.name
             except OSError as err:
                 yield _problem(entry.path, err)
                 continue
             if stat.S_ISDIR(entry_info.st_mode):
-                subfolders.append((entry.path, entry_info, ancestors + (folder_id,)))
+                if linked and roots and not _inside(path, roots) and (entry_info.st_dev, entry_info.st_ino) not in ancestors:
+                    yield ReadProblem(os.fsdecode(entry.path), f"folder link to {printable_path(path)}, outside the "
+                                      "folders given: not followed")
+                    continue
+                subfolders.append((path, entry.path, entry_info, ancestors + (folder_id,)))
             else:
-                yield from _consider_file(entry.path, entry_info, seen_files, sniff)
+                yield from _consider_file(path, entry_info, seen_files, sniff)
         stack.extend(reversed(subfolders))
 
 
@@ -146,7 +183,7 @@ def _consider_file(path: bytes, info: os.stat_result, seen_files: set, sniff: bo
         yield ReadProblem(os.fsdecode(path), "empty file")
         return
     if not sniff:
-        yield CandidateFile(os.fsdecode(path), info.st_size, info.st_mtime_ns, "")
+        yield CandidateFile(os.fsdecode(path), info.st_size, info.st_mtime_ns, "", info.st_dev, info.st_ino)
         return
     try:
         kind = sniff_file(path, extension)
@@ -156,7 +193,7 @@ def _consider_file(path: bytes, info: os.stat_result, seen_files: set, sniff: bo
     if kind is None:
         yield ReadProblem(os.fsdecode(path), f"not an image: the content does not match its {extension} extension")
         return
-    yield CandidateFile(os.fsdecode(path), info.st_size, info.st_mtime_ns, kind)
+    yield CandidateFile(os.fsdecode(path), info.st_size, info.st_mtime_ns, kind, info.st_dev, info.st_ino)
 
 
 def sniff_file(path: str | bytes, extension: str | None = None) -> str | None:

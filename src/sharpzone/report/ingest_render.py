@@ -6,7 +6,10 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from typing import TYPE_CHECKING, Any
 
+from shlex import quote as shlex_quote
+
 from rich.table import Table
+from rich.text import Text
 
 from sharpzone.report.console import stderr_console, stdout_console
 
@@ -53,14 +56,27 @@ def ingest_json(summary: IngestSummary, catalog: str) -> dict[str, Any]:
         "pruned": summary.pruned,
         "warnings": summary.warnings,
         "registered": summary.registered,
+        "elsewhere": [{"shoot": name, "frames": count} for name, count in sorted(summary.elsewhere.items())],
+        "moved": [{"from_shoot": name, "frames": count} for name, count in sorted(summary.moved.items())],
+        "needs_format": [{"body": name, "command": format_command(name)} for name in summary.needs_format],
+        "shoot_created": summary.shoot_created,
         "seconds": round(summary.seconds, 3),
         "catalog": catalog,
     }
 
 
+def format_command(body: str) -> str:
+    """The command that sets the sensor format of ``body`` (quoted for a POSIX shell)."""
+    return f"sharpzone body edit {shlex_quote(body)} --format FORMAT"
+
+
+def _frames(count: int) -> str:
+    return "1 file" if count == 1 else f"{count:,} files"
+
+
 def render_ingest(summary: IngestSummary, catalog: str) -> None:
     console = stdout_console()
-    table = Table(title=f"Ingest into shoot '{summary.shoot}'", title_justify="left", show_header=False)
+    table = Table(title=Text(f"Ingest into shoot {summary.shoot!r}"), title_justify="left", show_header=False)
     table.add_column(style="bold")
     table.add_column(justify="right")
     for label, value in (("Added", summary.added), ("Updated", summary.updated), ("Unchanged", summary.unchanged),
@@ -70,9 +86,18 @@ def render_ingest(summary: IngestSummary, catalog: str) -> None:
         table.add_row(label, str(value))
     console.print(table)
     for path, reason in summary.failed:
-        console.print(f"[red]skipped[/] {path}: {reason}", highlight=False, markup=True)
+        console.print(Text.assemble(("skipped", "red"), f" {path}: {reason}"), highlight=False)
+    for name, count in sorted(summary.elsewhere.items()):
+        console.print(Text(f"{_frames(count)} already belong to shoot {name!r}: left there "
+                           f"(give --shoot {shlex_quote(summary.shoot)} to move them into this one)"), highlight=False)
+    for name, count in sorted(summary.moved.items()):
+        console.print(Text(f"moved {_frames(count)} from shoot {name!r} to {summary.shoot!r}"), highlight=False)
+    for name in summary.needs_format:
+        console.print(Text(f"body {name!r} needs its sensor format before its frames can be judged: "
+                           f"{format_command(name)}"), highlight=False)
     if summary.vanished and not summary.pruned:
         console.print(f"{len(summary.vanished)} catalogued frames were not found again; kept (use --prune to remove).")
     for item in summary.registered:
-        console.print(f"registered {item} — check it with 'sharpzone body list' / 'sharpzone lens list'")
-    console.print(f"{summary.seconds:.1f} s; catalogue {catalog}")
+        console.print(Text(f"registered {item} — check it with 'sharpzone body list' / 'sharpzone lens list'"),
+                      highlight=False)
+    console.print(Text(f"{summary.seconds:.1f} s; catalogue {catalog}"), highlight=False)

@@ -55,14 +55,16 @@ def add_body(
     *,
     exif_make: str,
     exif_model: str,
-    format_name: str,
+    format_name: str | None,
     serial: str | None = None,
     pixel_width: int | None = None,
     pixel_height: int | None = None,
     confirmed: bool = True,
 ) -> Body:
     """Add a body named ``name`` with the EXIF make/model (and serial) it writes and its
-    sensor format (by name or alias); pixel dimensions are the full image in pixels."""
+    sensor format (by name or alias; ``None`` while unknown: its frames are then not judged
+    until it is set); pixel dimensions are the full image in pixels. One of make and model
+    may be empty (some files name only one)."""
     body = Body()
     _apply(
         session,
@@ -99,7 +101,7 @@ def edit_body(
     _apply(
         session,
         body,
-        format_name=body.sensor_format.name if format_name is None else format_name,
+        format_name=(body.sensor_format.name if body.sensor_format else None) if format_name is None else format_name,
         **merged(
             body,
             name=new_name,
@@ -124,11 +126,13 @@ def remove_body(session: Session, name: str, *, reassign_to: str | None = None) 
 def _apply(session, body, *, name, exif_make, exif_model, serial, format_name, pixel_width, pixel_height, confirmed) -> None:
     """Validate the complete new state of ``body``, then set it."""
     name = clean_name(name, "body")
-    make, model = exif_make, exif_model
-    make = clean_name(make, f"body {name!r}: EXIF make")
-    model = clean_name(model, f"body {name!r}: EXIF model")
+    make, model = optional_text(exif_make) or "", optional_text(exif_model) or ""
+    if not make and not model:
+        raise InvalidValue(f"body {name!r}: EXIF make and model must not both be empty")
+    make = clean_name(make, f"body {name!r}: EXIF make") if make else make
+    model = clean_name(model, f"body {name!r}: EXIF model") if model else model
     serial = optional_text(serial)
-    sensor_format = get_format(session, format_name, error=InvalidValue)
+    sensor_format = get_format(session, format_name, error=InvalidValue) if format_name is not None else None
     pixel_width = positive_int(pixel_width, f"body {name!r}: pixel width")
     pixel_height = positive_int(pixel_height, f"body {name!r}: pixel height")
     require_name_free(session, Body, name, "body", keep=body)

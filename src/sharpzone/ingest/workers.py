@@ -1,0 +1,208 @@
+"""Worker processes that read image metadata, contained: a reader that crashes the
+interpreter (a native library's segfault or abort) or hangs costs one file, never the run.
+
+``ReaderPool`` keeps ``workers`` processes, each fed through its own pipe with up to
+``depth`` files at a time. A worker reads its files in the order given and answers in that
+order, so when one dies the file at the head of its queue is the one that killed it: that
+file is reported ("the metadata reader crashed on this file"), the worker is replaced and
+the rest of its queue goes to the others. A file that takes longer than ``time_limit_s`` is
+reported the same way ("timed out after N s"). (``concurrent.futures`` and
+``multiprocessing.Pool`` cannot do this: the first breaks as a whole on a dead worker, the
+second hangs waiting for the lost task.)
+
+Workers ignore Ctrl-C and SIGTERM (the parent decides when they stop), and leave quietly
+when the parent goes away, even by SIGKILL: their pipe closes, or their parent process id
+changes.
+"""
+
+from __future__ import annotations
+
+import collections
+import multiprocessing
+import os
+import signal
+import time
+from collections.abc import Callable, Iterable, Iterator
+from multiprocessing.connection import wait
+
+from sharpzone.ingest.records import CaptureRecord, ReadProblem
+
+Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
+Task = tuple[str, "float | None"]
+
+# Files in flight per worker: enough that a worker never waits for the parent between files.
+DEPTH = 8
+# Per-file time limit (seconds) unless the caller says otherwise.
+TIME_LIMIT_S = 30.0
+# How often an idle worker checks that its parent is still there.
+PARENT_CHECK_S = 1.0
+CRASHED = "the metadata reader crashed on this file"
+_STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
+
+
+def timed_out(limit_s: float) -> str:
+    """The reason given for a file whose reading ran past ``limit_s`` seconds."""
+    return f"the metadata reader timed out after {limit_s:g} s on this file"
+
+
+def _worker_main(connection, reader: Reader, parent_pid: int) -> None:
+    """A worker's loop: read each (path, user distance) sent, answer with the result."""
+    import faulthandler
+
+    faulthandler.disable()  # a crash is reported by the parent, in one line
+    for number in _STOP_SIGNALS:
+        signal.signal(number, signal.SIG_IGN)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+    try:
+        while True:
+            if not connection.poll(PARENT_CHECK_S):
+                if os.getppid() != parent_pid:
+                    return
+                continue
+            task = connection.recv()
+            if task is None:
+                return
+            path, user_mm = task
+            try:
+                result = reader(path, user_mm)
+            except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
+                result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
+            connection.send(result)
+    except (EOFError, OSError):
+        return  # the parent went away: leave without a word
+
+
+class _Worker:
+    def __init__(self, context, reader: Reader) -> None:
+        self.connection, child_end = context.Pipe(duplex=True)
+        self.process = context.Process(target=_worker_main, args=(child_end, reader, os.getpid()), daemon=True)
+        # Block the stop signals across the fork so the child ignores them before any
+        # could reach it; the parent gets any that arrived meanwhile right after.
+        signal.pthread_sigmask(signal.SIG_BLOCK, _STOP_SIGNALS)
+        try:
+            self.process.start()
+        finally:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+        child_end.close()
+        self.queue: collections.deque[Task] = collections.deque()
+        self.head_since = time.monotonic()
+
+    def send(self, task: Task) -> None:
+        if not self.queue:
+            self.head_since = time.monotonic()
+        self.queue.append(task)
+        try:
+            self.connection.send(task)
+        except OSError:
+            pass  # it just died: found by its sentinel, and this task goes to another worker
+
+    def stop(self, *, at_once: bool = False) -> None:
+        if not at_once:
+            try:
+                self.connection.send(None)
+            except OSError:
+                pass
+        self.connection.close()
+        if not at_once:
+            self.process.join(1.0)
+        if self.process.is_alive():
+            self.process.kill()
+        self.process.join()
+
+
+def _context():
+    methods = multiprocessing.get_all_start_methods()
+    return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
+
+
+class ReaderPool:
+    """``workers`` contained reader processes; use as a context manager around ``read``.
+
+    ``reader`` is a module-level function ``(path, user_focus_mm) -> CaptureRecord |
+    ReadProblem`` (normally ``ingest.capture.read_capture``; tests pass readers that crash
+    or hang on marker files).
+    """
+
+    def __init__(self, reader: Reader, workers: int, *, time_limit_s: float = TIME_LIMIT_S,
+                 depth: int = DEPTH) -> None:
+        self.reader = reader
+        self.size = max(1, workers)
+        self.time_limit_s = time_limit_s
+        self.depth = max(1, depth)
+        self._context = _context()
+        self._workers: list[_Worker] = []
+        self.replaced = 0
+
+    def __enter__(self) -> ReaderPool:
+        return self
+
+    def __exit__(self, kind, error, traceback) -> None:
+        self.close(at_once=kind is not None)
+
+    def close(self, *, at_once: bool = False) -> None:
+        """Stop every worker (``at_once``: kill them without waiting, after an interrupt)."""
+        workers, self._workers = self._workers, []
+        for worker in workers:
+            worker.stop(at_once=at_once)
+
+    def read(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+        """Read every task; one result per task, in any order. ``tasks`` may be a generator
+        (the folder walk), drawn from only as workers have room."""
+        tasks = iter(tasks)
+        retry: collections.deque[Task] = collections.deque()
+        exhausted = False
+        if not self._workers:
+            self._workers = [_Worker(self._context, self.reader) for _ in range(self.size)]
+        while True:
+            for _ in range(self.depth):  # round-robin, one file per worker per pass
+                for worker in self._workers:
+                    if len(worker.queue) >= self.depth:
+                        continue
+                    if retry:
+                        worker.send(retry.popleft())
+                    elif not exhausted:
+                        try:
+                            worker.send(next(tasks))
+                        except StopIteration:
+                            exhausted = True
+            busy = [worker for worker in self._workers if worker.queue]
+            if not busy:
+                return
+            now = time.monotonic()
+            deadline = min(worker.head_since for worker in busy) + self.time_limit_s
+            waitables = {worker.connection: worker for worker in busy}
+            waitables.update({worker.process.sentinel: worker for worker in busy})
+            ready = wait(list(waitables), timeout=max(0.0, deadline - now))
+            handled: set[int] = set()
+            for item in ready:
+                worker = waitables[item]
+                if id(worker) in handled:
+                    continue
+                handled.add(id(worker))
+                yield from self._drain(worker, retry)
+            now = time.monotonic()
+            for worker in list(self._workers):
+                if worker.queue and now - worker.head_since > self.time_limit_s:
+                    yield from self._replace(worker, timed_out(self.time_limit_s), retry)
+
+    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[CaptureRecord | ReadProblem]:
+        """Every answer the worker has sent; if it died, its culprit and a replacement."""
+        try:
+            while worker.queue and worker.connection.poll():
+                result = worker.connection.recv()
+                worker.queue.popleft()
+                worker.head_since = time.monotonic()
+                yield result
+        except (EOFError, OSError):
+            pass
+        if worker.queue and not worker.process.is_alive():
+            yield from self._replace(worker, CRASHED, retry)
+
+    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[ReadProblem]:
+        culprit = worker.queue.popleft()
+        retry.extendleft(reversed(worker.queue))
+        worker.queue.clear()
+        worker.stop(at_once=True)
+        self._workers[self._workers.index(worker)] = _Worker(self._context, self.reader)
+        self.replaced += 1
+        yield ReadProblem(culprit[0], reason)

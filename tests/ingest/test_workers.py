@@ -1,0 +1,52 @@
+"""Contained readers: a worker that segfaults, aborts, hangs or raises costs one file, the
+others are all read, and the run goes on (issue 10 part 2)."""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+from sharpzone.catalog.engine import open_catalog, session_scope
+from sharpzone.catalog.models import Frame, IngestProblem
+from sharpzone.ingest.pipeline import ingest_paths
+from sharpzone.ingest.workers import CRASHED, ReaderPool, timed_out
+from tests.ingest.images import exif_block, jpeg
+from tests.ingest.readers import misbehaving_reader
+
+
+def _card(written, folder, good: int, bad: list[str]):
+    for number in range(good):
+        written(f"G{number:03d}.JPG", jpeg(exif_block(subject_distance=(1000 + number, 1000))), folder)
+    for name in bad:
+        written(name, jpeg(exif_block()), folder)
+
+
+@pytest.mark.parametrize("jobs", [1, 2])
+def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, catalog_url, jobs):
+    folder = tmp_path / "card"
+    _card(written, folder, 90, ["A_segv.JPG", "M_abort.JPG", "T_hang.JPG", "Z_bug.JPG"])
+    with open_catalog(catalog_url) as catalog:
+        result = ingest_paths(catalog, [folder], jobs=jobs, reader=misbehaving_reader, time_limit_s=1.5,
+                              batch_size=20)
+    reasons = {os.path.basename(path): reason for path, reason in result.failed}
+    assert reasons == {"A_segv.JPG": CRASHED, "M_abort.JPG": CRASHED, "T_hang.JPG": timed_out(1.5),
+                       "Z_bug.JPG": "the metadata reader failed on this file (RuntimeError)"}
+    assert timed_out(1.5) == "the metadata reader timed out after 1.5 s on this file"
+    assert result.added == 90
+    with session_scope(catalog_url) as session:
+        focus = sorted(frame.focus_mm for frame in session.query(Frame))
+        assert focus == pytest.approx([1000 + n for n in range(90)])  # every good file, once
+        assert session.query(IngestProblem).count() == 4
+
+
+def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written):
+    folder = tmp_path / "pool"
+    _card(written, folder, 30, [f"C{n}_segv.JPG" for n in range(5)])
+    tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
+    with ReaderPool(misbehaving_reader, 2, depth=4) as pool:
+        results = list(pool.read(tasks))
+        assert pool.replaced == 5
+    assert sorted(result.path for result in results) == sorted(path for path, _ in tasks)
+    crashed = [os.path.basename(r.path) for r in results if getattr(r, "reason", None) == CRASHED]
+    assert sorted(crashed) == [f"C{n}_segv.JPG" for n in range(5)]
