@@ -196,7 +196,8 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
     that holds, 0…1, in dioptres: see the module doc), ``max_f_number`` (the lens's
     narrowest), ``diffraction_f_number`` (the marked f-number where diffraction starts to
     soften this frame)."""
-    result = frames.copy()
+    # A shallow copy: the new columns are added to it alone, the caller's frame stays as it was.
+    result = frames.copy(deep=False)
     count = len(result)
     focal = result["focal_mm"].to_numpy(dtype=float)
     f_number = result["f_number"].to_numpy(dtype=float)

@@ -121,18 +121,6 @@ def f_number_for_range(
     return scalar_or_array(np.maximum(np.maximum(for_near, for_far), 0.0), scalar)
 
 
-def _bisect_increasing(func, target, lo, hi, iterations=90):
-    """Vectorised geometric bisection: the x in [lo, hi] where increasing ``func`` meets ``target``."""
-    lo = np.array(lo, dtype=np.float64, copy=True)
-    hi = np.array(hi, dtype=np.float64, copy=True)
-    for _ in range(iterations):
-        mid = np.sqrt(lo * hi)
-        below = func(mid) < target
-        lo = np.where(below, mid, lo)
-        hi = np.where(below, hi, mid)
-    return np.sqrt(lo * hi)
-
-
 @dataclass(frozen=True)
 class FocusPlan:
     """Where to focus to hold a range with the least stopping down, and that f-number (exact)."""
@@ -148,29 +136,33 @@ def best_focus_for_range(
 ) -> FocusPlan:
     """The focus distance that holds [near_target, far_target] with the least stopping down.
 
-    Lens-referenced it is the closed form where both ends need the same f-number; measured
-    from the sensor the lens moves as it focuses, so the same balance is found by bisection.
+    Lens-referenced it is the closed form where both ends need the same f-number. Measured
+    from the sensor the lens sits v = f (1 + m) in front of it, so the targets seen from the
+    lens depend on the focus itself: the same closed form is applied to the targets less v and
+    v updated from its answer, a fixed number of times. Each round shrinks v's error by about
+    m² (the target moves by v, the answer's magnification by m²/f per mm), so sixteen rounds
+    settle any focus short of 1:1; the f-number is then exact for the focus found.
     """
     check_reference(reference)
     scalar = all_scalar(focal_mm, coc_mm, near_target_mm, far_target_mm, pupil_magnification)
     f, _, c, p = validate_lens_inputs(focal_mm, 1.0, coc_mm, pupil_magnification)
     a, b = _check_range(near_target_mm, far_target_mm, f, reference)
     f, c, p, a, b = np.broadcast_arrays(f, c, p, a, b)
-    if reference == "lens":
-        m_a, m_b = _magnification(a, f), _magnification(b, f)
-        m = (m_a * (p + m_b) + m_b * (p + m_a)) / (2 * p + m_a + m_b)
-        focus = f + f / m
-        needed = f_number_for_range(f, c, focus, a, b, reference="lens", pupil_magnification=p)
-    else:
-        def imbalance(distance):
-            s = np.asarray(sensor_to_lens_distance(distance, f))
-            v = image_distance_mm(s, f)
-            for_near, for_far = _needed_f_numbers_lens(f, c, p, s, a - v, b - v)
-            return for_near - for_far
 
-        upper = np.where(np.isinf(b), 8 * a + 8 * f, b)
-        focus = _bisect_increasing(imbalance, 0.0, a, upper)
-        needed = f_number_for_range(f, c, focus, a, b, reference="sensor", pupil_magnification=p)
+    def balanced_m(near_lens, far_lens):
+        m_a, m_b = _magnification(near_lens, f), _magnification(far_lens, f)
+        return (m_a * (p + m_b) + m_b * (p + m_a)) / (2 * p + m_a + m_b)
+
+    if reference == "lens":
+        m = balanced_m(a, b)
+        focus = f + f / m
+    else:
+        v = np.array(f, dtype=np.float64, copy=True)
+        for _ in range(16):
+            m = balanced_m(a - v, b - v)
+            v = f * (1 + m)
+        focus = f + f / m + v
+    needed = f_number_for_range(f, c, focus, a, b, reference=reference, pupil_magnification=p)
     return FocusPlan(scalar_or_array(focus, scalar), scalar_or_array(needed, scalar), reference)
 
 def _zone_coefficients(f, n, c, p):
