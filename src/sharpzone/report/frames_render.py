@@ -8,6 +8,7 @@ import os
 from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
@@ -275,7 +276,7 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
         setting = (f"{format_length_mm(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))} @ "
                    f"{_focus_text(row, imperial)}")
         zone = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial)
-        remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {describe_flag(flag, row, imperial=imperial)}"
+        remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {escape(describe_flag(flag, row, imperial=imperial))}"
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)
     console.print(detail)
