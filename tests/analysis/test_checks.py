@@ -9,12 +9,14 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from sharpzone.analysis.checks import FLAGS, FLAG_KINDS, Requirement, check_frames, flagged_share
 from sharpzone.analysis.frames import CheckResult
 from sharpzone.analysis.stats import _group_stats
 from sharpzone.analysis.zones import add_zones
-from sharpzone.optics import plan_focus_stack, sharp_zone
+from sharpzone.optics import plan_focus_stack
 from sharpzone.optics.coc import FixedCoc
 from sharpzone.optics.stops import next_wider, stop_series
 from sharpzone.report.verdicts import describe_flag
@@ -306,3 +308,24 @@ def test_every_verdict_has_a_kind_and_words():
     row = checked(RANGE, {"f_number": 8.0, "focus_mm": 3000, "focus_near_mm": 2800, "focus_far_mm": 3300}).iloc[0]
     for flag in FLAGS:
         assert describe_flag(flag, row)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.sampled_from([24.0, 35.0, 50.0, 85.0, 135.0]), st.sampled_from([2.8, 4.0, 5.6, 8.0, 11.0]),
+       st.floats(min_value=15, max_value=150), st.floats(min_value=1.05, max_value=2.5),
+       st.floats(min_value=0.6, max_value=1.6), st.floats(min_value=1.01, max_value=1.5))
+def test_the_share_matches_sampling_the_bracket(focal, n, near_factor, spread, centre, width):
+    # Any range and bracket: the closed-form share against sampling with the published forms.
+    near = near_factor * focal
+    far = near * spread
+    focus = math.sqrt(near * far) * centre
+    nearest, farthest = max(focus / width, 4.01 * focal), focus * width
+    requirement = Requirement("range", near_mm=near, far_mm=far)
+    row = checked(requirement, {"focal_mm": focal, "f_number": n, "focus_mm": focus, "focus_near_mm": nearest,
+                                "focus_far_mm": farthest}).iloc[0]
+    expected = share_holding(lambda d: holds_range(focal, n, 0.03, d, near, far), focal, nearest, farthest, 4001)
+    assert row["holds_share"] == pytest.approx(expected, abs=2e-3)
+    if row["flags"] == []:
+        assert expected == 1.0
+    if row["outcome"] == "flagged":
+        assert expected == 0.0
