@@ -44,7 +44,8 @@ def test_demo_check_names_the_planted_mistakes(demo_run):
     rings = _flags(folder / "reports" / "check-ring-details.json")
     assert "out-of-reach" in rings["VHB_0301.JPG"]
     portraits = _flags(folder / "reports" / "check-couple-portraits.json")
-    assert portraits["VHB_0204.JPG"] == ["outside-plan"]
+    # Focused at infinity in a portrait plan: the camera missed the subject (issue 11 part 4).
+    assert portraits["VHB_0204.JPG"] == ["focus-misplaced"]
 
 
 def test_demo_sheet_carries_the_same_numbers_as_dof(demo_run):

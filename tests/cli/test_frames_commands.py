@@ -139,3 +139,31 @@ def test_check_without_any_plan_says_so(catalog_url):
         session.add(Frame(path="/x/a.jpg", file_size=1, file_mtime_ns=1, shoot=shoot, focal_mm=50, f_number=8))
     result = run(catalog_url, "check", "--shoot", "Unplanned")
     assert result.exit_code == 2 and "no plan" in result.stderr
+
+
+def test_a_focus_bracket_is_shown_and_judged_over_all_of_it(shoot_catalog):
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Body, Frame, Lens, Shoot
+
+    with session_scope(shoot_catalog) as session:
+        shoot = session.query(Shoot).one()
+        session.add(Frame(path="/shoots/harbour/bracket.jpg", file_size=1, file_mtime_ns=99, shoot=shoot,
+                          body=session.query(Body).one(), lens=session.query(Lens).one(), focal_mm=50.0,
+                          f_number=8.0, focus_mm=3000.0, focus_near_mm=2800.0, focus_far_mm=3300.0,
+                          focus_key="Exif.Invented.FocusDistanceUpper", focus_source="makernote",
+                          captured_at=dt.datetime(2026, 5, 1, 11, 0)))
+    table = runner.invoke(app, ["--catalog", shoot_catalog, "frames", "--shoot", "Harbour portraits"],
+                          env={"COLUMNS": "200"})
+    assert "3.00 m (2.80–3.30)" in table.stdout
+    rows = {item["path"].rsplit("/", 1)[1]: item for item in
+            json.loads(run(shoot_catalog, "check", "--shoot", "Harbour portraits", "--json").stdout)}
+    bracket = rows["bracket.jpg"]
+    assert (bracket["focus_near_m"], bracket["focus_far_m"]) == (2.8, 3.3)
+    assert bracket["focus_key"] == "Exif.Invented.FocusDistanceUpper"
+    assert bracket["flags"] == ["distance-uncertain"] and bracket["outcome"] == "uncertain"
+    assert 0 < bracket["holds_share"] < 1 and bracket["remedy"] == "stop-down"
+    assert rows["held.jpg"]["focus_near_m"] == rows["held.jpg"]["focus_m"] == 3.0  # no bracket: exact
+    # Judged: held, wide, misfocused, infinity and the bracketed frame; flagged: wide, misfocused
+    # and infinity (the uncertain frame is judged, not flagged): 3 of 5, as check counts it.
+    lens = json.loads(run(shoot_catalog, "stats", "--json").stdout)["lenses"][0]
+    assert lens["share_flagged"] == pytest.approx(3 / 5)

@@ -7,7 +7,7 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.checks import FLAGS, Requirement, check_frames
+from sharpzone.analysis.checks import FLAGS, Requirement, check_frames, flagged_share
 from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.coc import parse_coc_policy
@@ -59,7 +59,8 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
         select(
             Frame.id.label("frame_id"), Frame.path, Frame.shoot_id, Frame.body_id, Frame.lens_id, Frame.focal_mm,
             Frame.f_number, Frame.exposure_s, Frame.iso, Frame.focus_mm, Frame.focus_source, Frame.captured_at,
-            Frame.utc_offset_minutes,
+            Frame.utc_offset_minutes, Frame.focus_near_mm, Frame.focus_far_mm, Frame.focus_key,
+            Frame.subject_distance_range,
         )
         .order_by(Frame.captured_at, Frame.path)
     )
@@ -93,7 +94,7 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame = pd.DataFrame({name: pd.Series(values, dtype=object) for name, values in zip(names, columns)})
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
     frame = _join_small_tables(session, frame)
-    numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "format_width_mm", "format_height_mm",
+    numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm", "format_height_mm",
                "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
                "planned_focus_mm"]
@@ -138,19 +139,17 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
 def _keep_verdict(checked: pd.DataFrame, verdict: str | None) -> pd.DataFrame:
     if verdict is None:
         return checked
-    flags = checked["flags"]
-    if verdict == "passed":
-        keep = flags.map(len) == 0
-    elif verdict == "flagged":
-        keep = flags.map(len) > 0
+    if verdict in ("passed", "flagged"):
+        keep = checked["outcome"].to_numpy(dtype=object) == verdict
     else:
-        keep = flags.map(lambda row: verdict in row)
-    return checked[keep.to_numpy(dtype=bool)]
+        keep = checked["flags"].map(lambda row: verdict in row).to_numpy(dtype=bool)
+    return checked[keep]
 
 
 @dataclass(frozen=True)
 class CheckResult:
-    """Checked frames (one row each, ``flags`` empty when passed) and what was required."""
+    """Checked frames (one row each, ``flags`` empty when passed, ``outcome`` passed, flagged,
+    uncertain or unjudged) and what was required."""
 
     frames: pd.DataFrame
     requirement: Requirement | None
@@ -158,24 +157,38 @@ class CheckResult:
 
     @property
     def flagged(self) -> pd.DataFrame:
+        """Frames whose outcome is flagged (judged and missed)."""
+        return self.frames[self.frames["outcome"].to_numpy(dtype=object) == "flagged"]
+
+    @property
+    def noted(self) -> pd.DataFrame:
+        """Frames with any verdict: flagged, uncertain or not judged."""
         return self.frames[self.frames["flags"].map(len).to_numpy() > 0]
 
     def summary_by_verdict(self) -> dict[str, int]:
-        """How many frames carry each verdict, plus ``passed`` and ``frames``."""
+        """How many frames carry each verdict, plus ``frames`` and the count of each outcome
+        (``passed``, ``flagged``, ``uncertain``, ``unjudged``)."""
         counts = {flag: 0 for flag in FLAGS}
         for flags in self.frames["flags"]:
             for flag in flags:
                 counts[flag] += 1
-        passed = int((self.frames["flags"].map(len) == 0).sum())
-        return {"frames": len(self.frames), "passed": passed, **{k: v for k, v in counts.items() if v}}
+        outcomes = self.frames["outcome"].value_counts()
+        summary = {"frames": len(self.frames)}
+        summary.update({name: int(outcomes.get(name, 0)) for name in ("passed", "flagged", "uncertain", "unjudged")})
+        return {**summary, **{k: v for k, v in counts.items() if v}}
 
     def summary_by_lens(self) -> list[dict]:
-        """Per lens: frames, flagged, and the share flagged."""
-        frames = self.frames.assign(flagged=self.frames["flags"].map(len) > 0,
-                                    lens=self.frames["lens"].fillna("(unknown lens)"))
-        grouped = frames.groupby("lens", sort=True)["flagged"].agg(["count", "sum"])
-        return [{"lens": lens, "frames": int(row["count"]), "flagged": int(row["sum"]),
-                 "share_flagged": float(row["sum"]) / float(row["count"])} for lens, row in grouped.iterrows()]
+        """Per lens: frames, flagged, uncertain, not judged, and the share flagged of the
+        judged frames (``checks.flagged_share``; ``None`` when none was judged)."""
+        frames = self.frames.assign(lens=self.frames["lens"].fillna("(unknown lens)"))
+        summary = []
+        for lens, rows in frames.groupby("lens", sort=True):
+            outcomes = rows["outcome"].to_numpy(dtype=object)
+            summary.append({"lens": lens, "frames": len(rows), "flagged": int((outcomes == "flagged").sum()),
+                            "uncertain": int((outcomes == "uncertain").sum()),
+                            "unjudged": int((outcomes == "unjudged").sum()),
+                            "share_flagged": flagged_share(outcomes)})
+        return summary
 
 
 def frames_with_zones(session: Session, where: FrameFilter = FrameFilter(), *, coc_policy: str | None = None,

@@ -9,6 +9,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from sharpzone.analysis.checks import flagged_share
 from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
 from sharpzone.optics.stops import round_up_to_stops
 
@@ -20,8 +21,9 @@ if TYPE_CHECKING:
 
 @dataclass(frozen=True)
 class GroupStats:
-    """Statistics of one lens or body. Distances in mm; ``share_flagged`` is ``None`` when
-    nothing said what had to be sharp."""
+    """Statistics of one lens or body. Distances in mm; ``share_flagged`` is flagged frames
+    over judged frames, as ``check`` counts it (``checks.flagged_share``), ``None`` when no
+    frame could be judged."""
 
     kind: str
     name: str
@@ -49,11 +51,7 @@ def _group_stats(kind: str, name: str, rows) -> GroupStats:
     counts = Counter(float(label) for label in labels if not np.isnan(label))
     focus = rows["focus_mm"].to_numpy(dtype=float)
     finite = focus[np.isfinite(focus)]
-    judged = rows["flags"].map(lambda flags: not ({"no-requirement", "distance-unknown", "settings-unknown"} & set(flags)))
-    judged_rows = rows[judged.to_numpy(dtype=bool)]
-    share = None
-    if len(judged_rows):
-        share = float((judged_rows["flags"].map(len) > 0).mean())
+    share = flagged_share(rows["outcome"].to_numpy(dtype=object))
     return GroupStats(
         kind=kind, name=name, frames=len(rows), f_number_counts=tuple(sorted(counts.items())),
         share_flagged=share,

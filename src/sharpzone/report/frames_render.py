@@ -8,6 +8,7 @@ import os
 from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
@@ -32,6 +33,7 @@ FLAG_STYLES = {
     "distance-unknown": "dim",
     "settings-unknown": "dim",
     "no-requirement": "dim",
+    "distance-uncertain": "yellow",
 }
 PASSED_STYLE = "green"
 
@@ -44,6 +46,12 @@ def _number(value: Any) -> float | None:
     except (TypeError, ValueError):
         return None
     return None if math.isnan(number) else number
+
+
+def _bracket_end(row, name: str) -> float | None:
+    """One end of the focus bracket (mm); the nominal distance where none is stored (exact)."""
+    value = _number(row.get(name))
+    return _number(row["focus_mm"]) if value is None else value
 
 
 def frame_json(row) -> dict[str, Any]:
@@ -62,6 +70,9 @@ def frame_json(row) -> dict[str, Any]:
         "captured_at": None if captured is None or captured != captured else captured.isoformat(),
         "utc_offset_minutes": int(offset) if offset is not None else None,
         "focus_m": metres(_number(row["focus_mm"])),
+        "focus_near_m": metres(_bracket_end(row, "focus_near_mm")),
+        "focus_far_m": metres(_bracket_end(row, "focus_far_mm")),
+        "focus_key": row.get("focus_key") if isinstance(row.get("focus_key"), str) else None,
         "focus_source": row.get("focus_source"),
         "format": row.get("format_name"),
         "coc_mm": _number(row["coc_mm"]),
@@ -89,6 +100,11 @@ def check_json(row) -> dict[str, Any]:
         "better_focus_m": metres(_number(row["better_focus_mm"])),
         "better_f_number": _number(row["better_f_number"]),
         "stack_frames": int(stack) if stack is not None and stack > 0 else None,
+        "stack_f_number": _number(row.get("stack_f_number")),
+        "single_frame_f_number": _number(row.get("single_frame_f_number")),
+        "remedy": row.get("remedy") or None,
+        "holds_share": _number(row.get("holds_share")),
+        "outcome": row.get("outcome"),
         "remedies": [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]],
     })
     return data
@@ -156,7 +172,7 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
         cells = [
             _short_path(row["path"]), row.get("lens") or "—",
             format_length_mm(_number(row["focal_mm"])), format_f_number(_number(row["f_number"])),
-            format_distance(_number(row["focus_mm"]), imperial=imperial),
+            _focus_text(row, imperial),
             *_zone_text(near, far, imperial).split(" – "),
             format_distance(_number(row["total_mm"]), imperial=imperial),
             format_distance(_number(row["hyperfocal_mm"]), imperial=imperial),
@@ -169,6 +185,20 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
         table.add_row(*cells, _flags_text(row["flags"], "\n"))
     console.print(table)
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
+
+
+def _focus_text(row, imperial: bool) -> str:
+    """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"."""
+    focus = _number(row["focus_mm"])
+    text = format_distance(focus, imperial=imperial)
+    nearest, farthest = _bracket_end(row, "focus_near_mm"), _bracket_end(row, "focus_far_mm")
+    if focus is None or nearest is None or farthest is None or not farthest > nearest * (1 + 1e-9):
+        return text
+    low, high = format_distance(nearest, imperial=imperial), format_distance(farthest, imperial=imperial)
+    unit = text.rsplit(" ", 1)[-1] if " " in text else ""
+    if unit and low.endswith(" " + unit) and high.endswith(" " + unit):
+        low, high = low[: -len(unit) - 1], high[: -len(unit) - 1]
+    return f"{text} ({low}–{high})"
 
 
 def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
@@ -210,24 +240,31 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
     against = (result.requirement.describe(imperial) if result.requirement
                else f"the plan ({_plans_line(frames, imperial)})")
     heading = (f"Checked {summary['frames']} frames against {against}: "
-               f"[{PASSED_STYLE}]{summary['passed']} passed[/], {summary['frames'] - summary['passed']} flagged")
+               f"[{PASSED_STYLE}]{summary['passed']} passed[/], {summary['flagged']} flagged")
+    if summary["uncertain"]:
+        heading += f", {summary['uncertain']} uncertain (distance known only as a bracket)"
+    if summary["unjudged"]:
+        heading += f", {summary['unjudged']} not judged"
     console.print(heading)
     console.print(_policy_line(frames) + " Distances from the sensor plane.", style="dim")
     verdicts = Table(title="By verdict", title_justify="left")
     verdicts.add_column("Verdict")
     verdicts.add_column("Frames", justify="right")
     for flag, count in summary.items():
-        if flag not in ("frames", "passed"):
+        if flag not in ("frames", "passed", "flagged", "uncertain", "unjudged"):
             verdicts.add_row(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]", str(count))
     if len(verdicts.rows):
         console.print(verdicts)
     lenses = Table(title="By lens", title_justify="left")
-    for header in ("Lens", "Frames", "Flagged", "Share"):
+    for header in ("Lens", "Frames", "Flagged", "Uncertain", "Not judged", "Share flagged"):
         lenses.add_column(header, justify="left" if header == "Lens" else "right")
     for item in result.summary_by_lens():
-        lenses.add_row(item["lens"], str(item["frames"]), str(item["flagged"]), f"{item['share_flagged']:.0%}")
+        share = "—" if item["share_flagged"] is None else f"{item['share_flagged']:.0%}"
+        lenses.add_row(item["lens"], str(item["frames"]), str(item["flagged"]), str(item["uncertain"]),
+                       str(item["unjudged"]), share)
     console.print(lenses)
-    flagged = result.flagged
+    console.print("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", style="dim")
+    flagged = result.noted
     if flagged.empty:
         return
     detail = Table(title="Flagged frames and what would have worked", title_justify="left", show_lines=True)
@@ -237,9 +274,9 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
     detail.add_column("Verdict and remedy")
     for row in flagged.to_dict("records"):
         setting = (f"{format_length_mm(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))} @ "
-                   f"{format_distance(_number(row['focus_mm']), imperial=imperial)}")
+                   f"{_focus_text(row, imperial)}")
         zone = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial)
-        remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {describe_flag(flag, row, imperial=imperial)}"
+        remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {escape(describe_flag(flag, row, imperial=imperial))}"
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)
     console.print(detail)
