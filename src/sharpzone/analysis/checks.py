@@ -15,6 +15,8 @@ Verdict codes (the machine interface; words for people come from ``report.verdic
 ``out-of-reach``      no aperture of this lens holds it at this focal length (stack given)
 ``past-diffraction``  stopped down past the format's diffraction limit
 ``outside-plan``      the subject lies outside the zone the plan's settings give
+
+and the blur verdicts measured from the pixels (``analysis.blur_checks.BLUR_FLAGS``).
 """
 
 from __future__ import annotations
@@ -24,6 +26,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from sharpzone.analysis.blur_checks import BLUR_FLAGS, blur_flags
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.dof import sharp_zone
 from sharpzone.optics.planning import best_focus_for_range, f_number_for_range, stack_frame_counts
@@ -36,7 +39,7 @@ if TYPE_CHECKING:
 FLAGS = (
     "distance-unknown", "settings-unknown", "no-requirement", "too-wide-open", "focus-misplaced",
     "out-of-reach", "past-diffraction", "outside-plan",
-)
+) + BLUR_FLAGS
 # The narrowest aperture assumed when the catalogue does not know a lens's minimum aperture
 # (most interchangeable lenses stop down to f/22; common practice).
 ASSUMED_MIN_APERTURE = 22.0
@@ -182,6 +185,7 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         "past-diffraction": past_diffraction,
         "outside-plan": outside_plan,
     }
+    flag_columns.update(blur_flags(result))  # the blur measured from the pixels, if any
     flag_matrix = np.column_stack([flag_columns[name] for name in FLAGS]) if count else np.zeros((0, len(FLAGS)), bool)
     # Few distinct flag combinations occur: build each list once and share it between rows
     # (treat them as read-only).

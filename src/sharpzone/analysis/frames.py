@@ -7,6 +7,7 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
+from sharpzone.analysis.blur_checks import count_problems, join_blur
 from sharpzone.analysis.checks import FLAGS, Requirement, check_frames
 from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
@@ -93,6 +94,7 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame = pd.DataFrame({name: pd.Series(values, dtype=object) for name, values in zip(names, columns)})
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
     frame = _join_small_tables(session, frame)
+    frame = join_blur(session, frame)
     numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "format_width_mm", "format_height_mm",
                "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
@@ -140,9 +142,9 @@ def _keep_verdict(checked: pd.DataFrame, verdict: str | None) -> pd.DataFrame:
         return checked
     flags = checked["flags"]
     if verdict == "passed":
-        keep = flags.map(len) == 0
+        keep = flags.map(count_problems) == 0
     elif verdict == "flagged":
-        keep = flags.map(len) > 0
+        keep = flags.map(count_problems) > 0
     else:
         keep = flags.map(lambda row: verdict in row)
     return checked[keep.to_numpy(dtype=bool)]
@@ -158,7 +160,7 @@ class CheckResult:
 
     @property
     def flagged(self) -> pd.DataFrame:
-        return self.frames[self.frames["flags"].map(len).to_numpy() > 0]
+        return self.frames[self.frames["flags"].map(count_problems).to_numpy() > 0]
 
     def summary_by_verdict(self) -> dict[str, int]:
         """How many frames carry each verdict, plus ``passed`` and ``frames``."""
@@ -166,12 +168,12 @@ class CheckResult:
         for flags in self.frames["flags"]:
             for flag in flags:
                 counts[flag] += 1
-        passed = int((self.frames["flags"].map(len) == 0).sum())
+        passed = int((self.frames["flags"].map(count_problems) == 0).sum())
         return {"frames": len(self.frames), "passed": passed, **{k: v for k, v in counts.items() if v}}
 
     def summary_by_lens(self) -> list[dict]:
         """Per lens: frames, flagged, and the share flagged."""
-        frames = self.frames.assign(flagged=self.frames["flags"].map(len) > 0,
+        frames = self.frames.assign(flagged=self.frames["flags"].map(count_problems) > 0,
                                     lens=self.frames["lens"].fillna("(unknown lens)"))
         grouped = frames.groupby("lens", sort=True)["flagged"].agg(["count", "sum"])
         return [{"lens": lens, "frames": int(row["count"]), "flagged": int(row["sum"]),

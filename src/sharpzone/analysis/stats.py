@@ -9,6 +9,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from sharpzone.analysis.blur_checks import count_problems
 from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
 from sharpzone.optics.stops import round_up_to_stops
 
@@ -53,7 +54,7 @@ def _group_stats(kind: str, name: str, rows) -> GroupStats:
     judged_rows = rows[judged.to_numpy(dtype=bool)]
     share = None
     if len(judged_rows):
-        share = float((judged_rows["flags"].map(len) > 0).mean())
+        share = float((judged_rows["flags"].map(count_problems) > 0).mean())
     return GroupStats(
         kind=kind, name=name, frames=len(rows), f_number_counts=tuple(sorted(counts.items())),
         share_flagged=share,

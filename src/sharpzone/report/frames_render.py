@@ -10,10 +10,11 @@ from typing import TYPE_CHECKING, Any
 from rich.console import Console
 from rich.table import Table
 
+from sharpzone.analysis.blur_checks import BLUR_FLAGS, count_problems
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import stdout_console
 from sharpzone.report.jsonout import metres
-from sharpzone.report.verdicts import describe_flag
+from sharpzone.report.verdicts import blur_size, describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm
 
 if TYPE_CHECKING:
@@ -32,6 +33,10 @@ FLAG_STYLES = {
     "distance-unknown": "dim",
     "settings-unknown": "dim",
     "no-requirement": "dim",
+    "focus-missed": "bold bright_red",
+    "soft-all-over": "bold dark_orange",
+    "sharp-at-focus": "green",
+    "not-measurable": "dim italic",
 }
 PASSED_STYLE = "green"
 
@@ -74,8 +79,42 @@ def frame_json(row) -> dict[str, Any]:
         "magnification": _number(row["magnification"]),
         "effective_f_number": _number(row["effective_f_number"]),
         "airy_disk_mm": _number(row["airy_disk_mm"]),
+        "blur": blur_json(row),
         "flags": list(row["flags"]),
     }
+
+
+def blur_json(row) -> dict[str, Any] | None:
+    """The measured blur of a frame (``None`` if never measured): disk diameters in pixels
+    of the analysed preview, in mm on the sensor and as multiples of the CoC."""
+    analysed = _number(row.get("blur_analysed_long_px"))
+    if analysed is None:
+        return None
+    data: dict[str, Any] = {
+        "method": row.get("blur_method"),
+        "method_version": int(_number(row.get("blur_method_version")) or 0),
+        "analysed_long_px": int(analysed),
+    }
+    data.update({key: _number(row.get(column)) for key, column in _BLUR_NUMBERS.items()})
+    data.update({
+        "focus_assumed_centre": bool(row.get("blur_focus_assumed")),
+        "best_where": row.get("blur_where"),
+        "regions_measured": int(_number(row.get("blur_regions_measured")) or 0),
+        "regions_total": int(_number(row.get("blur_regions_total")) or 0),
+        "note": "an estimate from a small preview; you decide what to reject",
+    })
+    return data
+
+
+# JSON key → frames column of the blur figures (px of the analysed preview, mm on the
+# sensor, multiples of the CoC, positions as fractions of the picture).
+_BLUR_NUMBERS = {
+    "focus_blur_px": "blur_focus_px", "focus_blur_mm": "blur_focus_mm", "focus_blur_coc": "blur_focus_coc",
+    "focus_x": "blur_focus_x", "focus_y": "blur_focus_y", "focus_edges": "blur_focus_edges",
+    "best_blur_px": "blur_best_px", "best_blur_mm": "blur_best_mm", "best_blur_coc": "blur_best_coc",
+    "best_x": "blur_best_x", "best_y": "blur_best_y", "median_blur_px": "blur_median_px",
+    "median_blur_mm": "blur_median_mm", "limit_px": "blur_limit_px",
+}
 
 
 def check_json(row) -> dict[str, Any]:
@@ -125,9 +164,10 @@ def _short_path(path: str) -> str:
 
 
 def _flags_text(flags: list[str], separator: str = " ") -> str:
-    if not flags:
-        return f"[{PASSED_STYLE}]passed[/]"
-    return separator.join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags)
+    shown = [f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags]
+    if not count_problems(flags):
+        shown.insert(0, f"[{PASSED_STYLE}]passed[/]")
+    return separator.join(shown)
 
 
 def _micrometres(value_mm: float | None) -> str:
@@ -149,6 +189,9 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
                ("Airy disk", "right")]
     if closeup:
         headers.append(("Working f", "right"))
+    blurred = any(_number(row.get("blur_analysed_long_px")) is not None for row in records)
+    if blurred:
+        headers.append(("Blur at focus", "right"))
     for header, justify in (*headers, ("Verdict", "left")):
         table.add_column(header, justify=justify, no_wrap=header != "Lens", min_width=12 if header == "Lens" else None)
     for row in records:
@@ -166,9 +209,18 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
             magnification = _number(row["magnification"]) or 0
             cells.append(format_f_number(_number(row["effective_f_number"]))
                          if magnification >= CLOSEUP_MAGNIFICATION else "")
+        if blurred:
+            cells.append(blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc"))))
         table.add_row(*cells, _flags_text(row["flags"], "\n"))
     console.print(table)
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
+    if blurred:
+        console.print(BLUR_CAUTION, style="dim")
+
+
+# Shown wherever measured blur is: what it is and what it is not.
+BLUR_CAUTION = ("Blur is an estimate from a small preview (edge re-blur method of Zhuo & Sim, 2011); "
+                "you decide what to reject — nothing is deleted or written to an image file.")
 
 
 def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
@@ -243,6 +295,8 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)
     console.print(detail)
+    if any(flag in BLUR_FLAGS for flags in flagged["flags"] for flag in flags):
+        console.print(BLUR_CAUTION, style="dim")
 
 
 def render_stats(result: StatsResult, *, imperial: bool = False, console: Console | None = None) -> None:
