@@ -97,7 +97,8 @@ def where_in_frame(x: float | None, y: float | None) -> str:
 
 def blur_flags(frames: pd.DataFrame) -> dict[str, np.ndarray]:
     """The blur verdicts per row (boolean arrays by code), adding to ``frames`` the figures
-    the words and the JSON show: ``blur_limit_px``, ``blur_focus_mm``/``blur_best_mm`` (on the
+    the words and the JSON show: ``blur_limit_px``, ``blur_floor_mm`` (the finest blur the
+    preview resolves, on the sensor), ``blur_focus_mm``/``blur_best_mm`` (on the
     sensor), ``blur_focus_coc``/``blur_best_coc`` (multiples of the CoC), ``blur_where`` (the
     sharpest region), ``blur_focus_assumed`` (no focus point recorded: the centre was used),
     ``handhold_limit_s`` (1/(35 mm equivalent focal length) s, common practice) and
@@ -124,6 +125,7 @@ def blur_flags(frames: pd.DataFrame) -> dict[str, np.ndarray]:
         diagonal = np.hypot(width, height)
         equivalent = np.where(focal_35 > 0, focal_35, _column(frames, "focal_mm") * FULL_FRAME_DIAGONAL_MM / diagonal)
         frames["blur_limit_px"] = np.where(judged, limit, np.nan)
+        frames["blur_floor_mm"] = PREVIEW_FLOOR_PX * mm_per_px
         frames["blur_focus_mm"] = focus_px * mm_per_px
         frames["blur_best_mm"] = best_px * mm_per_px
         frames["blur_median_mm"] = _column(frames, "blur_median_px") * mm_per_px

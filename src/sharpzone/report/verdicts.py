@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from sharpzone.analysis.blur_checks import PREVIEW_FLOOR_PX
 from sharpzone.units import format_distance, format_f_number
 
 
@@ -69,6 +70,15 @@ def blur_size(value_mm, coc_multiple) -> str:
     return text
 
 
+def _measured(row, which: str) -> str:
+    """The blur at the focus point or the sharpest region, or "under X µm" when the preview
+    cannot resolve finer (which = "focus" or "best")."""
+    px, floor_mm = row.get(f"blur_{which}_px"), row.get("blur_floor_mm")
+    if px is not None and px == px and floor_mm is not None and floor_mm == floor_mm and px <= PREVIEW_FLOOR_PX:
+        return f"under {floor_mm * 1000:.0f} µm, the finest this preview shows"
+    return blur_size(row.get(f"blur_{which}_mm"), row.get(f"blur_{which}_coc"))
+
+
 def format_exposure(seconds) -> str:
     """``1/250 s``, ``1/8 s``, ``2 s``."""
     if seconds is None or seconds != seconds or seconds <= 0:
@@ -93,14 +103,14 @@ def _disagreement(row, dist) -> str:
 
 
 def _focus_missed(row, dist) -> str:
-    return (f"focus missed: {blur_size(row.get('blur_focus_mm'), row.get('blur_focus_coc'))} of blur at "
+    return (f"{blur_size(row.get('blur_focus_mm'), row.get('blur_focus_coc'))} of blur at "
             f"{_focus_point(row)} while the {row.get('blur_where')} is sharp "
-            f"({blur_size(row.get('blur_best_mm'), row.get('blur_best_coc'))}) — the focus landed there"
+            f"({_measured(row, 'best')}) — the focus landed there"
             f"{_disagreement(row, dist)}; an estimate from a small preview, you decide what to reject")
 
 
 def _soft_all_over(row, dist) -> str:
-    text = (f"soft all over: even the sharpest region ({row.get('blur_where')}) has "
+    text = (f"even the sharpest region ({row.get('blur_where')}) has "
             f"{blur_size(row.get('blur_best_mm'), row.get('blur_best_coc'))} of blur — shake, subject motion or a miss")
     exposure, limit = row.get("exposure_s"), row.get("handhold_limit_s")
     if exposure is not None and exposure == exposure and limit is not None and limit == limit:
@@ -113,8 +123,7 @@ def _soft_all_over(row, dist) -> str:
 
 
 def _sharp_at_focus(row, dist) -> str:
-    return (f"sharp at {_focus_point(row)}: {blur_size(row.get('blur_focus_mm'), row.get('blur_focus_coc'))} "
-            "of blur, within the CoC as far as the preview shows")
+    return f"sharp at {_focus_point(row)}: blur {_measured(row, 'focus')}"
 
 
 def _not_measurable(row, dist) -> str:
