@@ -91,6 +91,8 @@ def test_measure_then_check_names_the_missed_and_the_soft_frames(measured_catalo
     assert "focus-missed" in table.output and "estimate from a small preview" in table.output
     frames_table = runner.invoke(app, ["--catalog", url, "frames"], env={"COLUMNS": "220"})
     assert "Blur at focus" in frames_table.output and "× CoC" in frames_table.output
+    stats = json.loads(runner.invoke(app, ["--catalog", url, "stats", "--json"]).output)["lenses"][0]
+    assert (stats["blur_measured"], stats["focus_missed"], stats["soft_all_over"]) == (3, 1, 1)
     # --verdict filters by the blur verdicts too.
     only = runner.invoke(app, ["--catalog", url, "frames", "--verdict", "focus-missed", "--json"])
     assert [item["path"].rsplit("/", 1)[-1] for item in json.loads(only.output)] == ["missed.jpg"]

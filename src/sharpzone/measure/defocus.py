@@ -18,9 +18,11 @@ straight edge blurred by a disk of each diameter (a table made once, ``disk_diam
 Our choices beyond the paper: the gradient magnitude is the larger of the two one-sided
 differences on each axis (a sharp step keeps its full height, so blurs of 2 px still give
 R well above 1); edges are local maxima of the central-difference gradient along its direction
-(no separate edge detector); only edges at least half as strong as the region's strongest are
-used (weak ripples of texture break the edge model); blur is reported as a disk diameter in
-pixels of the analysed picture.
+(no separate edge detector); the picture's noise level sets an edge threshold and its power
+is taken out of both gradients (noise would otherwise pass for sharpness); edges must keep a
+gradient through the re-blur; only edges at least half as strong as the region's strongest
+are used, and a region's blur is the 80th percentile of their readings; blur is reported as
+a disk diameter in pixels of the analysed picture.
 """
 
 from __future__ import annotations
@@ -117,29 +119,35 @@ def _gradient_squared(image: np.ndarray) -> np.ndarray:
 
 def _edge_pixels(image: np.ndarray, candidates: np.ndarray) -> np.ndarray:
     """Local maxima of the central-difference gradient along its direction, among the
-    ``candidates`` (a boolean mask); returns the flat indices of the edge pixels."""
+    ``candidates`` (a boolean mask, cleared at the border here); returns the flat indices."""
     height, width = image.shape
-    inner = np.zeros_like(candidates)
-    inner[_BORDER:-_BORDER, _BORDER:-_BORDER] = candidates[_BORDER:-_BORDER, _BORDER:-_BORDER]
-    index = np.flatnonzero(inner)
-    flat = image.ravel()
-    cx = flat[index + 1] - flat[index - 1]
-    cy = flat[index + width] - flat[index - width]
-    ax, ay = np.abs(cx), np.abs(cy)
+    candidates[:_BORDER] = candidates[-_BORDER:] = False
+    candidates[:, :_BORDER] = candidates[:, -_BORDER:] = False
+    index = np.flatnonzero(candidates)
+    cx = np.zeros_like(image)
+    cy = np.zeros_like(image)
+    np.subtract(image[:, 2:], image[:, :-2], out=cx[:, 1:-1])
+    np.subtract(image[2:], image[:-2], out=cy[1:-1])
+    magnitude = (cx * cx + cy * cy).ravel()
+    gx, gy = cx.ravel()[index], cy.ravel()[index]
+    ax, ay = np.abs(gx), np.abs(gy)
     # Direction in four bins (0°, 45°, 90°, 135°): step to the neighbour across the edge.
     horizontal = ay < np.float32(0.4142) * ax  # tan 22.5°
     vertical = ay > np.float32(2.4142) * ax  # tan 67.5°
-    rising = (cx * cy) > 0
-    step = np.where(horizontal, 1, np.where(vertical, width, np.where(rising, width + 1, width - 1)))
-
-    def magnitude(at: np.ndarray) -> np.ndarray:
-        gx = flat[at + 1] - flat[at - 1]
-        gy = flat[at + width] - flat[at - width]
-        return gx * gx + gy * gy
-
-    centre = cx * cx + cy * cy
-    keep = (centre >= magnitude(index + step)) & (centre > magnitude(index - step))
+    step = np.where(horizontal, 1, np.where(vertical, width, np.where(gx * gy > 0, width + 1, width - 1)))
+    centre = magnitude[index]
+    keep = (centre >= magnitude[index + step]) & (centre > magnitude[index - step])
     return index[keep]
+
+
+def _gradient_squared_at(image: np.ndarray, index: np.ndarray) -> np.ndarray:
+    """``_gradient_squared`` at the flat ``index`` only (away from the border)."""
+    flat = image.ravel()
+    width = image.shape[1]
+    here = flat[index]
+    dx = np.maximum(np.abs(flat[index + 1] - here), np.abs(here - flat[index - 1]))
+    dy = np.maximum(np.abs(flat[index + width] - here), np.abs(here - flat[index - width]))
+    return dx * dx + dy * dy
 
 
 def edge_sigmas(grey: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA_PX) -> EdgeBlur:
@@ -152,12 +160,14 @@ def edge_sigmas(grey: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA_PX) -> E
     sharp_noise, reblurred_noise = _noise_power(reblur_sigma_px)
     sharp = _gradient_squared(grey)
     step = max(MIN_EDGE_STEP, NOISE_STEPS * noise)
-    reblurred = _gradient_squared(gaussian_filter(grey, reblur_sigma_px, mode="nearest", truncate=3.0))
+    index = _edge_pixels(grey, sharp >= step * step)
+    reblurred_at = _gradient_squared_at(gaussian_filter(grey, reblur_sigma_px, mode="nearest", truncate=3.0),
+                                        index).astype(np.float64)
     # A real edge keeps a gradient through the re-blur; noise mostly does not.
-    index = _edge_pixels(grey, (sharp >= step * step) & (reblurred >= MIN_REBLURRED_STEP * MIN_REBLURRED_STEP))
+    index, reblurred_at = (values[reblurred_at >= MIN_REBLURRED_STEP * MIN_REBLURRED_STEP]
+                           for values in (index, reblurred_at))
     rows, cols = np.divmod(index, grey.shape[1])
     sharp_at = sharp.ravel()[index].astype(np.float64)
-    reblurred_at = reblurred.ravel()[index].astype(np.float64)
     # Noise adds its own power to both gradients (far more to the sharp one): take out what
     # it adds on average, so noise does not pass for sharpness.
     signal = sharp_at - sharp_noise * noise * noise
@@ -176,7 +186,10 @@ def noise_level(grey: np.ndarray) -> float:
     height, width = (grey.shape[0] // 2) * 2, (grey.shape[1] // 2) * 2
     g = grey[:height, :width]
     diagonal = (g[0::2, 0::2] - g[0::2, 1::2] - g[1::2, 0::2] + g[1::2, 1::2]) / 2
-    return float(np.median(np.abs(diagonal)) / 0.6745)
+    # A quarter of the coefficients (every other block each way) gives the median to well
+    # under a percent on a preview, at a quarter of the cost.
+    sample = np.abs(diagonal[::2, ::2]).ravel() if diagonal.size > 40_000 else np.abs(diagonal).ravel()
+    return float(np.median(sample) / 0.6745)
 
 
 @functools.cache
@@ -265,8 +278,8 @@ def measure_blur(grey: np.ndarray, focus_point: tuple[float, float, float, float
     # One pass: each edge pixel's grid cell, then the robust statistic per cell.
     cell_row = np.searchsorted(row_edges, edges.rows, side="right") - 1
     cell_col = np.searchsorted(col_edges, edges.cols, side="right") - 1
-    cell = cell_row * across + cell_col
-    order = np.argsort(cell, kind="stable")
+    cell = (cell_row * across + cell_col).astype(np.int16)
+    order = np.argsort(cell, kind="stable")  # a radix sort for 16-bit integers
     bounds = np.searchsorted(cell[order], np.arange(down * across + 1))
     grid: list[list[float | None]] = []
     best = (None, None, None)

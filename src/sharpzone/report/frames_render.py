@@ -307,7 +307,9 @@ def render_stats(result: StatsResult, *, imperial: bool = False, console: Consol
         return
     for title, groups in (("Lenses", result.lenses), ("Bodies", result.bodies)):
         table = Table(title=title, title_justify="left", show_lines=True)
-        for header in ("Name", "Frames", "f-numbers used", "Flagged", "Typical focus"):
+        blur = any(group.blur_measured for group in groups)
+        headers = ("Name", "Frames", "f-numbers used", "Flagged", "Typical focus") + (("Blur measured",) if blur else ())
+        for header in headers:
             table.add_column(header, justify="right" if header in ("Frames", "Flagged") else "left")
         for group in groups:
             most = max((count for _, count in group.f_number_counts), default=1)
@@ -322,7 +324,11 @@ def render_stats(result: StatsResult, *, imperial: bool = False, console: Consol
                          f"{format_distance(low, imperial=imperial)}–{format_distance(high, imperial=imperial)})")
             if group.unknown_focus:
                 focus += f"\n{group.unknown_focus} without a distance"
-            table.add_row(group.name, str(group.frames), bars, flagged, focus)
+            cells = [group.name, str(group.frames), bars, flagged, focus]
+            if blur:
+                cells.append(f"{group.blur_measured} frames\n{group.focus_missed} focus missed\n"
+                             f"{group.soft_all_over} soft all over")
+            table.add_row(*cells)
         console.print(table)
 
 
@@ -335,6 +341,9 @@ def stats_json(result: StatsResult) -> dict[str, Any]:
             "median_focus_m": metres(item.median_focus_mm),
             "focus_quartiles_m": [metres(v) for v in item.focus_quartiles_mm] if item.focus_quartiles_mm else None,
             "unknown_focus": item.unknown_focus,
+            "blur_measured": item.blur_measured,
+            "focus_missed": item.focus_missed,
+            "soft_all_over": item.soft_all_over,
         }
 
     return {"lenses": [group(g) for g in result.lenses], "bodies": [group(g) for g in result.bodies]}
