@@ -93,3 +93,15 @@ def test_grid_positions_and_sharpest_region():
     assert measurement.regions_total == 24 and len(measurement.grid) == 4 and len(measurement.grid[0]) == 6
     assert measurement.best_x < 1 / 3 and measurement.best_y < 1 / 3
     assert measurement.best_blur_px < measurement.median_blur_px
+
+
+def test_the_estimator_is_pure():
+    """Measuring a picture loads no database, terminal, picture or metadata library."""
+    import subprocess
+    import sys
+
+    code = ("import sys, numpy as np; from sharpzone.measure.defocus import measure_blur; "
+            "measure_blur(np.zeros((40, 40))); "
+            "print(','.join(m for m in ('sqlalchemy', 'pandas', 'rich', 'PIL', 'exiv2', 'typer') if m in sys.modules))")
+    loaded = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert loaded == ""

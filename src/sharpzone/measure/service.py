@@ -128,13 +128,20 @@ def _results(tasks: list[_Task], jobs: int) -> Iterator[tuple[int, BlurMeasureme
     _disk_table(REBLUR_SIGMA_PX)  # made once here; forked workers inherit it
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
-    pool = context.Pool(processes=jobs)
+    pool = context.Pool(processes=jobs, initializer=_ignore_interrupts)
     try:
         yield from pool.imap_unordered(_measure_task, tasks, chunksize=4)
         pool.close()
     finally:
         pool.terminate()
         pool.join()
+
+
+def _ignore_interrupts() -> None:
+    """Workers leave Ctrl-C to the parent, which saves what was measured and stops them."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def blur_row(frame_id: int, measurement: BlurMeasurement) -> dict:
