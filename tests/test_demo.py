@@ -20,8 +20,11 @@ def demo_run(tmp_path, monkeypatch):
     return tmp_path / "demo", result
 
 
-def _flags(report):
-    return {item["path"].rsplit("/", 1)[1]: item["flags"] for item in json.loads(report.read_text())}
+def _flags(report, notes=False):
+    """Flags by file name; without the notes (``sharp-at-focus``) unless ``notes``."""
+    items = json.loads(report.read_text())
+    return {item["path"].rsplit("/", 1)[1]: [flag for flag in item["flags"] if notes or flag != "sharp-at-focus"]
+            for item in items}
 
 
 def test_demo_runs_end_to_end_without_touching_the_users_catalogue(demo_run):
@@ -46,6 +49,21 @@ def test_demo_check_names_the_planted_mistakes(demo_run):
     portraits = _flags(folder / "reports" / "check-couple-portraits.json")
     # Focused at infinity in a portrait plan: the camera missed the subject (issue 11 part 4).
     assert portraits["VHB_0204.JPG"] == ["focus-misplaced"]
+
+
+def test_demo_check_names_the_missed_focus_and_the_shaken_frame_from_the_pixels(demo_run):
+    folder, result = demo_run
+    portraits = _flags(folder / "reports" / "check-couple-portraits.json", notes=True)
+    # Neither frame has a focus distance: only the measured blur can tell.
+    assert portraits["VHB_0205.JPG"] == ["distance-unknown", "focus-missed"]
+    assert portraits["VHB_0206.JPG"] == ["distance-unknown", "soft-all-over"]
+    assert all("sharp-at-focus" in portraits[name] for name in ("VHB_0201.JPG", "VHB_0202.JPG", "VHB_0203.JPG"))
+    items = {item["path"].rsplit("/", 1)[1]: item for item in
+             json.loads((folder / "reports" / "check-couple-portraits.json").read_text())}
+    shaken = next(r["text"] for r in items["VHB_0206.JPG"]["remedies"] if r["flag"] == "soft-all-over")
+    assert "1/15 s is slower than the hand-holding rule's 1/85 s" in shaken
+    assert items["VHB_0205.JPG"]["blur"]["focus_blur_coc"] > 5
+    assert "Measured the blur of 6 frames" in result.stdout
 
 
 def test_demo_sheet_carries_the_same_numbers_as_dof(demo_run):

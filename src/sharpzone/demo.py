@@ -1,8 +1,9 @@
 """``sharpzone demo``: an invented wedding shoot run end to end in a folder of its own.
 
 It writes demo image files with EXIF (Pillow), a catalogue inside the demo folder (never the
-user's own), the body, lenses and shoot plans; then ingests the cards, checks every shoot
-and writes sharp-zone sheets. The scenario lives in ``seed_data/demo_scenario.toml``.
+user's own), the body, lenses and shoot plans; then ingests the cards, measures every
+frame's blur from its pixels, checks every shoot and writes sharp-zone sheets. The pictures
+are procedural scenes (``demo_scenes``). The scenario lives in ``seed_data/demo_scenario.toml``.
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ from sharpzone.units import parse_distance
 if TYPE_CHECKING:
     from sharpzone.analysis.frames import CheckResult
     from sharpzone.ingest.pipeline import IngestSummary
+    from sharpzone.measure.service import MeasureSummary
 
 MARKER = ".sharpzone-demo"
 DEFAULT_FOLDER = "sharpzone-demo"
@@ -33,7 +35,7 @@ SHEETS = (("Altamira 24-70/2.8", ("pdf", "html", "csv", "md")), ("Altamira 85/1.
 _MAKE, _MODEL, _EXIF_IFD = 0x010F, 0x0110, 0x8769
 _EXPOSURE, _F_NUMBER, _ISO, _DATETIME_ORIGINAL, _OFFSET_ORIGINAL = 0x829A, 0x829D, 0x8827, 0x9003, 0x9011
 _SUBJECT_DISTANCE, _FOCAL_LENGTH, _PIXEL_X, _PIXEL_Y = 0x9206, 0x920A, 0xA002, 0xA003
-_FOCAL_35MM, _LENS_SPEC, _LENS_MODEL = 0xA405, 0xA432, 0xA434
+_FOCAL_35MM, _LENS_SPEC, _LENS_MODEL, _SUBJECT_AREA = 0xA405, 0xA432, 0xA434, 0x9214
 # SubjectDistance numerator 0xFFFFFFFF means infinity (EXIF 2.3, tag 0x9206).
 _INFINITY_NUMERATOR = 0xFFFFFFFF
 
@@ -44,6 +46,7 @@ class DemoShoot:
     ingest: IngestSummary
     check: CheckResult
     report_path: Path
+    measure: MeasureSummary | None = None
 
 
 @dataclass
@@ -92,12 +95,11 @@ def _demo_jpeg(scenario: dict, lens: dict, frame: list, index: int) -> bytes:
     """A small JPEG with the EXIF a camera would write for this frame."""
     from PIL import Image, ImageDraw
 
-    file_name, _lens_name, focal, f_number, focus, exposure, iso, clock = frame
-    image = Image.new("RGB", (480, 320), (40 + index * 17 % 120, 70 + index * 29 % 100, 110))
-    draw = ImageDraw.Draw(image)
-    draw.rectangle((0, 250, 480, 320), fill=(20, 24, 30))
-    draw.text((12, 262), f"{scenario['title']}", fill=(235, 235, 235))
-    draw.text((12, 284), f"{file_name}  {focal} mm  f/{f_number:g}  {focus or 'no distance'}", fill=(200, 200, 200))
+    from sharpzone.demo_scenes import SUBJECT, render_scene
+
+    file_name, _lens_name, focal, f_number, focus, exposure, iso, clock = frame[:8]
+    scene = frame[8] if len(frame) > 8 else "sharp"
+    image = Image.fromarray(render_scene(scene, seed=index))
     exif = Image.Exif()
     exif[_MAKE] = scenario["body"]["make"]
     exif[_MODEL] = scenario["body"]["model"]
@@ -114,6 +116,12 @@ def _demo_jpeg(scenario: dict, lens: dict, frame: list, index: int) -> bytes:
     ifd[_FOCAL_35MM] = int(focal)  # the 36 × 24 mm body: no crop
     ifd[_PIXEL_X], ifd[_PIXEL_Y] = scenario["body"]["pixels"]
     ifd[_LENS_MODEL] = lens["exif_name"]
+    # Where the camera focused: the subject's box as SubjectArea (centre x, y, width, height
+    # in pixels of the main image, EXIF 2.3 tag 0x9214). The demo's JPEGs are small copies of
+    # a 6000 × 4000 frame, so the box is given in the frame's own pixels, as a camera would.
+    main_width, main_height = scenario["body"]["pixels"]
+    ifd[_SUBJECT_AREA] = tuple(int(round(v * size)) for v, size in
+                               zip(SUBJECT, (main_width, main_height, main_width, main_height)))
     low, high = lens["focal"]
     wide, tele = lens["aperture"]
     ifd[_LENS_SPEC] = (_rational(low, 1), _rational(high, 1), _rational(wide, 10), _rational(tele, 10))
@@ -161,7 +169,7 @@ def _write_cards(scenario: dict, folder: Path) -> None:
             index += 1
         for damaged in shoot.get("damaged", []):
             whole = _demo_jpeg(scenario, lenses[shoot["frames"][0][1]], shoot["frames"][0], index)
-            (card / damaged).write_bytes(whole[: len(whole) // 40])
+            (card / damaged).write_bytes(whole[:200])  # cut inside the EXIF block
     lines = ["file,distance"] + [f"{name},{distance}" for name, distance in scenario.get("distances", {}).items()]
     (folder / "distances.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
 
@@ -174,6 +182,7 @@ def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> De
     from sharpzone.catalog.engine import open_catalog
     from sharpzone.catalog.location import sqlite_url
     from sharpzone.ingest.pipeline import ingest_paths
+    from sharpzone.measure.service import measure_frames
     from sharpzone.report.frames_render import check_json, rows_json
     from sharpzone.report.jsonout import dumps
     from sharpzone.report.sheet_files import write_sheet
@@ -192,11 +201,12 @@ def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> De
         for shoot in scenario["shoot"]:
             summary = ingest_paths(catalog, [folder / "cards" / shoot["folder"]], shoot=shoot["name"],
                                    distances_csv=folder / "distances.csv", jobs=1, progress=progress)
+            measured = measure_frames(catalog, shoot=shoot["name"], jobs=1, progress=progress)
             with catalog.session_scope() as session:
                 checked = check_shoot(session, FrameFilter(shoot=shoot["name"]))
             report = folder / "reports" / f"check-{shoot['folder']}.json"
             report.write_text(dumps(rows_json(checked.frames, check_json)) + "\n", encoding="utf-8")
-            result.shoots.append(DemoShoot(shoot["name"], summary, checked, report))
+            result.shoots.append(DemoShoot(shoot["name"], summary, checked, report, measured))
         with catalog.session_scope() as session:
             for lens_name, forms in SHEETS:
                 sheet = sheet_from_catalog(session, lens_name, body=scenario["body"]["name"])

@@ -44,6 +44,11 @@ Each verdict's kind (``FLAG_KINDS``) says what it does to the frame's ``outcome`
 flags the frame, ``uncertain`` makes it uncertain, ``unjudged`` leaves it not judged, and
 ``note`` changes nothing. Every share flagged (``check``, ``stats``) is flagged frames over
 judged frames (passed + flagged + uncertain), from ``flagged_share``.
+
+The blur verdicts measured from the pixels (``analysis.blur_checks.BLUR_FLAGS``) join them:
+``focus-missed`` and ``soft-all-over`` flag a frame; ``sharp-at-focus`` is good news, and on a
+frame the optics could not judge (no distance, say) it makes the frame passed; a frame
+``not-measurable`` is left as the optics judged it.
 """
 
 from __future__ import annotations
@@ -53,6 +58,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from sharpzone.analysis.blur_checks import BLUR_FLAGS, blur_flags
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.dof import sharp_zone
 from sharpzone.optics.planning import (
@@ -72,13 +78,14 @@ if TYPE_CHECKING:
 FLAGS = (
     "distance-unknown", "settings-unknown", "no-requirement", "too-wide-open", "focus-misplaced",
     "out-of-reach", "past-diffraction", "outside-plan", "distance-uncertain",
-)
+) + BLUR_FLAGS
 # What each verdict does to a frame's outcome (see the module doc). A new verdict adds its
 # code to FLAGS and its kind here.
 FLAG_KINDS = {
     "distance-unknown": "unjudged", "settings-unknown": "unjudged", "no-requirement": "unjudged",
     "too-wide-open": "missed", "focus-misplaced": "missed", "out-of-reach": "missed",
     "past-diffraction": "missed", "outside-plan": "missed", "distance-uncertain": "uncertain",
+    "focus-missed": "missed", "soft-all-over": "missed", "sharp-at-focus": "sharp", "not-measurable": "note",
 }
 OUTCOMES = ("passed", "flagged", "uncertain", "unjudged")
 # Remedy codes in the ``remedy`` column: what the words for a flagged or uncertain frame say.
@@ -172,7 +179,9 @@ def outcomes_from_flags(flag_matrix: np.ndarray, codes: tuple[str, ...]) -> np.n
         columns = [i for i, code in enumerate(codes) if FLAG_KINDS.get(code, "missed") == kind]
         return flag_matrix[:, columns].any(axis=1) if columns else np.zeros(len(flag_matrix), dtype=bool)
 
-    return np.select([any_of("missed"), any_of("uncertain"), any_of("unjudged")],
+    # Pixels that show the focus point sharp pass a frame the optics could not judge.
+    unjudged = any_of("unjudged") & ~any_of("sharp")
+    return np.select([any_of("missed"), any_of("uncertain"), unjudged],
                      ["flagged", "uncertain", "unjudged"], default="passed").astype(object)
 
 
@@ -287,8 +296,9 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
         "outside-plan": outside_plan,
         "distance-uncertain": uncertain,
     }
-    # Further verdicts (e.g. from measured blur) merge their boolean columns here: add the
-    # code to FLAGS and FLAG_KINDS and an entry to ``flag_columns``.
+    # Further verdicts merge their boolean columns here: add the code to FLAGS and FLAG_KINDS
+    # and an entry to ``flag_columns``.
+    flag_columns.update(blur_flags(result))  # the blur measured from the pixels, if any
     _set_flags(result, flag_columns)
     result["focus_nearest_mm"] = focus_nearest
     result["focus_farthest_mm"] = focus_farthest

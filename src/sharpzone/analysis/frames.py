@@ -7,6 +7,7 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
+from sharpzone.analysis.blur_checks import join_blur
 from sharpzone.analysis.checks import FLAGS, Requirement, check_frames, flagged_share
 from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
@@ -94,6 +95,7 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame = pd.DataFrame({name: pd.Series(values, dtype=object) for name, values in zip(names, columns)})
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
     frame = _join_small_tables(session, frame)
+    frame = join_blur(session, frame)
     numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm", "format_height_mm",
                "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",

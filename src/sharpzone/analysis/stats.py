@@ -33,6 +33,10 @@ class GroupStats:
     median_focus_mm: float | None
     focus_quartiles_mm: tuple[float, float] | None
     unknown_focus: int
+    # Frames whose blur was measured, and how many of them missed focus or were soft all over.
+    blur_measured: int = 0
+    focus_missed: int = 0
+    soft_all_over: int = 0
 
 
 @dataclass(frozen=True)
@@ -58,6 +62,9 @@ def _group_stats(kind: str, name: str, rows) -> GroupStats:
         median_focus_mm=float(np.median(finite)) if len(finite) else None,
         focus_quartiles_mm=(float(np.percentile(finite, 25)), float(np.percentile(finite, 75))) if len(finite) else None,
         unknown_focus=int(np.isnan(focus).sum()),
+        blur_measured=int(rows["blur_analysed_long_px"].notna().sum()) if "blur_analysed_long_px" in rows else 0,
+        focus_missed=int(rows["flags"].map(lambda flags: "focus-missed" in flags).sum()),
+        soft_all_over=int(rows["flags"].map(lambda flags: "soft-all-over" in flags).sum()),
     )
 
 

@@ -51,12 +51,14 @@ def _register_commands() -> None:
         demo_commands,
         frames_commands,
         ingest_commands,
+        measure_commands,
         optics_commands,
         sheet_commands,
     )
 
     optics_commands.register(app)
     ingest_commands.register(app)
+    measure_commands.register(app)
     frames_commands.register(app)
     catalog_commands.register(app)
     sheet_commands.register(app)

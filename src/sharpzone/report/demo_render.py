@@ -22,6 +22,8 @@ def render_demo(result: DemoResult, *, imperial: bool = False) -> None:
                       + (f"; {len(summary.failed)} could not be read: "
                          + "; ".join(f"{path.rsplit('/', 1)[-1]} ({reason})" for path, reason in summary.failed)
                          if summary.failed else ""))
+        if shoot.measure is not None:
+            console.print(f"Measured the blur of {shoot.measure.measured} frames from their pixels (an estimate).")
         render_check(shoot.check, imperial=imperial, console=console)
     console.print()
     console.rule("Where everything is", style="dim")

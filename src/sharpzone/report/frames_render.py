@@ -11,10 +11,11 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
+from sharpzone.analysis.blur_checks import BLUR_FLAGS, count_problems
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import stdout_console
 from sharpzone.report.jsonout import metres
-from sharpzone.report.verdicts import describe_flag
+from sharpzone.report.verdicts import blur_size, describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm
 
 if TYPE_CHECKING:
@@ -34,6 +35,10 @@ FLAG_STYLES = {
     "settings-unknown": "dim",
     "no-requirement": "dim",
     "distance-uncertain": "yellow",
+    "focus-missed": "bold bright_red",
+    "soft-all-over": "bold dark_orange",
+    "sharp-at-focus": "green",
+    "not-measurable": "dim italic",
 }
 PASSED_STYLE = "green"
 
@@ -85,8 +90,42 @@ def frame_json(row) -> dict[str, Any]:
         "magnification": _number(row["magnification"]),
         "effective_f_number": _number(row["effective_f_number"]),
         "airy_disk_mm": _number(row["airy_disk_mm"]),
+        "blur": blur_json(row),
         "flags": list(row["flags"]),
     }
+
+
+def blur_json(row) -> dict[str, Any] | None:
+    """The measured blur of a frame (``None`` if never measured): disk diameters in pixels
+    of the analysed preview, in mm on the sensor and as multiples of the CoC."""
+    analysed = _number(row.get("blur_analysed_long_px"))
+    if analysed is None:
+        return None
+    data: dict[str, Any] = {
+        "method": row.get("blur_method"),
+        "method_version": int(_number(row.get("blur_method_version")) or 0),
+        "analysed_long_px": int(analysed),
+    }
+    data.update({key: _number(row.get(column)) for key, column in _BLUR_NUMBERS.items()})
+    data.update({
+        "focus_assumed_centre": bool(row.get("blur_focus_assumed")),
+        "best_where": row.get("blur_where"),
+        "regions_measured": int(_number(row.get("blur_regions_measured")) or 0),
+        "regions_total": int(_number(row.get("blur_regions_total")) or 0),
+        "note": "an estimate from a small preview; you decide what to reject",
+    })
+    return data
+
+
+# JSON key → frames column of the blur figures (px of the analysed preview, mm on the
+# sensor, multiples of the CoC, positions as fractions of the picture).
+_BLUR_NUMBERS = {
+    "focus_blur_px": "blur_focus_px", "focus_blur_mm": "blur_focus_mm", "focus_blur_coc": "blur_focus_coc",
+    "focus_x": "blur_focus_x", "focus_y": "blur_focus_y", "focus_edges": "blur_focus_edges",
+    "best_blur_px": "blur_best_px", "best_blur_mm": "blur_best_mm", "best_blur_coc": "blur_best_coc",
+    "best_x": "blur_best_x", "best_y": "blur_best_y", "median_blur_px": "blur_median_px",
+    "median_blur_mm": "blur_median_mm", "limit_px": "blur_limit_px",
+}
 
 
 def check_json(row) -> dict[str, Any]:
@@ -141,9 +180,10 @@ def _short_path(path: str) -> str:
 
 
 def _flags_text(flags: list[str], separator: str = " ") -> str:
-    if not flags:
-        return f"[{PASSED_STYLE}]passed[/]"
-    return separator.join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags)
+    shown = [f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags]
+    if not count_problems(flags):
+        shown.insert(0, f"[{PASSED_STYLE}]passed[/]")
+    return separator.join(shown)
 
 
 def _micrometres(value_mm: float | None) -> str:
@@ -165,6 +205,9 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
                ("Airy disk", "right")]
     if closeup:
         headers.append(("Working f", "right"))
+    blurred = any(_number(row.get("blur_analysed_long_px")) is not None for row in records)
+    if blurred:
+        headers.append(("Blur at focus", "right"))
     for header, justify in (*headers, ("Verdict", "left")):
         table.add_column(header, justify=justify, no_wrap=header != "Lens", min_width=12 if header == "Lens" else None)
     for row in records:
@@ -182,9 +225,18 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
             magnification = _number(row["magnification"]) or 0
             cells.append(format_f_number(_number(row["effective_f_number"]))
                          if magnification >= CLOSEUP_MAGNIFICATION else "")
+        if blurred:
+            cells.append(blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc"))))
         table.add_row(*cells, _flags_text(row["flags"], "\n"))
     console.print(table)
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
+    if blurred:
+        console.print(BLUR_CAUTION, style="dim")
+
+
+# Shown wherever measured blur is: what it is and what it is not.
+BLUR_CAUTION = ("Blur is an estimate from a small preview (edge re-blur method of Zhuo & Sim, 2011); "
+                "you decide what to reject — nothing is deleted or written to an image file.")
 
 
 def _focus_text(row, imperial: bool) -> str:
@@ -280,6 +332,8 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
                              for flag in row["flags"])
         detail.add_row(_short_path(row["path"]), setting, zone, remedies)
     console.print(detail)
+    if any(flag in BLUR_FLAGS for flags in flagged["flags"] for flag in flags):
+        console.print(BLUR_CAUTION, style="dim")
 
 
 def render_stats(result: StatsResult, *, imperial: bool = False, console: Console | None = None) -> None:
@@ -290,7 +344,9 @@ def render_stats(result: StatsResult, *, imperial: bool = False, console: Consol
         return
     for title, groups in (("Lenses", result.lenses), ("Bodies", result.bodies)):
         table = Table(title=title, title_justify="left", show_lines=True)
-        for header in ("Name", "Frames", "f-numbers used", "Flagged", "Typical focus"):
+        blur = any(group.blur_measured for group in groups)
+        headers = ("Name", "Frames", "f-numbers used", "Flagged", "Typical focus") + (("Blur measured",) if blur else ())
+        for header in headers:
             table.add_column(header, justify="right" if header in ("Frames", "Flagged") else "left")
         for group in groups:
             most = max((count for _, count in group.f_number_counts), default=1)
@@ -305,7 +361,11 @@ def render_stats(result: StatsResult, *, imperial: bool = False, console: Consol
                          f"{format_distance(low, imperial=imperial)}–{format_distance(high, imperial=imperial)})")
             if group.unknown_focus:
                 focus += f"\n{group.unknown_focus} without a distance"
-            table.add_row(group.name, str(group.frames), bars, flagged, focus)
+            cells = [group.name, str(group.frames), bars, flagged, focus]
+            if blur:
+                cells.append(f"{group.blur_measured} frames\n{group.focus_missed} focus missed\n"
+                             f"{group.soft_all_over} soft all over")
+            table.add_row(*cells)
         console.print(table)
 
 
@@ -318,6 +378,9 @@ def stats_json(result: StatsResult) -> dict[str, Any]:
             "median_focus_m": metres(item.median_focus_mm),
             "focus_quartiles_m": [metres(v) for v in item.focus_quartiles_mm] if item.focus_quartiles_mm else None,
             "unknown_focus": item.unknown_focus,
+            "blur_measured": item.blur_measured,
+            "focus_missed": item.focus_missed,
+            "soft_all_over": item.soft_all_over,
         }
 
     return {"lenses": [group(g) for g in result.lenses], "bodies": [group(g) for g in result.bodies]}

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from sharpzone.analysis.blur_checks import PREVIEW_FLOOR_PX
 from sharpzone.units import format_distance, format_f_number
 
 
@@ -71,6 +72,8 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
         recorded_hint = (f" (the camera noted only a '{hint}' subject)" if isinstance(hint, str) and hint else "")
         return (f"focus distance unknown{recorded_hint} — cannot judge; give it with --distances FILE.csv at "
                 "ingest or a sidecar")
+    if flag in BLUR_WORDS:
+        return BLUR_WORDS[flag](row, dist)
     if flag == "settings-unknown":
         return "focal length, f-number or sensor format unknown — cannot judge; confirm the body and lens"
     if flag == "no-requirement":
@@ -107,3 +110,85 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
     if flag == "outside-plan":
         return f"subject at {dist(row['focus_mm'])} lies outside the zone the plan's settings give"
     raise ValueError(f"unknown flag {flag!r}")
+
+
+# The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the
+# CoC, measured from a small preview, so always said as an estimate.
+
+def blur_size(value_mm, coc_multiple) -> str:
+    """A blur on the sensor in µm with its multiple of the CoC: "41 µm (1.4× CoC)"."""
+    if value_mm is None or value_mm != value_mm:
+        return "—"
+    text = f"{value_mm * 1000:.0f} µm"
+    if coc_multiple is not None and coc_multiple == coc_multiple:
+        text += f" ({coc_multiple:.1f}× CoC)"
+    return text
+
+
+def _measured(row, which: str) -> str:
+    """The blur at the focus point or the sharpest region, or "under X µm" when the preview
+    cannot resolve finer (which = "focus" or "best")."""
+    px, floor_mm = row.get(f"blur_{which}_px"), row.get("blur_floor_mm")
+    if px is not None and px == px and floor_mm is not None and floor_mm == floor_mm and px <= PREVIEW_FLOOR_PX:
+        return f"under {floor_mm * 1000:.0f} µm, the finest this preview shows"
+    return blur_size(row.get(f"blur_{which}_mm"), row.get(f"blur_{which}_coc"))
+
+
+def format_exposure(seconds) -> str:
+    """``1/250 s``, ``1/8 s``, ``2 s``."""
+    if seconds is None or seconds != seconds or seconds <= 0:
+        return "—"
+    if seconds < 0.4:
+        return f"1/{1 / seconds:.0f} s"
+    return f"{seconds:g} s"
+
+
+def _focus_point(row) -> str:
+    if row.get("blur_focus_assumed"):
+        return "the centre (no focus point recorded)"
+    return "the focus point"
+
+
+def _disagreement(row, dist) -> str:
+    focus = row.get("focus_mm")
+    if not row.get("blur_disagrees") or focus is None or focus != focus:
+        return ""
+    return (f"; the recorded focus distance {dist(focus)} says the lens was focused on the subject, the pixels "
+            "disagree: the camera focused at that distance on something else, or the subject was not there")
+
+
+def _focus_missed(row, dist) -> str:
+    return (f"{blur_size(row.get('blur_focus_mm'), row.get('blur_focus_coc'))} of blur at "
+            f"{_focus_point(row)} while the {row.get('blur_where')} is sharp "
+            f"({_measured(row, 'best')}) — the focus landed there"
+            f"{_disagreement(row, dist)}; an estimate from a small preview, you decide what to reject")
+
+
+def _soft_all_over(row, dist) -> str:
+    text = (f"even the sharpest region ({row.get('blur_where')}) has "
+            f"{blur_size(row.get('blur_best_mm'), row.get('blur_best_coc'))} of blur — shake, subject motion or a miss")
+    exposure, limit = row.get("exposure_s"), row.get("handhold_limit_s")
+    if exposure is not None and exposure == exposure and limit is not None and limit == limit:
+        rule = f"the hand-holding rule's {format_exposure(limit)} (1/focal length in 35 mm terms; common practice)"
+        if exposure > limit * 1.05:
+            text += f"; {format_exposure(exposure)} is slower than {rule}: shake is likely, use a faster shutter or support"
+        else:
+            text += f"; {format_exposure(exposure)} is within {rule}: more likely motion or a missed focus"
+    return text + _disagreement(row, dist) + "; an estimate from a small preview, you decide what to reject"
+
+
+def _sharp_at_focus(row, dist) -> str:
+    return f"sharp at {_focus_point(row)}: blur {_measured(row, 'focus')}"
+
+
+def _not_measurable(row, dist) -> str:
+    return (f"blur not measurable at {_focus_point(row)}: too few edges (a clear sky, a plain wall, deep shadow) "
+            "— look at the frame yourself")
+
+
+BLUR_WORDS = {
+    "focus-missed": _focus_missed,
+    "soft-all-over": _soft_all_over,
+    "sharp-at-focus": _sharp_at_focus,
+    "not-measurable": _not_measurable,
+}

@@ -1,0 +1,107 @@
+"""The estimator on ideal edges, where Zhuo and Sim's derivation gives the answer exactly
+(S. Zhuo and T. Sim, "Defocus map estimation from a single image", Pattern Recognition 44
+(2011) 1852–1858, section 2): a step edge blurred by a Gaussian of σ, re-blurred by σ0, has a
+gradient ratio R = √(σ² + σ0²)/σ at the edge, so σ = σ0/√(R² − 1) whatever σ0 is."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy.ndimage import gaussian_filter
+
+from sharpzone.measure.defocus import (
+    MIN_EDGES, REBLUR_SIGMA_PX, disk_diameter_px, edge_sigmas, grey_levels, measure_blur, noise_level,
+)
+
+
+def _gaussian_step(sigma: float, size: int = 96) -> np.ndarray:
+    """A vertical step of 200 grey levels blurred by a Gaussian of ``sigma`` px, sampled by
+    pixel area (the step's profile is the normal CDF; a pixel averages it over its width)."""
+    edges = np.arange(size + 1) - size / 2
+    cdf = np.array([0.5 * (1 + math.erf(x / (sigma * math.sqrt(2)))) for x in edges])
+    # The mean of the CDF over each pixel from its integral (x·Φ + σ²·φ).
+    pdf = np.exp(-edges ** 2 / (2 * sigma ** 2)) / (sigma * math.sqrt(2 * math.pi))
+    integral = edges * cdf + sigma ** 2 * pdf
+    profile = 28 + 200 * np.diff(integral)
+    return np.repeat(profile[None, :], 24, axis=0).astype(np.float32)
+
+
+def _sigma_at_the_edge(picture: np.ndarray, reblur_sigma: float) -> float:
+    sigmas = edge_sigmas(picture, reblur_sigma)
+    centre = np.abs(sigmas.cols - picture.shape[1] / 2) <= 1
+    return float(np.median(sigmas.diameter_px[centre]))
+
+
+@pytest.mark.parametrize("sigma", [1.5, 2.0, 3.0, 4.0, 6.0])
+def test_gaussian_edge_gives_its_sigma_back(sigma):
+    # The one-sided difference adds about half a pixel's spread of its own (a pixel box has
+    # a variance of 1/12 px², the difference another): compare in quadrature.
+    read = _sigma_at_the_edge(_gaussian_step(sigma), REBLUR_SIGMA_PX)
+    assert read == pytest.approx(sigma, rel=0.12)
+
+
+@pytest.mark.parametrize("reblur", [1.0, 1.5, 2.0, 3.0])
+def test_the_answer_does_not_depend_on_the_reblur_sigma(reblur):
+    # σ0 = 1 is the paper's own choice (from memory); the derivation holds for any σ0.
+    assert _sigma_at_the_edge(_gaussian_step(3.0), reblur) == pytest.approx(
+        _sigma_at_the_edge(_gaussian_step(3.0), 1.0), rel=0.08)
+
+
+def test_disk_conversion_is_monotonic_and_reads_large_disks_near_half_their_diameter():
+    sigmas = np.array([0.8, 1.0, 1.5, 2.0, 3.0, 5.0, 8.0])
+    diameters = disk_diameter_px(sigmas)
+    assert (np.diff(diameters) > 0).all()
+    # For a disk much wider than σ0 the ratio reads the curvature of the edge's peak, a
+    # semicircle of radius r: σ ≈ r = d/2 (our derivation, see measure/defocus.py).
+    assert diameters[-1] == pytest.approx(2 * 8.0, rel=0.1)
+    assert np.isinf(disk_diameter_px(np.array([np.inf]))[0])
+
+
+def test_plain_picture_is_not_measurable():
+    flat = np.full((200, 300), 120.0) + np.random.default_rng(3).normal(0, 1.5, (200, 300))
+    measurement = measure_blur(flat, focus_point=(0.5, 0.5, 0.0, 0.0))
+    assert measurement.regions_measured == 0
+    assert measurement.focus_blur_px is None and measurement.best_blur_px is None
+    assert measurement.focus_edges is not None and measurement.focus_edges < MIN_EDGES
+
+
+def test_noise_level_of_white_noise():
+    noise = np.random.default_rng(5).normal(100, 4.0, (300, 300))
+    assert noise_level(noise) == pytest.approx(4.0, rel=0.05)
+
+
+def test_grey_levels_use_bt601_weights():
+    # ITU-R BT.601 luma: 0.299 R + 0.587 G + 0.114 B.
+    rgb = np.zeros((1, 3, 3), dtype=np.uint8)
+    rgb[0, 0, 0] = rgb[0, 1, 1] = rgb[0, 2, 2] = 200
+    assert grey_levels(rgb)[0].tolist() == pytest.approx([59.8, 117.4, 22.8], abs=1e-3)
+
+
+def test_too_small_a_picture_is_refused():
+    with pytest.raises(ValueError):
+        measure_blur(np.zeros((5, 5)))
+
+
+def test_grid_positions_and_sharpest_region():
+    rng = np.random.default_rng(11)
+    picture = np.kron(rng.integers(0, 2, (24, 36)) * 160.0 + 40, np.ones((10, 10)))  # 240 × 360 checks
+    blurred = gaussian_filter(picture, 3.0)
+    blurred[:80, :120] = picture[:80, :120]  # the upper-left sixth stays sharp
+    measurement = measure_blur(blurred)
+    assert measurement.regions_total == 24 and len(measurement.grid) == 4 and len(measurement.grid[0]) == 6
+    assert measurement.best_x < 1 / 3 and measurement.best_y < 1 / 3
+    assert measurement.best_blur_px < measurement.median_blur_px
+
+
+def test_the_estimator_is_pure():
+    """Measuring a picture loads no database, terminal, picture or metadata library."""
+    import subprocess
+    import sys
+
+    code = ("import sys, numpy as np; from sharpzone.measure.defocus import measure_blur; "
+            "measure_blur(np.zeros((40, 40))); "
+            "print(','.join(m for m in ('sqlalchemy', 'pandas', 'rich', 'PIL', 'exiv2', 'typer') if m in sys.modules))")
+    loaded = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert loaded == ""
