@@ -31,7 +31,8 @@ with m_i at or beyond the focus whose far limit reaches the far target, a logari
 walk. Measured from the sensor the lens moves back by f (m_i − m_{i+1}) between frames,
 which only adds overlap (the next near limit comes nearer than the previous far limit), so
 the plan never leaves a gap; the first frame's near limit and the last frame's far limit
-are exact.
+are exact. Near the close focus that costs frames: up to about 15 % more than the tightest
+frame-by-frame plan at 0.2–0.3× (tests/optics/test_stack_closed_form.py), none far off.
 """
 
 from __future__ import annotations

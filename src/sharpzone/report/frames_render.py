@@ -248,7 +248,8 @@ def _focus_text(row, imperial: bool) -> str:
         return text
     low, high = format_distance(nearest, imperial=imperial), format_distance(farthest, imperial=imperial)
     unit = text.rsplit(" ", 1)[-1] if " " in text else ""
-    if unit and low.endswith(" " + unit) and high.endswith(" " + unit):
+    # "2.90 m (2.80–3.10)": a metric unit once; feet and inches stay whole.
+    if unit in ("mm", "cm", "m", "km") and low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low[: -len(unit) - 1], high[: -len(unit) - 1]
     return f"{text} ({low}–{high})"
 
