@@ -105,3 +105,16 @@ def test_the_estimator_is_pure():
             "print(','.join(m for m in ('sqlalchemy', 'pandas', 'rich', 'PIL', 'exiv2', 'typer') if m in sys.modules))")
     loaded = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
     assert loaded == ""
+
+
+def test_a_busy_picture_sampled_for_speed_reads_as_its_unsampled_crop():
+    from sharpzone.measure.defocus import MAX_EDGE_CANDIDATES, edge_blur, region_blur
+
+    rng = np.random.default_rng(2)
+    picture = gaussian_filter(np.kron(rng.integers(0, 2, (107, 160)) * 150.0 + 50, np.ones((10, 10))), 1.5)
+    whole = edge_blur(picture)
+    crop = edge_blur(picture[:300, :300])
+    assert len(whole.rows) < MAX_EDGE_CANDIDATES < int((np.abs(np.diff(picture, axis=1)) >= 4).sum())
+    read_whole, _ = region_blur(whole, 0, whole.height, 0, whole.width)
+    read_crop, _ = region_blur(crop, 0, crop.height, 0, crop.width)
+    assert read_whole == pytest.approx(read_crop, rel=0.1)

@@ -51,6 +51,9 @@ MIN_EDGE_STEP = 6.0
 # gradient (grey levels per pixel) after the re-blur.
 MIN_REBLURRED_STEP = 3.0
 NOISE_STEPS = 6.0
+# At most about this many candidate edge pixels are examined in one picture (a sample of
+# them beyond): a 24-region grid needs a few thousand per region at most.
+MAX_EDGE_CANDIDATES = 100_000
 # A region needs this many edge pixels to be measured; fewer is "not measurable".
 MIN_EDGES = 24
 # The grid over the picture (cells along the long and the short side).
@@ -117,26 +120,42 @@ def _gradient_squared(image: np.ndarray) -> np.ndarray:
     return out
 
 
-def _edge_pixels(image: np.ndarray, candidates: np.ndarray) -> np.ndarray:
-    """Local maxima of the central-difference gradient along its direction, among the
-    ``candidates`` (a boolean mask, cleared at the border here); returns the flat indices."""
-    height, width = image.shape
-    candidates[:_BORDER] = candidates[-_BORDER:] = False
-    candidates[:, :_BORDER] = candidates[:, -_BORDER:] = False
-    index = np.flatnonzero(candidates)
-    cx = np.zeros_like(image)
-    cy = np.zeros_like(image)
-    np.subtract(image[:, 2:], image[:, :-2], out=cx[:, 1:-1])
-    np.subtract(image[2:], image[:-2], out=cy[1:-1])
-    magnitude = (cx * cx + cy * cy).ravel()
-    gx, gy = cx.ravel()[index], cy.ravel()[index]
+def _candidates(image: np.ndarray, step: float) -> np.ndarray:
+    """Flat indices (away from the border) of every pixel whose ``_gradient_squared`` may
+    reach ``step``²: one of its one-sided differences is at least ``step``/√2 (a superset,
+    found with a few cheap passes instead of the whole gradient)."""
+    least = np.float32(step / np.sqrt(2.0))
+    across = np.abs(np.diff(image, axis=1)) >= least
+    down = np.abs(np.diff(image, axis=0)) >= least
+    mask = np.zeros(image.shape, dtype=bool)
+    mask[:, 1:] |= across
+    mask[:, :-1] |= across
+    mask[1:] |= down
+    mask[:-1] |= down
+    mask[:_BORDER] = mask[-_BORDER:] = False
+    mask[:, :_BORDER] = mask[:, -_BORDER:] = False
+    return np.flatnonzero(mask)
+
+
+def _edge_pixels(image: np.ndarray, index: np.ndarray) -> np.ndarray:
+    """Those of the flat ``index`` that are local maxima of the central-difference gradient
+    along its direction."""
+    flat = image.ravel()
+    width = image.shape[1]
+
+    def central(at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        return flat[at + 1] - flat[at - 1], flat[at + width] - flat[at - width]
+
+    gx, gy = central(index)
     ax, ay = np.abs(gx), np.abs(gy)
     # Direction in four bins (0°, 45°, 90°, 135°): step to the neighbour across the edge.
     horizontal = ay < np.float32(0.4142) * ax  # tan 22.5°
     vertical = ay > np.float32(2.4142) * ax  # tan 67.5°
     step = np.where(horizontal, 1, np.where(vertical, width, np.where(gx * gy > 0, width + 1, width - 1)))
-    centre = magnitude[index]
-    keep = (centre >= magnitude[index + step]) & (centre > magnitude[index - step])
+    centre = gx * gx + gy * gy
+    ahead_x, ahead_y = central(index + step)
+    behind_x, behind_y = central(index - step)
+    keep = (centre >= ahead_x * ahead_x + ahead_y * ahead_y) & (centre > behind_x * behind_x + behind_y * behind_y)
     return index[keep]
 
 
@@ -158,16 +177,24 @@ def edge_sigmas(grey: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA_PX) -> E
     grey = np.ascontiguousarray(grey, dtype=np.float32)
     noise = noise_level(grey)
     sharp_noise, reblurred_noise = _noise_power(reblur_sigma_px)
-    sharp = _gradient_squared(grey)
     step = max(MIN_EDGE_STEP, NOISE_STEPS * noise)
-    index = _edge_pixels(grey, sharp >= step * step)
+    index = _candidates(grey, step)
+    sharp_at = _gradient_squared_at(grey, index)
+    index = index[sharp_at >= step * step]
+    if len(index) > MAX_EDGE_CANDIDATES:
+        # A busy picture has far more edge pixels than its region statistics need: keep a
+        # fixed random share (not a stride, which could skip whole columns).
+        keep = np.random.default_rng(len(index)).random(len(index)) < MAX_EDGE_CANDIDATES / len(index)
+        index = index[keep]
+    index = _edge_pixels(grey, index)
+    sharp_at = _gradient_squared_at(grey, index).astype(np.float64)
     reblurred_at = _gradient_squared_at(gaussian_filter(grey, reblur_sigma_px, mode="nearest", truncate=3.0),
                                         index).astype(np.float64)
     # A real edge keeps a gradient through the re-blur; noise mostly does not.
-    index, reblurred_at = (values[reblurred_at >= MIN_REBLURRED_STEP * MIN_REBLURRED_STEP]
-                           for values in (index, reblurred_at))
+    keep_reblurred = reblurred_at >= MIN_REBLURRED_STEP * MIN_REBLURRED_STEP
+    index, reblurred_at = index[keep_reblurred], reblurred_at[keep_reblurred]
     rows, cols = np.divmod(index, grey.shape[1])
-    sharp_at = sharp.ravel()[index].astype(np.float64)
+    sharp_at = sharp_at[keep_reblurred]
     # Noise adds its own power to both gradients (far more to the sharp one): take out what
     # it adds on average, so noise does not pass for sharpness.
     signal = sharp_at - sharp_noise * noise * noise

@@ -33,7 +33,7 @@ def ingest_progress(enabled: bool) -> Iterator:
         tasks: dict[str, Any] = {}
 
         def update(stage: str, done: int, total: int | None) -> None:
-            label = {"scan": "Finding images", "read": "Reading EXIF"}.get(stage, stage)
+            label = {"scan": "Finding images", "read": "Reading EXIF", "measure": "Measuring blur"}.get(stage, stage)
             if stage not in tasks:
                 tasks[stage] = bar.add_task(label, total=total, rate="")
             task = bar.tasks[tasks[stage]]
