@@ -52,6 +52,7 @@ def _register_commands() -> None:
         frames_commands,
         ingest_commands,
         optics_commands,
+        report_commands,
         sheet_commands,
     )
 
@@ -60,6 +61,7 @@ def _register_commands() -> None:
     frames_commands.register(app)
     catalog_commands.register(app)
     sheet_commands.register(app)
+    report_commands.register(app)
     demo_commands.register(app)
 
 
