@@ -113,12 +113,14 @@ class DistanceScale:
         return self.FINITE_SHARE * math.log(value_mm / self.near_mm) / math.log(self.far_mm / self.near_mm)
 
     def ticks_mm(self, imperial: bool = False) -> list[float]:
-        """Round distances within the scale, at least three where it can: 1-2-5 steps (whole
+        """Round distances within the scale, at least four where they fit: 1-2-5 steps (whole
         decades when those would crowd), finer steps for a narrow scale, else even steps."""
         unit = 25.4 if imperial else 1.0  # inches or millimetres
         low, high = self.near_mm / unit, self.far_mm / unit
         if imperial:
-            ladders = [(1, 2, 6, 12, 24, 60, 120, 240, 600, 1200, 2400, 6000, 12000, 24000, 60000)]
+            feet = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000, 5000)
+            fine_feet = (1, 1.5, 2, 3, 4, 5, 7, 10, 15, 20, 30, 50, 70, 100, 150, 200, 300, 500, 1000, 2000, 5000)
+            ladders = [(1, 2, 6, *(12 * f for f in feet)), (1, 2, 3, 6, 9, *(12 * f for f in fine_feet))]
         else:
             ladders = [[m * 10.0 ** e for e in range(-1, 8) for m in mantissas]
                        for mantissas in ((1, 2, 5), (1, 1.5, 2, 3, 5, 7), tuple(range(1, 10)))]
@@ -127,7 +129,7 @@ class DistanceScale:
             if len(inside) > 10:
                 decades = [v for v in inside if math.log10(v).is_integer() or (imperial and v in (12, 120, 1200))]
                 inside = decades if len(decades) >= 3 else inside[::2]
-            if len(inside) >= 3:
+            if len(inside) >= 4 or (len(inside) == 3 and ladder is ladders[-1]):
                 return [v * unit for v in inside]
         step = _nice_above((high - low) / 4)
         first = math.ceil(low / step * (1 - 1e-9))

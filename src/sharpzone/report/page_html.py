@@ -266,7 +266,8 @@ def _frame_html(row: dict, position: int, data: ReportData, grid: str, imperial:
             f'<p class="small">{_text(lens)} · {_text(body)}{_when(row)}</p>'
             f'<ul class="verdicts">{"".join(words)}</ul>{blur}'
             '<p class="marked">✕ marked rejected</p>'
-            '<button class="reject" type="button">Reject (X)</button></div>'
+            '<button class="reject" type="button"><span class="to-reject">Reject (X)</span>'
+            '<span class="to-keep">Keep after all (X)</span></button></div>'
             f'<div class="zone">{_bar(row, data.scale, grid)}<p class="small">{_zone_words(row, imperial)}</p></div>'
             '</article>')
 
@@ -460,7 +461,7 @@ text-align:center;font-size:.8rem;color:var(--soft);padding:.5rem;word-break:bre
 .reject{margin-top:.3rem;font-size:.8rem}
 .marked{display:none;font-weight:600;color:var(--miss);margin:.2rem 0}
 .frame.rejected .marked{display:block}.frame.rejected .pic{opacity:.35}
-.frame.rejected .reject::after{content:" — undo"}
+.to-keep,.frame.rejected .to-reject{display:none}.frame.rejected .to-keep{display:inline}
 .frame.current{box-shadow:inset 4px 0 0 var(--ink);background:#fff}
 .no-js .reject,.no-js .controls{display:none}
 footer{margin-top:2rem;font-size:.8rem;color:var(--soft)}
@@ -473,10 +474,10 @@ html{background:#fff;font-size:8pt}body{max-width:none;padding:0}
 *{-webkit-print-color-adjust:exact;print-color-adjust:exact}
 .summary{gap:1rem;margin:.4rem 0}.legend{border:none;padding:0}
 .group{break-before:auto}.group h2{break-after:avoid;margin-top:.8rem}
-.scale-row{display:block;width:calc((100% - 8mm)/3);padding:0}.scale-row>div{display:none}
-.frames{display:grid;grid-template-columns:repeat(3,1fr);gap:3mm 4mm}
+.scale-row{display:block;width:calc((100% - 9mm)/4);padding:0}.scale-row>div{display:none}
+.frames{display:grid;grid-template-columns:repeat(4,1fr);gap:3mm}
 .frame{display:block;padding:1.5mm;border:.3pt solid #999;break-inside:avoid;box-shadow:none}
-.pic img{max-width:100%;max-height:42mm;margin:0 auto 1mm}.nopic{width:100%;height:30mm}
+.pic img{max-width:100%;max-height:32mm;margin:0 auto 1mm}.nopic{width:100%;height:30mm}
 h3{font-size:8.5pt}.verdicts{font-size:7.5pt}.small{font-size:7pt}
 .frame.rejected .pic{opacity:.35}.frame.current{background:none}
 }
@@ -487,7 +488,8 @@ _SCRIPT = """
 var root=document.documentElement;root.classList.remove('no-js');root.classList.add('js');
 var rows=[].slice.call(document.querySelectorAll('article.frame'));
 var groups=[].slice.call(document.querySelectorAll('section.group'));
-var words=rows.map(function(r){return r.textContent.toLowerCase();});
+var words=rows.map(function(r){return [].map.call(r.querySelectorAll('h3,.setting,.small,.verdicts'),
+ function(e){return e.textContent;}).join(' ').toLowerCase();});
 var form=document.getElementById('filters');form.hidden=false;
 var store='sharpzone-rejected:'+document.body.dataset.page, rejected={}, current=-1;
 function $(id){return document.getElementById(id);}
