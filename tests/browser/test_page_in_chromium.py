@@ -151,3 +151,27 @@ def _wait_for_download(folder, seconds: float = 15.0):
             return done[0]
         time.sleep(0.1)
     raise AssertionError(f"nothing was downloaded into {folder}")
+
+
+def test_it_prints_as_a_contact_sheet(browser_factory, page_file):
+    import base64
+
+    from pypdf import PdfReader
+
+    _, out = page_file
+    driver = browser_factory()
+    driver.get(out.as_uri())
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": "print"})
+    assert not driver.find_element("id", "filters").is_displayed()
+    columns = driver.execute_script(
+        "return getComputedStyle(document.querySelector('.frames')).gridTemplateColumns.split(' ').length;")
+    assert columns == 4
+    bars = [bar for bar in driver.find_elements("css selector", "article.frame svg.bar") if bar.is_displayed()]
+    assert len(bars) == len(EXPECTED)
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": ""})
+    # The printed PDF, read back with pypdf (a reader that is not the browser).
+    pdf = PdfReader(io.BytesIO(base64.b64decode(driver.print_page())))
+    text = "".join(page.extract_text() for page in pdf.pages)
+    assert 1 <= len(pdf.pages) <= 3
+    assert "wide-a.jpg" in text and "Too wide open" in text and "Save rejected list" not in text
+    assert _console_errors(driver) == []

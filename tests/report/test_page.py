@@ -207,25 +207,46 @@ def test_the_distance_scale_is_logarithmic_with_infinity_at_the_end():
 def _crash_on_bad(item):
     from sharpzone.analysis import report_page
 
-    if "bad" in item[0]:
+    name = os.path.basename(item[0])
+    if name.startswith("bad"):
         os._exit(3)  # a decoder dying in native code
+    if name.startswith("stuck"):
+        import time
+
+        time.sleep(3600)  # a decoder caught in a loop
     return report_page._real_thumbnail(item)
 
 
-def test_a_crashing_decoder_costs_only_its_file(tmp_path, monkeypatch):
+def _card_with_one_odd_file(tmp_path, monkeypatch, odd_name: str, count: int) -> list[str]:
+    """``count`` JPEGs, file 3 named ``odd_name``, with the worker replaced by ``_crash_on_bad``."""
     from sharpzone.analysis import report_page
 
     paths = []
-    for number in range(20):
-        path = tmp_path / (f"bad-{number}.jpg" if number == 7 else f"ok-{number}.jpg")
+    for number in range(count):
+        path = tmp_path / (odd_name if number == 3 else f"ok-{number}.jpg")
         path.write_bytes(frame_jpeg(number, "KV-7", "Altamira", 8.0, 3.0))
         paths.append(str(path))
     monkeypatch.setattr(report_page, "_real_thumbnail", report_page._thumbnail, raising=False)
     monkeypatch.setattr(report_page, "_thumbnail", _crash_on_bad)
+    return paths
+
+
+def test_a_crashing_decoder_costs_only_its_file(tmp_path, monkeypatch):
+    paths = _card_with_one_odd_file(tmp_path, monkeypatch, "bad.jpg", 20)
     thumbnails = make_thumbnails(paths, jobs=2)
     assert set(thumbnails) == set(paths)
-    assert thumbnails[paths[7]].problem == "the picture decoder crashed on this file"
-    assert all(thumbnails[p].jpeg for p in paths if p != paths[7])
+    assert thumbnails[paths[3]].problem == "the picture decoder crashed on this file"
+    assert all(thumbnails[p].jpeg for p in paths if p != paths[3])
+
+
+def test_a_stuck_decoder_costs_only_its_file(tmp_path, monkeypatch):
+    from sharpzone.analysis import report_page
+
+    paths = _card_with_one_odd_file(tmp_path, monkeypatch, "stuck.jpg", 18)
+    monkeypatch.setattr(report_page, "STALL_SECONDS", 3.0)  # generous: the machine may be busy
+    thumbnails = make_thumbnails(paths, jobs=2)
+    assert thumbnails[paths[3]].problem == "the picture decoder took over 3 s on this file"
+    assert all(thumbnails[p].jpeg for p in paths if p != paths[3]), {p: t.problem for p, t in thumbnails.items()}
 
 
 def test_thumbnails_stay_within_their_byte_budget(tmp_path):

@@ -46,6 +46,8 @@ THUMBNAIL_LONG_SIDE_PX = 320
 THUMBNAIL_MAX_BYTES = 12_000
 # (scale, JPEG quality) tried in turn; a picture of pure detail ends up smaller rather than blurred.
 _ENCODINGS = ((1.0, 72), (1.0, 62), (1.0, 52), (1.0, 42), (1.0, 32), (0.75, 42), (0.75, 32), (0.5, 42), (0.5, 25))
+# A worker that finishes no file in this long is stuck (a sound file takes milliseconds).
+STALL_SECONDS = 20.0
 # Below this many files a worker pool costs more than it saves.
 POOL_THRESHOLD = 16
 
@@ -255,19 +257,35 @@ def make_thumbnails(paths: list[str], *, long_side_px: int = THUMBNAIL_LONG_SIDE
             results[path] = thumbnail
             notify("Making thumbnails", len(results), total)
         return results
-    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
     from concurrent.futures.process import BrokenProcessPool
 
+    pool = ProcessPoolExecutor(min(jobs, total), mp_context=_pool_context())
     try:
-        with ProcessPoolExecutor(min(jobs, total), mp_context=_pool_context()) as pool:
-            for future in as_completed([pool.submit(_thumbnail, item) for item in items]):
+        pending = {pool.submit(_thumbnail, item) for item in items}
+        while pending:
+            done, pending = wait(pending, timeout=STALL_SECONDS, return_when=FIRST_COMPLETED)
+            if not done:  # every worker is stuck on a file
+                _kill_workers(pool)
+                raise BrokenProcessPool("no thumbnail finished in time")
+            for future in done:
                 path, thumbnail = future.result()
                 results[path] = thumbnail
                 notify("Making thumbnails", len(results), total)
     except BrokenProcessPool:
-        # Some file crashed a decoder: go on one file at a time so the culprit is found.
+        # Some file crashed or hung a decoder: go on one file at a time so it is found. The
+        # old pool is gone first (its threads must not hold a lock the next fork copies).
+        pool.shutdown(wait=True, cancel_futures=True)
         _one_at_a_time([item for item in items if item[0] not in results], results, notify, total)
+    finally:
+        pool.shutdown(wait=False, cancel_futures=True)
     return results
+
+
+def _kill_workers(pool) -> None:
+    # ProcessPoolExecutor has no public way to stop a stuck worker before Python 3.14.
+    for process in list(getattr(pool, "_processes", {}).values()):
+        process.kill()
 
 
 def _pool_context():
@@ -284,11 +302,16 @@ def _one_at_a_time(items, results, notify, total) -> None:
         for item in items:
             pool = pool or ProcessPoolExecutor(1, mp_context=_pool_context())
             try:
-                path, thumbnail = pool.submit(_thumbnail, item).result()
-            except BrokenProcessPool:
-                pool.shutdown(wait=False)
+                path, thumbnail = pool.submit(_thumbnail, item).result(timeout=STALL_SECONDS)
+            except (BrokenProcessPool, TimeoutError) as error:
+                hung = isinstance(error, TimeoutError)
+                if hung:
+                    _kill_workers(pool)
+                pool.shutdown(wait=True, cancel_futures=True)
                 pool = None
-                path, thumbnail = item[0], Thumbnail(None, problem="the picture decoder crashed on this file")
+                problem = (f"the picture decoder took over {STALL_SECONDS:g} s on this file" if hung
+                           else "the picture decoder crashed on this file")
+                path, thumbnail = item[0], Thumbnail(None, problem=problem)
             results[path] = thumbnail
             notify("Making thumbnails", len(results), total)
     finally:

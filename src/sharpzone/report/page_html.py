@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Any
 from sharpzone.analysis.report_page import PASSED, primary_verdict, verdict_kind
 from sharpzone.errors import InvalidValue, SharpzoneError
 from sharpzone.report.frames_render import _plans_line, _zone_text
-from sharpzone.report.verdicts import describe_flag
+from sharpzone.report.verdicts import describe_flag, flag_word
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance
 
 if TYPE_CHECKING:
@@ -33,12 +33,9 @@ BAR_HEIGHT = 30
 # Measured-blur columns a row may carry (from the blur measurement), with their labels.
 BLUR_COLUMNS = (("focus_blur_mm", "at the focus point"), ("best_blur_mm", "sharpest region"),
                 ("median_blur_mm", "across the frame"), ("blur_mm", ""))
-
-
-def verdict_word(code: str) -> str:
-    """A verdict code in words for a heading: ``too-wide-open`` → ``Too wide open``."""
-    words = code.replace("-", " ").strip()
-    return words[:1].upper() + words[1:]
+# Where a focus distance came from (``vocabulary.FOCUS_SOURCES``), in words.
+FOCUS_SOURCE_WORDS = {"user": "your distances file", "exif": "EXIF", "makernote": "the maker note",
+                      "xmp": "the XMP sidecar"}
 
 
 def _number(value: Any) -> float | None:
@@ -60,7 +57,7 @@ def _remedy(flag: str, row: dict, imperial: bool) -> str:
     try:
         return describe_flag(flag, row, imperial=imperial)
     except (ValueError, KeyError, TypeError):  # a code this version has no sentence for
-        return verdict_word(flag).lower()
+        return flag_word(flag).lower()
 
 
 def page_path(out: str | os.PathLike) -> Path:
@@ -104,7 +101,7 @@ def render_page(data: ReportData, *, imperial: bool = False) -> str:
         count = len(positions)
         sections.append(
             f'<section class="group k-{verdict_kind(verdict)}" id="g-{_text(verdict)}" data-verdict="{_text(verdict)}">'
-            f'<h2>{_icon(verdict)} {_text(verdict_word(verdict))} <span class="count">'
+            f'<h2>{_icon(verdict)} {_text(flag_word(verdict))} <span class="count">'
             f'{count} frame{"s" if count != 1 else ""}</span></h2>'
             f'<div class="scale-row" aria-hidden="true"><div></div><div></div>{_scale_svg(scale, ticks, imperial)}</div>'
             f'<div class="frames">{rows}</div></section>')
@@ -176,7 +173,7 @@ def _summary(data: ReportData) -> str:
         carried = counts.get("passed") if verdict == PASSED else counts.get(verdict, 0)
         verdict_rows.append(
             f'<tr class="k-{verdict_kind(verdict)}"><td>{_icon(verdict)} <a href="#g-{_text(verdict)}">'
-            f'{_text(verdict_word(verdict))}</a></td><td class="num">{carried}</td>'
+            f'{_text(flag_word(verdict))}</a></td><td class="num">{carried}</td>'
             f'<td class="num">{listed[verdict]}</td></tr>')
     lens_rows = "".join(
         f'<tr><td>{_text(item["lens"])}</td><td class="num">{item["frames"]}</td>'
@@ -214,7 +211,7 @@ def _controls(data: ReportData) -> str:
     frames = data.frames
     verdicts = [verdict for verdict, _ in data.groups]
     present_flags = sorted({flag for flags in frames["flags"] for flag in flags} - set(verdicts))
-    verdict_options = "".join(f'<option value="{_text(v)}">{_text(verdict_word(v))}</option>'
+    verdict_options = "".join(f'<option value="{_text(v)}">{_text(flag_word(v))}</option>'
                               for v in [*verdicts, *present_flags])
     lenses = sorted({str(v) for v in frames["lens"].fillna("(unknown lens)")})
     bodies = sorted({str(v) for v in frames["body"].fillna("(unknown body)")})
@@ -250,7 +247,7 @@ def _frame_html(row: dict, position: int, data: ReportData, grid: str, imperial:
     f_number = _number(row.get("f_number"))
     picture = _picture(data.thumbnails.get(path), path)
     name = os.path.basename(path) or path
-    words = [f'<li class="k-{verdict_kind(flag)}">{_icon(flag)} <strong>{_text(verdict_word(flag))}</strong>: '
+    words = [f'<li class="k-{verdict_kind(flag)}">{_icon(flag)} <strong>{_text(flag_word(flag))}</strong>: '
              f'{_text(_remedy(flag, row, imperial))}</li>' for flag in flags]
     if not flags:
         words = [f'<li class="k-passed">{_icon(PASSED)} <strong>Passed</strong>: the zone held what had to be '
@@ -300,7 +297,7 @@ def _setting(row: dict, imperial: bool) -> str:
                      f"{format_distance(high, imperial=imperial)})")
         source = row.get("focus_source")
         if isinstance(source, str) and source not in ("", "none"):
-            text += f", from {source}"
+            text += f", from {FOCUS_SOURCE_WORDS.get(source, source)}"
         parts.append(text)
     return " · ".join(_text(part) for part in parts)
 

@@ -52,3 +52,10 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
     if flag == "outside-plan":
         return f"subject at {dist(row['focus_mm'])} lies outside the zone the plan's settings give"
     raise ValueError(f"unknown flag {flag!r}")
+
+
+def flag_word(flag: str) -> str:
+    """A verdict code as words for a heading or a label: ``too-wide-open`` → ``Too wide open``.
+    Any code reads this way, so a verdict added later shows without an edit here."""
+    words = flag.replace("-", " ").strip()
+    return words[:1].upper() + words[1:]
