@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import base64
 import hashlib
+import html
 import io
 import json
 import math
@@ -100,7 +101,7 @@ def test_the_page_agrees_with_check_json(page, shoot):
         frame = next(f for f in parsed.frames if f["data-path"] == item["path"])
         assert frame["data-flags"].split() == (item["flags"] or ["passed"])
         for remedy in item["remedies"]:
-            assert remedy["text"].replace("&", "&amp;").replace('"', "&quot;") in text
+            assert html.escape(remedy["text"], quote=True) in text
 
 
 def test_the_page_is_self_contained(page):
@@ -259,6 +260,20 @@ def test_thumbnails_stay_within_their_byte_budget(tmp_path):
     assert thumbnail.jpeg[:2] == b"\xff\xd8" and len(thumbnail.jpeg) <= 12_000  # JPEG SOI marker
     with Image.open(io.BytesIO(thumbnail.jpeg)) as image:
         assert image.size == (thumbnail.width, thumbnail.height)
+
+
+def test_imperial_page_with_a_title_of_its_own(shoot, tmp_path):
+    out = tmp_path / "imperial.html"
+    result = runner.invoke(app, ["--catalog", shoot.catalog_url, "report", "--verdict", "flagged", "--imperial",
+                                 "--title", "Quay <misses>", "--out", str(out), "--jobs", "1"])
+    assert result.exit_code == 0, result.output
+    text = out.read_text(encoding="utf-8")
+    parsed = _Page()
+    parsed.feed(text)
+    assert len(parsed.frames) == sum(1 for flags in EXPECTED.values() if flags)
+    assert "<title>Quay &lt;misses&gt; — sharp-zone report</title>" in text
+    # 2.5 m and 4 m are 8 ft 2.4 in and 13.1 ft (1 ft = 304.8 mm exactly, NIST SP 811)
+    assert "needed 8 ft 2.4 in – 13.1 ft" in text and " m · " not in text
 
 
 @pytest.mark.parametrize(("args", "message"), [
