@@ -205,6 +205,18 @@ def test_the_distance_scale_is_logarithmic_with_infinity_at_the_end():
     assert len(narrow) >= 3 and all(375.0 <= t <= 510.0 for t in narrow)
 
 
+def test_one_far_frame_does_not_squeeze_the_scale():
+    import pandas as pd
+
+    from sharpzone.analysis.report_page import OUTLIER_FACTOR, scale_for
+
+    frames = pd.DataFrame({"focus_mm": [2500.0, 2400.0, 2600.0, 150_000.0],
+                           "near_mm": [2450.0, 2350.0, 2550.0, 40_000.0]})
+    scale = scale_for(frames)
+    assert scale.near_mm <= 2350.0 and scale.far_mm <= 2500.0 * OUTLIER_FACTOR * 1.05
+    assert scale.position(150_000.0) == scale.FINITE_SHARE  # at the break, not off the page
+
+
 def _crash_on_bad(item):
     from sharpzone.analysis import report_page
 

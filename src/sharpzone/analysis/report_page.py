@@ -138,19 +138,13 @@ class DistanceScale:
         return [k * step * unit for k in range(first, int(high / step * (1 + 1e-9)) + 1)]
 
 
-_FINE_MANTISSAS = (1, 1.2, 1.5, 2, 2.5, 3, 4, 5, 6, 8, 10)
-
-
-def _nice_below(value: float, mantissas=_FINE_MANTISSAS) -> float:
-    exponent = math.floor(math.log10(value))
-    return max(m * 10.0 ** exponent for m in mantissas if m * 10.0 ** exponent <= value * (1 + 1e-12))
-
-
 def _nice_above(value: float, mantissas=(1, 2, 5, 10)) -> float:
+    """The smallest 1-2-5 value (a decade's multiple) at or above ``value``."""
     exponent = math.floor(math.log10(value))
     return min(m * 10.0 ** exponent for m in mantissas if m * 10.0 ** exponent >= value * (1 - 1e-12))
 
 
+OUTLIER_FACTOR = 8.0
 SCALE_COLUMNS = ("near_mm", "focus_mm", "required_near_mm", "required_far_mm", "focus_near_mm", "focus_far_mm",
                  "better_focus_mm")
 
@@ -158,7 +152,8 @@ SCALE_COLUMNS = ("near_mm", "focus_mm", "required_near_mm", "required_far_mm", "
 def scale_for(frames: pd.DataFrame) -> DistanceScale:
     """A scale that holds every frame's near limit, focus distance, bracket and requirement
     (far limits beyond them run to the break: past the last thing that had to be sharp,
-    how far a zone reaches matters less than that it reaches)."""
+    how far a zone reaches matters less than that it reaches), with a margin, but no wider
+    than ``OUTLIER_FACTOR`` either side of the median focus distance."""
     import numpy as np
 
     values = []
@@ -169,9 +164,26 @@ def scale_for(frames: pd.DataFrame) -> DistanceScale:
     finite = np.concatenate(values) if values else np.zeros(0)
     if finite.size == 0:
         return DistanceScale(500.0, 20_000.0)
-    near = _nice_below(float(finite.min()) * 0.9)
-    far = _nice_above(max(float(finite.max()) * 1.15, near * 1.5), _FINE_MANTISSAS)
-    return DistanceScale(near, far)
+    low, high = float(finite.min()), float(finite.max())
+    # A margin in proportion to the range on the log scale (3 % at least), so that a
+    # close-up whose distances differ by millimetres still fills the bars.
+    margin = max((high / low) ** 0.12, 1.03)
+    low, high = low / margin, high * margin
+    focus = frames["focus_mm"].to_numpy(dtype=float) if "focus_mm" in frames else np.zeros(0)
+    focus = focus[np.isfinite(focus) & (focus > 0)]
+    if focus.size:
+        # One frame focused far away must not squeeze everyone else's bars into a sliver:
+        # the scale spans at most OUTLIER_FACTOR either side of the typical focus distance,
+        # and what lies beyond sits at the scale's ends.
+        typical = float(np.median(focus))
+        low, high = max(low, typical / OUTLIER_FACTOR), min(high, typical * OUTLIER_FACTOR)
+    return DistanceScale(_two_figures(low, math.floor), _two_figures(max(high, low * 1.05), math.ceil))
+
+
+def _two_figures(value: float, rounding) -> float:
+    """``value`` rounded (down or up, by ``rounding``) to two significant figures."""
+    step = 10.0 ** (math.floor(math.log10(value)) - 1)
+    return rounding(value / step * (1 + 1e-12 if rounding is math.floor else 1 - 1e-12)) * step
 
 
 @dataclass(frozen=True)
