@@ -47,6 +47,7 @@ class DemoShoot:
     check: CheckResult
     report_path: Path
     measure: MeasureSummary | None = None
+    page_path: Path | None = None
 
 
 @dataclass
@@ -174,6 +175,15 @@ def _write_cards(scenario: dict, folder: Path) -> None:
     (folder / "distances.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
 
 
+def _write_report_page(checked: CheckResult, shoot: dict, folder: Path) -> Path:
+    """The shoot's report page (thumbnails, zone bars, verdicts) beside its JSON report."""
+    from sharpzone.analysis.report_page import report_from_check
+    from sharpzone.report.page_html import write_page
+
+    data = report_from_check(checked, title=shoot["name"], jobs=1)
+    return write_page(data, folder / "reports" / f"page-{shoot['folder']}.html")
+
+
 def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> DemoResult:
     """Run the invented scenario in ``folder`` (created; an earlier demo there is replaced):
     catalogue, cards, ingest, check of every shoot, sharp-zone sheets. Returns where it all is."""
@@ -206,7 +216,8 @@ def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> De
                 checked = check_shoot(session, FrameFilter(shoot=shoot["name"]))
             report = folder / "reports" / f"check-{shoot['folder']}.json"
             report.write_text(dumps(rows_json(checked.frames, check_json)) + "\n", encoding="utf-8")
-            result.shoots.append(DemoShoot(shoot["name"], summary, checked, report, measured))
+            result.shoots.append(DemoShoot(shoot["name"], summary, checked, report, measured,
+                                           _write_report_page(checked, shoot, folder)))
         with catalog.session_scope() as session:
             for lens_name, forms in SHEETS:
                 sheet = sheet_from_catalog(session, lens_name, body=scenario["body"]["name"])

@@ -53,6 +53,7 @@ def _register_commands() -> None:
         ingest_commands,
         measure_commands,
         optics_commands,
+        report_commands,
         sheet_commands,
     )
 
@@ -62,6 +63,7 @@ def _register_commands() -> None:
     frames_commands.register(app)
     catalog_commands.register(app)
     sheet_commands.register(app)
+    report_commands.register(app)
     demo_commands.register(app)
 
 

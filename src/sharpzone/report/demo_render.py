@@ -32,6 +32,8 @@ def render_demo(result: DemoResult, *, imperial: bool = False) -> None:
     console.print(f"Image cards:      {result.folder / 'cards'}")
     for shoot in result.shoots:
         console.print(f"Check report:     {shoot.report_path}")
+        if shoot.page_path is not None:
+            console.print(f"Report page:      {shoot.page_path}")
     for sheet in result.sheets:
         console.print(f"Sharp-zone sheet: {sheet}")
     console.print()

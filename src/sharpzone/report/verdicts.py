@@ -192,3 +192,10 @@ BLUR_WORDS = {
     "sharp-at-focus": _sharp_at_focus,
     "not-measurable": _not_measurable,
 }
+
+
+def flag_word(flag: str) -> str:
+    """A verdict code as words for a heading or a label: ``too-wide-open`` → ``Too wide open``.
+    Any code reads this way, so a verdict added later shows without an edit here."""
+    words = flag.replace("-", " ").strip()
+    return words[:1].upper() + words[1:]
