@@ -619,7 +619,9 @@ FIELDS: tuple[Field, ...] = (
     Field("iso", ("Exif.Photo.ISOSpeedRatings",), convert=_iso),
     Field("subject_distance_range", ("Exif.Photo.SubjectDistanceRange",), convert=_distance_range),
     Field("focal_35mm_mm", ("Exif.Photo.FocalLengthIn35mmFilm",), convert=_focal_35mm),
-    Field("lens_spec", ("Exif.Photo.LensSpecification",), convert=_lens_spec),
+    # Nikon's lens record holds the same four numbers as LensSpecification (libexiv2 prints
+    # 180/10 550/10 35/10 56/10 as "18-55mm F3.5-5.6").
+    Field("lens_spec", ("Exif.Photo.LensSpecification",), ("Exif.Nikon3.Lens",), convert=_lens_spec),
     Field("exif_make", ("Exif.Image.Make",), convert=_text),
     Field("exif_model", ("Exif.Image.Model",), convert=_text),
     Field("lens_make", ("Exif.Photo.LensMake",), convert=_text),
