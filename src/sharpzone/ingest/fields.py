@@ -137,7 +137,7 @@ DISTANCE_KEYS: tuple[DistanceKey, ...] = (
                      " numerator 0xFFFFFFFF = infinity, 0 = unknown"),
     DistanceKey("Exif.Nikon3.FocusDistance", EXACT, 1000.0, unknown=(0,), infinity=(math.inf,),
                 note="metres, rational (compact cameras); 0 = unknown"),
-    DistanceKey("Exif.CanonSi.SubjectDistance", RESOLUTION, 10.0, unknown=(0,), infinity=(65535,),
+    DistanceKey("Exif.CanonSi.SubjectDistance", RESOLUTION, 10.0, unknown=(0,),
                 note="centimetres (compact cameras; libexiv2 prints value / 100 m); 0 = unknown"),
     DistanceKey("Exif.Casio.ObjectDistance", RESOLUTION, 1.0, unknown=(0,),
                 note="millimetres; 0 = unknown"),
