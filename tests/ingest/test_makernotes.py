@@ -180,6 +180,18 @@ def test_lens_id_with_several_candidates_keeps_them_all(written):
     assert record.lens_candidates == expected and record.lens_model == expected[0]
 
 
+def test_lens_specification_from_a_nikon_lens_record(written):
+    data = makernotes.makernote_jpeg(makernotes.NIKON, {"Exif.Nikon3.Lens": "180/10 550/10 35/10 56/10"})
+    assert makernotes.printed(data, ".jpg", "Exif.Nikon3.Lens") == "18-55mm F3.5-5.6"
+    assert _frame(written, "nikon-lens.jpg", data).lens_spec == (18.0, 55.0, 3.5, 5.6)
+
+
+def test_focal_range_from_canon_camera_settings(written):
+    data = makernotes.makernote_jpeg(makernotes.CANON, {"Exif.CanonCs.Lens": "85 18 1"})
+    assert makernotes.printed(data, ".jpg", "Exif.CanonCs.Lens") == "18.0 - 85.0 mm"
+    assert _frame(written, "canon-zoom.jpg", data).lens_spec == (18.0, 85.0, None, None)
+
+
 def test_lens_model_wins_over_the_lens_id(written):
     data = makernotes.makernote_jpeg(makernotes.PENTAX, {"Exif.Pentax.LensType": "3 44"},
                                      exif=images.exif_block(subject_distance=None))

@@ -219,3 +219,13 @@ def test_never_raises_and_keeps_only_sane_numbers(tags):
     assert record.focal_mm is None or record.focal_mm > 0
     assert record.focus_mm is None or record.focus_mm >= 1.0
     assert all(isinstance(warning, str) for warning in record.warnings)
+
+
+def test_lens_specification_from_the_lens_name():
+    # Lens names print focal range and widest apertures the trade's way: "18-55mm F3.5-5.6".
+    assert capture(LensModel="Altamira 18-55mm F3.5-5.6").lens_spec == (18.0, 55.0, 3.5, 5.6)
+    # A recorded focal range without apertures is completed from the name when they agree.
+    assert capture(LensModel="Altamira 18-55mm F3.5-5.6",
+                   LensSpecification=(18.0, 55.0, None, None)).lens_spec == (18.0, 55.0, 3.5, 5.6)
+    assert capture(LensModel="Altamira 18-55mm F3.5-5.6",
+                   LensSpecification=(18.0, 70.0, None, None)).lens_spec == (18.0, 70.0, None, None)

@@ -137,7 +137,7 @@ DISTANCE_KEYS: tuple[DistanceKey, ...] = (
                      " numerator 0xFFFFFFFF = infinity, 0 = unknown"),
     DistanceKey("Exif.Nikon3.FocusDistance", EXACT, 1000.0, unknown=(0,), infinity=(math.inf,),
                 note="metres, rational (compact cameras); 0 = unknown"),
-    DistanceKey("Exif.CanonSi.SubjectDistance", RESOLUTION, 10.0, unknown=(0,), infinity=(65535,),
+    DistanceKey("Exif.CanonSi.SubjectDistance", RESOLUTION, 10.0, unknown=(0,),
                 note="centimetres (compact cameras; libexiv2 prints value / 100 m); 0 = unknown"),
     DistanceKey("Exif.Casio.ObjectDistance", RESOLUTION, 1.0, unknown=(0,),
                 note="millimetres; 0 = unknown"),
@@ -557,11 +557,27 @@ def _focal_35mm(value, key, tags, warnings):
 
 def _lens_spec(value, key, tags, warnings):
     """(min focal mm, max focal mm, min f-number at min focal, at max focal); 0/0 unknown."""
+    if key == CANON_FOCAL_RANGE_KEY:
+        return _canon_focal_range(value)
     if not isinstance(value, tuple) or len(value) != 4:
         warnings.append(f"lens specification {value!r} ignored: expected four numbers")
         return None
     spec = tuple(None if (item := number(part)) is None or item <= 0 else item for part in value)
     return None if all(item is None for item in spec) else spec
+
+
+# Canon camera settings "Lens": (long focal, short focal, focal units per mm), 16-bit;
+# libexiv2 0.28 prints 85 18 1 as "18.0 - 85.0 mm". It names no apertures.
+CANON_FOCAL_RANGE_KEY = "Exif.CanonCs.Lens"
+
+
+def _canon_focal_range(value):
+    if not isinstance(value, tuple) or len(value) != 3:
+        return None
+    long_end, short_end, units = (number(item) for item in value)
+    if not (long_end and short_end and units) or min(long_end, short_end, units) <= 0 or short_end > long_end:
+        return None
+    return (short_end / units, long_end / units, None, None)
 
 
 def _captured_at(value, key, tags, warnings):
@@ -619,7 +635,10 @@ FIELDS: tuple[Field, ...] = (
     Field("iso", ("Exif.Photo.ISOSpeedRatings",), convert=_iso),
     Field("subject_distance_range", ("Exif.Photo.SubjectDistanceRange",), convert=_distance_range),
     Field("focal_35mm_mm", ("Exif.Photo.FocalLengthIn35mmFilm",), convert=_focal_35mm),
-    Field("lens_spec", ("Exif.Photo.LensSpecification",), convert=_lens_spec),
+    # Nikon's lens record holds the same four numbers as LensSpecification (libexiv2 prints
+    # 180/10 550/10 35/10 56/10 as "18-55mm F3.5-5.6").
+    Field("lens_spec", ("Exif.Photo.LensSpecification",), ("Exif.Nikon3.Lens", CANON_FOCAL_RANGE_KEY),
+          convert=_lens_spec),
     Field("exif_make", ("Exif.Image.Make",), convert=_text),
     Field("exif_model", ("Exif.Image.Model",), convert=_text),
     Field("lens_make", ("Exif.Photo.LensMake",), convert=_text),

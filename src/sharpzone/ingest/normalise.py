@@ -32,8 +32,7 @@ def normalise_capture(tags: dict, path: str) -> CaptureRecord:
         values["lens_model"] = candidates[0]
     else:
         candidates = ()
-    if values["lens_spec"] is None:
-        values["lens_spec"] = fields.lens_spec_from_name(values["lens_model"])
+    values["lens_spec"] = _with_name_spec(values["lens_spec"], fields.lens_spec_from_name(values["lens_model"]))
     sensor_width_px, sensor_height_px = fields.sensor_pixels(tags)
     sensor_width_mm, sensor_height_mm = fields.sensor_size_mm(tags, sensor_width_px, sensor_height_px)
     image_width = values["width_px"] or fields.as_int(tags.get(fields.CONTAINER_WIDTH))
@@ -58,3 +57,13 @@ def normalise_capture(tags: dict, path: str) -> CaptureRecord:
         focus_point_key=point_key,
         warnings=tuple(warnings),
     )
+
+
+def _with_name_spec(spec, named):
+    """The recorded lens specification, completed from the one in the lens name: the name's
+    when none is recorded, its apertures when only the same focal range is."""
+    if spec is None:
+        return named
+    if named is not None and spec[2] is None and spec[3] is None and tuple(spec[:2]) == tuple(named[:2]):
+        return named
+    return spec
