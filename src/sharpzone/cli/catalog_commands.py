@@ -144,9 +144,13 @@ def _range_option(value: str, option: str, parse) -> tuple[float, float]:
     """``24-70`` → (24, 70); ``50`` → (50, 50); each end parsed by ``parse(text, option)``."""
     match = _RANGE.match(value)
     if not match:
-        raise InvalidValue(f"{option}: {value!r} is not valid: expected one value or two joined by '-'")
+        raise InvalidValue(option=option, what="value", value=value, expected="one value or two joined by '-'")
     low = parse(match.group(1), option)
     high = parse(match.group(2), option) if match.group(2) else low
+    if high < low:
+        raise InvalidValue(option=option, what="value", value=value, problem="runs backwards",
+                           expected="the smaller number first",
+                           hint=f"did you mean {match.group(2)}-{match.group(1)}?")
     return low, high
 
 
@@ -165,7 +169,7 @@ def _number_option(value: str | None, option: str) -> float | None:
     try:
         return float(value)
     except ValueError:
-        raise InvalidValue(f"--{option}: {value!r} is not a number") from None
+        raise InvalidValue(option=f"--{option}", what="value", value=value, problem="is not a number") from None
 
 
 def _maybe(parse, value: str | None, option: str):

@@ -61,7 +61,7 @@ def sheet(
     try:
         sheet_form(out)
     except InvalidValue as error:
-        raise InvalidValue(f"--out: {error.message}") from None
+        raise error.with_option("--out") from None
     focal_lengths = [length_option(value, "--focal") for value in _listed(focal)]
     focus_distances = [distance_option(value, "--distances") for value in _listed(distances)]
     with catalog_session(ctx) as session:

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from sharpzone.errors import InvalidValue
+from sharpzone.limits import check_overlap
 from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_array
 from sharpzone.optics.dof import (
     Reference,
@@ -222,8 +223,7 @@ def plan_focus_stack(
 def _walk_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference, pupil, overlap,
                 keep_frames):
     check_reference(reference)
-    if not (0 <= overlap < 1):
-        raise InvalidValue(f"stack overlap {overlap!r} is not valid: expected a fraction from 0 to below 1")
+    check_overlap(overlap)
     f, n, c, p = validate_lens_inputs(focal_mm, f_number, coc_mm, pupil)
     a, b = _check_range(near_target_mm, far_target_mm, f, reference)
     f, n, c, p, a, b = (np.array(x, dtype=np.float64) for x in np.broadcast_arrays(f, n, c, p, a, b))
