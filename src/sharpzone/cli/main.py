@@ -14,7 +14,9 @@ PROG = "sharpzone"
 
 
 def _say_error(message: str) -> None:
-    typer.echo(f"{PROG}: error: {message}", err=True)
+    from sharpzone.report.inert import inert
+
+    typer.echo(f"{PROG}: error: {inert(message, newlines=False)}", err=True)
 
 
 def _one_line(text: str) -> str:

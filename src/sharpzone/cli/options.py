@@ -31,6 +31,8 @@ CocPolicyOpt = Annotated[Optional[str], typer.Option("--coc-policy", help=_sente
 ReferenceOpt = Annotated[str, typer.Option("--reference", help=_sentence(REFERENCE_HELP))]
 ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (the machine interface) instead of a table.")]
+WideOpt = Annotated[bool, typer.Option("--wide", help="Show every column, however wide the table gets (default: "
+                                       "minor columns give way to fit the terminal).")]
 
 
 def _named(option: str, error: InvalidValue) -> InvalidValue:

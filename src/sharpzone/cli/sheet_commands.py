@@ -18,6 +18,7 @@ from sharpzone.cli.options import (
 )
 from sharpzone.cli.state import catalog_session
 from sharpzone.errors import InvalidValue
+from sharpzone.report.inert import inert
 from sharpzone.units import DISTANCE_HELP
 
 STOP_SCALES = ("full", "half", "third")
@@ -74,5 +75,5 @@ def sheet(
         )
     written = write_sheet(result, out, imperial=imperial)
     focal_count = len(result.tables)
-    typer.echo(f"wrote the sheet of {result.lens.name} ({focal_count} focal length{'s' if focal_count > 1 else ''}) "
-               f"to {written}")
+    typer.echo(inert(f"wrote the sheet of {result.lens.name} ({focal_count} focal length{'s' if focal_count > 1 else ''}) "
+               f"to {written}"))

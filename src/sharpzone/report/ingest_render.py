@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
-from sharpzone.report.console import stderr_console, stdout_console
+from sharpzone.report.console import line, stderr_console, stdout_console, styled
 
 if TYPE_CHECKING:
     from sharpzone.ingest.pipeline import IngestSummary
@@ -70,7 +70,7 @@ def render_ingest(summary: IngestSummary, catalog: str) -> None:
         table.add_row(label, str(value))
     console.print(table)
     for path, reason in summary.failed:
-        console.print(f"[red]skipped[/] {path}: {reason}", highlight=False, markup=True)
+        console.print(line(styled("skipped", "red"), " ", path, ": ", reason))
     if summary.vanished and not summary.pruned:
         console.print(f"{len(summary.vanished)} catalogued frames were not found again; kept (use --prune to remove).")
     for item in summary.registered:
