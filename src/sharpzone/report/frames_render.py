@@ -14,6 +14,7 @@ from rich.text import Text
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
+from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.report.jsonout import metres
 from sharpzone.report.verdicts import describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm
@@ -117,7 +118,7 @@ def frames_csv(frames: pd.DataFrame) -> str:
             value = row.get(column)
             if column == "flags":
                 value = ";".join(value)
-            values.append("" if value is None else value)
+            values.append("" if value is None else safe_cell(value))
         writer.writerow(values)
     return buffer.getvalue()
 
