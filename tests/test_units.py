@@ -62,6 +62,13 @@ def test_distances_no_one_can_mean_are_refused(text):
     assert repr(text) in str(caught.value)
 
 
+@pytest.mark.parametrize("number", [1e308, 1e-300, -1.0])
+def test_numbers_no_one_can_mean_are_refused(number):
+    with pytest.raises(InvalidValue):
+        parse_distance(number)
+    assert parse_distance(math.inf) == math.inf
+
+
 def test_a_huge_distance_hints_at_inf():
     with pytest.raises(InvalidValue) as caught:
         parse_distance("1e308")

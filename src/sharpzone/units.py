@@ -47,7 +47,10 @@ def parse_distance(text: str | float | int, *, default_unit: str = "m", what: st
 
 def _distance_mm(text: str | float | int, default_unit: str, what: str) -> float:
     if isinstance(text, (int, float)):
-        return float(text) * _DISTANCE_UNITS_MM[default_unit]  # a number is a number: inf stays inf
+        value_mm = float(text) * _DISTANCE_UNITS_MM[default_unit]
+        if math.isinf(value_mm) and math.isfinite(text):  # so large it overflowed
+            raise too_far(text, what)
+        return value_mm
     raw = str(text).strip()
     if raw.lower() in _INFINITY_WORDS:
         return math.inf
