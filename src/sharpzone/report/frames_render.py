@@ -275,10 +275,12 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
     console.print(styled(_policy_line(frames) + " Distances from the sensor plane.", "dim"))
     verdict_rows = [(flag, count) for flag, count in summary.items() if flag not in ("frames", "passed")]
     if verdict_rows:
+        console.print()
         print_fitted(console, fit_table([
             Column("Verdict", lambda item: styled(item[0], _flag_style(item[0]))),
             Column("Frames", lambda item: str(item[1]), "right"),
         ], verdict_rows, console=console, wide=wide, title="By verdict", title_justify="left"))
+    console.print()
     print_fitted(console, fit_table([
         Column("Lens", lambda item: item["lens"], wrap=True),
         Column("Frames", lambda item: str(item["frames"]), "right"),
@@ -290,6 +292,7 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
         return
     records = sorted(flagged.to_dict("records"), key=lambda row: _severity(list(row["flags"])))
     shown = records if show_all else records[:CHECK_DETAIL_ROWS]
+    console.print()
     title = ("Flagged frames and what would have worked" if len(shown) == len(records)
              else f"The {len(shown)} worst of {len(records)} flagged frames and what would have worked")
     print_fitted(console, fit_table(check_columns(imperial), shown, console=console, wide=wide, show_lines=True,
