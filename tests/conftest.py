@@ -27,6 +27,20 @@ import itertools  # noqa: E402
 import os  # noqa: E402
 
 POSTGRES_URL_VAR = "SHARPZONE_TEST_POSTGRES_URL"
+
+
+def _psycopg_installed() -> bool:
+    try:
+        import psycopg  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+# For tests that need the PostgreSQL driver but no server (connection errors, URL handling):
+# the README's test command installs only ".[test]"; .ci/run installs ".[test,postgres]".
+needs_psycopg = pytest.mark.skipif(
+    not _psycopg_installed(), reason="psycopg is not installed: pip install '.[postgres]' (.ci/run does)")
 CATALOG_BACKENDS = ["sqlite", "postgres"]
 
 

@@ -3,9 +3,19 @@
 Anything a person can cause (a bad value, an unreadable file, a locked catalogue) is raised
 as a ``SharpzoneError`` somewhere in the code and rendered once, by the CLI, as one line on
 stderr. Library errors are translated into these at the boundary where they occur.
+
+An error carries its parts — ``what`` was wrong, the ``value`` given, the ``problem`` with
+it, what was ``expected``, the command-line ``option`` it came from and a ``hint`` — and
+builds its one line from them here, in ``message``, so the CLI can name the option (with
+``with_option``) without searching or rewriting the text. A plain sentence still works:
+``SharpzoneError("no catalogue at …")``.
 """
 
 from __future__ import annotations
+
+import copy
+
+_NO_VALUE = object()
 
 
 class SharpzoneError(Exception):
@@ -13,10 +23,43 @@ class SharpzoneError(Exception):
 
     exit_code = 1
 
-    def __init__(self, message: str, hint: str | None = None) -> None:
-        super().__init__(message)
-        self.message = message
+    def __init__(self, message: str | None = None, hint: str | None = None, *, what: str | None = None,
+                 value: object = _NO_VALUE, problem: str | None = None, expected: str | None = None,
+                 option: str | None = None) -> None:
+        self.text = message
         self.hint = hint
+        self.what = what
+        self.value = None if value is _NO_VALUE else value
+        self.has_value = value is not _NO_VALUE
+        self.problem = problem
+        self.expected = expected
+        self.option = option
+        super().__init__(self.message)
+
+    @property
+    def message(self) -> str:
+        """The one line, built from the parts: ``[--option: ][what ]['value' ]problem[: expected …]``."""
+        if self.text is not None:
+            body = self.text
+        else:
+            words = []
+            if self.what and not self.option:  # the option names what it is
+                words.append(self.what)
+            if self.has_value:
+                words.append(repr(self.value) if isinstance(self.value, str) else f"{self.value}")
+            words.append(self.problem or "is not valid")
+            body = " ".join(words)
+            if self.expected:
+                body += f": expected {self.expected}"
+        return f"{self.option}: {body}" if self.option else body
+
+    def with_option(self, option: str) -> SharpzoneError:
+        """The same error, said of the command-line option ``option`` (once, however often
+        it is called)."""
+        named = copy.copy(self)
+        named.option = self.option or option
+        named.args = (named.message,)
+        return named
 
     def __str__(self) -> str:
         return f"{self.message} ({self.hint})" if self.hint else self.message

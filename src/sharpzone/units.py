@@ -11,6 +11,7 @@ import math
 import re
 
 from sharpzone.errors import InvalidValue
+from sharpzone.limits import check_distance_mm, check_length_mm, too_far
 
 # Exact by definition (international yard and pound agreement, 1959): 1 in = 25.4 mm.
 MM_PER_INCH = 25.4
@@ -36,43 +37,49 @@ DISTANCE_HELP = "a distance with a unit: 3m, 250cm, 800mm, 10ft, 6in, 5ft6in or 
 def parse_distance(text: str | float | int, *, default_unit: str = "m", what: str = "distance") -> float:
     """Parse a distance such as ``3m``, ``250cm``, ``10ft``, ``5ft6in`` or ``inf`` into mm.
 
-    A bare number takes ``default_unit`` (metres unless said). Negative values are refused;
-    zero is allowed here and range checks belong to the caller.
+    A bare number takes ``default_unit`` (metres unless said). Negative, tiny and
+    astronomical values are refused (``sharpzone.limits``); zero is allowed here and range
+    checks belong to the caller.
     """
+    value_mm = _distance_mm(text, default_unit, what)
+    return check_distance_mm(value_mm, text, what)
+
+
+def _distance_mm(text: str | float | int, default_unit: str, what: str) -> float:
     if isinstance(text, (int, float)):
         value_mm = float(text) * _DISTANCE_UNITS_MM[default_unit]
-        return _checked(value_mm, text, what)
+        if math.isinf(value_mm) and math.isfinite(text):  # so large it overflowed
+            raise too_far(text, what)
+        return value_mm
     raw = str(text).strip()
     if raw.lower() in _INFINITY_WORDS:
         return math.inf
     feet_inches = _FEET_AND_INCHES.match(raw.lower())
     if feet_inches:
-        value_mm = float(feet_inches.group(1)) * MM_PER_FOOT + float(feet_inches.group(2)) * MM_PER_INCH
-        return _checked(value_mm, text, what)
+        return float(feet_inches.group(1)) * MM_PER_FOOT + float(feet_inches.group(2)) * MM_PER_INCH
     match = _NUMBER_WITH_UNIT.match(raw)
     if not match:
-        raise InvalidValue(f"{what} {text!r} is not a distance: expected {DISTANCE_HELP}")
+        raise InvalidValue(what=what, value=text, problem="is not a distance", expected=DISTANCE_HELP)
     number, unit = float(match.group(1)), match.group(2).lower() or default_unit
     if unit not in _DISTANCE_UNITS_MM:
         known = ", ".join(u for u in _DISTANCE_UNITS_MM if u.isalpha())
-        raise InvalidValue(f"{what} {text!r} has an unknown unit {unit!r}: expected one of {known}")
-    return _checked(number * _DISTANCE_UNITS_MM[unit], text, what)
-
-
-def _checked(value_mm: float, original: object, what: str) -> float:
-    if math.isnan(value_mm) or value_mm < 0:
-        raise InvalidValue(f"{what} {original!r} must not be negative")
+        raise InvalidValue(what=what, value=text, problem=f"has an unknown unit {unit!r}", expected=f"one of {known}")
+    value_mm = number * _DISTANCE_UNITS_MM[unit]
+    if math.isinf(value_mm):  # a number so large it overflowed: not a way to write infinity
+        raise too_far(text, what)
     return value_mm
 
 
 def parse_length_mm(text: str | float | int, *, what: str = "length") -> float:
     """Parse a small optical length (focal length, CoC, pixel pitch): a bare number is mm."""
     try:
-        return parse_distance(text, default_unit="mm", what=what)
+        value_mm = _distance_mm(text, "mm", what)
     except InvalidValue as error:
-        if "is not a distance" in error.message:
-            raise InvalidValue(f"{what} {text!r} is not a length: expected millimetres such as 50 or 0.03mm") from None
+        if error.problem == "is not a distance":
+            raise InvalidValue(what=what, value=text, problem="is not a length",
+                               expected="millimetres such as 50 or 0.03mm") from None
         raise
+    return check_length_mm(value_mm, text, what)
 
 
 def format_distance(value_mm: float | None, *, imperial: bool = False, digits: int = 3) -> str:
@@ -96,20 +103,41 @@ def format_distance(value_mm: float | None, *, imperial: bool = False, digits: i
     return f"{_significant(value_mm / 1000, digits)} m"
 
 
+# Imperial in one style: below 10 ft, feet and inches to the nearest half inch (``5 ft``,
+# ``5 ft 6½ in``, ``8½ in``); from 10 ft, feet with one decimal (``20.0 ft``); from 100 ft
+# whole feet, from a mile miles to three figures. Below an inch (a close-up's depth),
+# hundredths of an inch. ``digits`` above 3 (a shallow zone's near and far limits) gives
+# the inches that many more decimals instead of half inches.
+FEET_AND_INCHES_BELOW_FT = 10
+FEET_PER_MILE = 5280
+
+
 def _format_imperial(value_mm: float, digits: int) -> str:
     inches = value_mm / MM_PER_INCH
-    if inches < 12:
-        return f"{_significant(inches, digits)} in"
+    if inches < 1:
+        return f"{_significant(inches, max(2, digits - 1))} in"
+    extra = max(0, digits - 3)
+    total = round(inches, extra) if extra else round(inches * 2) / 2
+    if total < 12 * FEET_AND_INCHES_BELOW_FT:
+        feet, rest = divmod(total, 12)
+        rest_text = _inches_text(rest, extra)
+        if feet == 0:
+            return f"{rest_text} in"
+        return f"{feet:.0f} ft" if rest == 0 else f"{feet:.0f} ft {rest_text} in"
     feet = inches / 12
-    if feet < 10:
-        whole_feet = int(feet)
-        rest_inches = round(inches - whole_feet * 12, 1)
-        if rest_inches >= 12:
-            whole_feet, rest_inches = whole_feet + 1, 0.0
-        return f"{whole_feet} ft {rest_inches:g} in"
-    if feet >= 5280 * 10:
-        return f"{_significant(feet / 5280, digits)} mi"
-    return f"{_significant(feet, digits)} ft"
+    if round(feet, 1) < 100:
+        return f"{feet:.1f} ft"
+    if feet < FEET_PER_MILE:
+        return f"{feet:.0f} ft"
+    return f"{_significant(feet / FEET_PER_MILE, digits)} mi"
+
+
+def _inches_text(inches: float, decimals: int) -> str:
+    """Inches with ``decimals`` places, or whole and half inches (``6``, ``6½``) when 0."""
+    if decimals:
+        return f"{inches:.{decimals}f}"
+    whole = int(inches)
+    return f"{whole}½" if inches - whole >= 0.25 else f"{whole}"
 
 
 def format_length_mm(value_mm: float | None, *, digits: int = 3) -> str:
@@ -156,7 +184,7 @@ def parse_f_number(text: str | float | int, *, what: str = "f-number") -> float:
         return float(text)
     match = _F_NUMBER.match(str(text))
     if not match:
-        raise InvalidValue(f"{what} {text!r} is not an f-number: expected a number such as 8, f8 or f/5.6")
+        raise InvalidValue(what=what, value=text, problem="is not an f-number", expected="a number such as 8, f8 or f/5.6")
     return float(match.group(1))
 
 

@@ -68,7 +68,7 @@ def test_lens_add_show_and_json_units(cli):
         "max_aperture_tele": 5.6, "min_aperture": 22.0, "close_focus_m": 0.45, "pupil_magnification": 1.0,
         "exif_names": ["ALT 24-105mm"], "confirmed": True,
     }
-    assert "1 ft 5.7 in" in cli("lens", "show", "Altamira 24-105", "--imperial").stdout
+    assert "1 ft 5½ in" in cli("lens", "show", "Altamira 24-105", "--imperial").stdout
 
 
 def test_lens_edit_alias_and_remove(cli):
@@ -86,9 +86,11 @@ def test_lens_edit_alias_and_remove(cli):
 @pytest.mark.parametrize(
     ("args", "code", "words"),
     [
-        (("lens", "add", "Bad", "--focal", "70-24", "--aperture", "2.8"), 2, "longest focal length 24 mm is shorter"),
+        (("lens", "add", "Bad", "--focal", "70-24", "--aperture", "2.8"), 2, "--focal: '70-24' runs backwards: expected the smaller number first (did you mean 24-70?)"),
         (("lens", "add", "Bad", "--focal", "50", "--aperture", "2.8", "--min-aperture", "2"), 2, "minimum aperture f/2 is wider"),
-        (("lens", "add", "Bad", "--focal", "fifty", "--aperture", "2.8"), 2, "--focal: value 'fifty'"),
+        (("lens", "add", "Bad", "--focal", "fifty", "--aperture", "2.8"), 2, "--focal: 'fifty' is not a length"),
+        (("lens", "add", "Bad", "--focal", "50", "--aperture", "1.4", "--close-focus", "45"), 2, "(did you mean 45 cm?)"),
+        (("lens", "add", "Bad", "--focal", "24-70", "--aperture", "5.6-1.4"), 2, "(did you mean 1.4-5.6?)"),
         (("lens", "add", "Bad", "--focal", "50"), 2, "lens add needs --focal"),
         (("lens", "add", "Bad", "--focal", "50", "--aperture", "2", "--close-focus", "-1m"), 2, "--close-focus"),
         (("lens", "add", "Bad", "--focal", "50", "--aperture", "2", "--min-aperture", "0"), 2, "minimum aperture (f-number) 0.0 must be"),
@@ -99,7 +101,7 @@ def test_lens_edit_alias_and_remove(cli):
         (("body", "add", "K1", "--make", "Korvath", "--model", "K1", "--format", "36x24", "--pixels", "big"), 2, "--pixels: 'big'"),
         (("shoot", "add", "S", "--near", "9m", "--far", "4m"), 2, "far limit 4.00 m must be beyond the near limit 9.00 m"),
         (("shoot", "add", "S", "--near", "4m", "--far", "9m", "--front", "1m", "--back", "1m"), 2, "not both"),
-        (("shoot", "add", "S", "--near", "four metres", "--far", "9m"), 2, "--near: value 'four metres' is not a distance"),
+        (("shoot", "add", "S", "--near", "four metres", "--far", "9m"), 2, "--near: 'four metres' is not a distance"),
         (("shoot", "add", "S", "--coc-policy", "crisp"), 2, "CoC policy 'crisp' is not valid"),
         (("lens", "show", "Nope"), 1, "no lens named 'Nope'"),
         (("catalog", "import", "missing.json"), 2, "bundle missing.json does not exist"),

@@ -110,7 +110,7 @@ def test_fixed_coc_and_lens_reference_reach_the_sheet(catalog_path, tmp_path):
         (("Korvath 50/1.8", "--out", "sheet.csv", "--focal", "85"), 2, "focal length 85 mm is outside"),
         (("Korvath 50/1.8", "--out", "sheet.csv", "--stops", "quarter"), 2, "--stops: 'quarter' is not valid"),
         (("Korvath 50/1.8", "--out", "sheet.csv", "-d", "20cm"), 2, "nearer than the close-focus distance"),
-        (("Korvath 50/1.8", "--out", "sheet.csv", "-d", "far"), 2, "--distances: value 'far' is not a distance"),
+        (("Korvath 50/1.8", "--out", "sheet.csv", "-d", "far"), 2, "--distances: 'far' is not a distance"),
         (("Korvath 50/1.8", "--out", "sheet.csv", "--body", "Korvath KX-2", "--sensor", "36x24"), 2,
          "either --body or --sensor"),
         (("Korvath 50/1.8", "--out", "sheet.csv", "--sensor", "nosuch"), 1, "no sensor format 'nosuch'"),

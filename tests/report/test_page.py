@@ -285,8 +285,9 @@ def test_imperial_page_with_a_title_of_its_own(shoot, tmp_path):
     # "flagged" is the frames judged and missed; a frame that cannot be judged is not one.
     assert len(parsed.frames) == sum(1 for flags in EXPECTED.values() if flags and flags != ["distance-unknown"])
     assert "<title>Quay &lt;misses&gt; — sharp-zone report</title>" in text
-    # 2.5 m and 4 m are 8 ft 2.4 in and 13.1 ft (1 ft = 304.8 mm exactly, NIST SP 811)
-    assert "needed 8 ft 2.4 in – 13.1 ft" in text and " m · " not in text
+    # 2.5 m and 4 m are 8 ft 2.4 in (to the nearest half inch, 8 ft 2½ in) and 13.1 ft
+    # (1 ft = 304.8 mm exactly, NIST SP 811)
+    assert "needed 8 ft 2½ in – 13.1 ft" in text and " m · " not in text
 
 
 @pytest.mark.parametrize(("args", "message"), [

@@ -21,6 +21,14 @@ app = typer.Typer(
 )
 
 
+def _show_version(value: bool) -> None:
+    if value:
+        from importlib.metadata import version
+
+        typer.echo(f"sharpzone {version('sharpzone')}")
+        raise typer.Exit(0)
+
+
 @app.callback()
 def main(
     ctx: typer.Context,
@@ -35,6 +43,8 @@ def main(
         ),
     ] = None,
     debug: Annotated[bool, typer.Option("--debug", help="Show a traceback when something fails.")] = False,
+    version: Annotated[Optional[bool], typer.Option("--version", is_eager=True, callback=_show_version,
+                                                    help="Print sharpzone's version and exit.")] = None,
 ) -> None:
     """Which frames of a shoot held the subject sharp, why not, and what would have worked."""
     ctx.obj = CliState(catalog=catalog, debug=debug)

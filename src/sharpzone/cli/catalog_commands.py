@@ -12,7 +12,7 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.options import ImperialOpt, distance_option, f_number_option, length_option
+from sharpzone.cli.options import ImperialOpt, WideOpt, distance_option, f_number_option, length_option
 from sharpzone.cli.state import catalog_session, echo_json
 from sharpzone.errors import InvalidValue
 from sharpzone.units import DISTANCE_HELP
@@ -34,7 +34,9 @@ def register(app: typer.Typer) -> None:
 
 
 def _say(text: str) -> None:
-    typer.echo(text)
+    from sharpzone.report.inert import inert
+
+    typer.echo(inert(text))
 
 
 @dataclass(frozen=True)
@@ -83,7 +85,7 @@ def _show(row, noun: str, *, as_json: bool = False, imperial: bool = False, titl
         catalog_tables.render_record(row, fields, title=title or f"{noun.capitalize()} {row.name}", imperial=imperial)
 
 
-def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool) -> None:
+def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool, wide: bool = False) -> None:
     from sharpzone.catalog import service
     from sharpzone.report import catalog_tables
 
@@ -94,7 +96,7 @@ def _run_list(ctx: typer.Context, noun: str, as_json: bool, imperial: bool) -> N
     if as_json:
         echo_json([catalog_tables.row_json(row, fields) for row in rows])
     else:
-        catalog_tables.render_rows(rows, fields, title=spec.plural_title, empty=spec.empty, imperial=imperial)
+        catalog_tables.render_rows(rows, fields, title=spec.plural_title, empty=spec.empty, imperial=imperial, wide=wide)
 
 
 def _run_show(ctx: typer.Context, noun: str, name: str, as_json: bool, imperial: bool) -> None:
@@ -110,8 +112,9 @@ def _add_list_and_show(group: typer.Typer, noun: str) -> None:
     spec = _NOUNS[noun]
 
     if spec.has_distances:
-        def list_command(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False) -> None:
-            _run_list(ctx, noun, json, imperial)
+        def list_command(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False,
+                         wide: WideOpt = False) -> None:
+            _run_list(ctx, noun, json, imperial, wide)
 
         def show_command(
             ctx: typer.Context, name: str = typer.Argument(help=spec.argument_help), json: JsonOpt = False,
@@ -119,8 +122,8 @@ def _add_list_and_show(group: typer.Typer, noun: str) -> None:
         ) -> None:
             _run_show(ctx, noun, name, json, imperial)
     else:
-        def list_command(ctx: typer.Context, json: JsonOpt = False) -> None:
-            _run_list(ctx, noun, json, False)
+        def list_command(ctx: typer.Context, json: JsonOpt = False, wide: WideOpt = False) -> None:
+            _run_list(ctx, noun, json, False, wide)
 
         def show_command(ctx: typer.Context, name: str = typer.Argument(help=spec.argument_help), json: JsonOpt = False) -> None:
             _run_show(ctx, noun, name, json, False)
@@ -144,9 +147,13 @@ def _range_option(value: str, option: str, parse) -> tuple[float, float]:
     """``24-70`` → (24, 70); ``50`` → (50, 50); each end parsed by ``parse(text, option)``."""
     match = _RANGE.match(value)
     if not match:
-        raise InvalidValue(f"{option}: {value!r} is not valid: expected one value or two joined by '-'")
+        raise InvalidValue(option=option, what="value", value=value, expected="one value or two joined by '-'")
     low = parse(match.group(1), option)
     high = parse(match.group(2), option) if match.group(2) else low
+    if high < low:
+        raise InvalidValue(option=option, what="value", value=value, problem="runs backwards",
+                           expected="the smaller number first",
+                           hint=f"did you mean {match.group(2)}-{match.group(1)}?")
     return low, high
 
 
@@ -165,7 +172,7 @@ def _number_option(value: str | None, option: str) -> float | None:
     try:
         return float(value)
     except ValueError:
-        raise InvalidValue(f"--{option}: {value!r} is not a number") from None
+        raise InvalidValue(option=f"--{option}", what="value", value=value, problem="is not a number") from None
 
 
 def _maybe(parse, value: str | None, option: str):

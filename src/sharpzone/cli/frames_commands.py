@@ -10,6 +10,7 @@ import typer
 from sharpzone.cli.options import (
     ImperialOpt,
     JsonOpt,
+    WideOpt,
     date_option,
     optional_distance,
     optional_f_number,
@@ -36,6 +37,7 @@ FarOpt = Annotated[Text, typer.Option("--far", help="Required range ends here (a
 FrontOpt = Annotated[Text, typer.Option("--front", help="Required depth in front of each frame's focus point.")]
 BackOpt = Annotated[Text, typer.Option("--back", help="Required depth behind each frame's focus point.")]
 CsvOpt = Annotated[bool, typer.Option("--csv", help="Print CSV instead of a table.")]
+AllOpt = Annotated[bool, typer.Option("--all", help="Detail every flagged frame (default: the worst 20, after the summary).")]
 
 
 def register(app: typer.Typer) -> None:
@@ -70,6 +72,7 @@ def frames(
     focal_min: FocalMinOpt = None, focal_max: FocalMaxOpt = None, verdict: VerdictOpt = None,
     coc_policy: CocPolicyOpt = None, near: NearOpt = None, far: FarOpt = None, front: FrontOpt = None,
     back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, csv: CsvOpt = False,
+    wide: WideOpt = False,
 ) -> None:
     """Every frame's sharp zone: near and far limits, hyperfocal distance, CoC used."""
     from sharpzone.analysis.frames import frames_with_zones
@@ -85,7 +88,7 @@ def frames(
     elif csv:
         typer.echo(frames_render.frames_csv(result.frames), nl=False)
     else:
-        frames_render.render_frames(result.frames, imperial=imperial)
+        frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
 
 
 def check(
@@ -93,7 +96,8 @@ def check(
     date_from: FromOpt = None, date_to: ToOpt = None, f_min: FMinOpt = None, f_max: FMaxOpt = None,
     focal_min: FocalMinOpt = None, focal_max: FocalMaxOpt = None, verdict: VerdictOpt = None,
     coc_policy: CocPolicyOpt = None, near: NearOpt = None, far: FarOpt = None, front: FrontOpt = None,
-    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False,
+    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, wide: WideOpt = False,
+    all_frames: AllOpt = False,
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
     from sharpzone.analysis.frames import check_shoot
@@ -107,7 +111,7 @@ def check(
     if json:
         echo_json(frames_render.rows_json(result.frames, frames_render.check_json))
     else:
-        frames_render.render_check(result, imperial=imperial)
+        frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
 
 
 def stats(
@@ -115,7 +119,7 @@ def stats(
     date_from: FromOpt = None, date_to: ToOpt = None, f_min: FMinOpt = None, f_max: FMaxOpt = None,
     focal_min: FocalMinOpt = None, focal_max: FocalMaxOpt = None, coc_policy: CocPolicyOpt = None,
     near: NearOpt = None, far: FarOpt = None, front: FrontOpt = None, back: BackOpt = None,
-    imperial: ImperialOpt = False, json: JsonOpt = False,
+    imperial: ImperialOpt = False, json: JsonOpt = False, wide: WideOpt = False,
 ) -> None:
     """Per lens and body: frames, f-numbers used, share flagged, typical focus distances."""
     from sharpzone.analysis.stats import shoot_stats
@@ -128,4 +132,4 @@ def stats(
     if json:
         echo_json(frames_render.stats_json(result))
     else:
-        frames_render.render_stats(result, imperial=imperial)
+        frames_render.render_stats(result, imperial=imperial, wide=wide)

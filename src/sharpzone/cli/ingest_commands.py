@@ -25,7 +25,7 @@ def ingest(
     strict: Annotated[bool, typer.Option("--strict", help="Exit with 1 if any file could not be read.")] = False,
     json: Annotated[bool, typer.Option("--json", help="Print the JSON summary (the machine interface) instead of a table.")] = False,
 ) -> None:
-    """Read the EXIF of every image under PATHS into the catalogue: new and changed files are
+    """Read the EXIF of every image under each PATH into the catalogue: new and changed files are
     read, unchanged ones skipped, damaged ones reported and skipped."""
     from sharpzone.catalog.engine import open_catalog
     from sharpzone.ingest.pipeline import ingest_paths

@@ -14,7 +14,9 @@ PROG = "sharpzone"
 
 
 def _say_error(message: str) -> None:
-    typer.echo(f"{PROG}: error: {message}", err=True)
+    from sharpzone.report.inert import inert
+
+    typer.echo(f"{PROG}: error: {inert(message, newlines=False)}", err=True)
 
 
 def _one_line(text: str) -> str:
@@ -55,6 +57,12 @@ class SharpzoneGroup(TyperGroup):
     is shown only with ``--debug``. A closed pipe (``| head``) is quiet.
     """
 
+    def __init__(self, *args, **kwargs) -> None:
+        super().__init__(*args, **kwargs)
+        from sharpzone.cli.help import polish
+
+        polish(self)
+
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):  # noqa: D102
         argv = list(sys.argv[1:] if args is None else args)
         debug = "--debug" in argv
@@ -66,11 +74,16 @@ class SharpzoneGroup(TyperGroup):
         except (typer.Abort, KeyboardInterrupt):
             code = 130
         except typer.TyperException as error:
-            # Usage errors (unknown option, missing value, bad type) carry exit code 2.
-            context = getattr(error, "ctx", None)
-            where = f"{context.command_path}: " if context is not None else ""
-            _say_error(where + _one_line(error.format_message()))
-            code = error.exit_code
+            # Usage errors (unknown option, missing value, bad type) carry exit code 2; they
+            # are said in our words, naming the option, the value and what was expected.
+            from sharpzone.cli.help import usage_error
+
+            if type(error).__name__ == "NoArgsIsHelpError":  # a group given no command: its help
+                typer.echo(error.format_message())
+                code = 0
+            else:
+                _say_error(_one_line(str(usage_error(error, argv))))
+                code = getattr(error, "exit_code", 2)
         except Interrupted as error:
             # Ctrl-C or SIGTERM during a long run: what was kept and how to finish, one line.
             typer.echo(f"{PROG}: {_one_line(error)}", err=True)

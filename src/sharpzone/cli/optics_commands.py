@@ -19,6 +19,8 @@ from sharpzone.cli.options import (
     length_option,
 )
 from sharpzone.cli.state import catalog_location, echo_json
+from sharpzone.errors import InvalidValue
+from sharpzone.limits import OVERLAP_HELP, check_overlap
 from sharpzone.units import DISTANCE_HELP
 
 PupilOpt = Annotated[float, typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter); 1 for a symmetric lens.")]
@@ -74,7 +76,7 @@ def stack(
     aperture: ApertureOpt,
     near: Annotated[str, typer.Option("--near", help=f"Nearest point that must be sharp: {DISTANCE_HELP}.")],
     far: Annotated[str, typer.Option("--far", help=f"Farthest point that must be sharp: {DISTANCE_HELP}.")],
-    overlap: Annotated[float, typer.Option("--overlap", help="Share of each frame's depth that neighbouring frames repeat (0 to 0.9).")] = 0.1,
+    overlap: Annotated[float, typer.Option("--overlap", help=f"Share of each frame's depth that neighbouring frames repeat ({OVERLAP_HELP}).")] = 0.1,
     sensor: SensorOpt = None,
     coc: CocOpt = None,
     coc_policy: CocPolicyOpt = None,
@@ -87,6 +89,10 @@ def stack(
     from sharpzone.analysis.setting import format_lookup, plan_stack
 
     coc_mm, reference = _common(coc, reference)
+    try:
+        check_overlap(overlap)
+    except InvalidValue as error:
+        raise error.with_option("--overlap") from None
     report = plan_stack(
         length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
         distance_option(near, "--near"), distance_option(far, "--far"), sensor=sensor, coc_mm=coc_mm,

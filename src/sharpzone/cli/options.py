@@ -31,10 +31,12 @@ CocPolicyOpt = Annotated[Optional[str], typer.Option("--coc-policy", help=_sente
 ReferenceOpt = Annotated[str, typer.Option("--reference", help=_sentence(REFERENCE_HELP))]
 ImperialOpt = Annotated[bool, typer.Option("--imperial", help="Show distances in feet and inches.")]
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (the machine interface) instead of a table.")]
+WideOpt = Annotated[bool, typer.Option("--wide", help="Show every column, however wide the table gets (default: "
+                                       "minor columns give way to fit the terminal).")]
 
 
 def _named(option: str, error: InvalidValue) -> InvalidValue:
-    return InvalidValue(f"{option}: {error.message}", error.hint)
+    return error.with_option(option)
 
 
 def distance_option(value: str, option: str) -> float:
@@ -66,7 +68,7 @@ def choice_option(value: str, option: str, choices: tuple[str, ...]) -> str:
     lowered = value.strip().lower()
     if lowered not in choices:
         expected = ", ".join(repr(c) for c in choices)
-        raise InvalidValue(f"{option}: {value!r} is not valid: expected one of {expected}")
+        raise InvalidValue(option=option, what="value", value=value, expected=f"one of {expected}")
     return lowered
 
 
@@ -79,7 +81,8 @@ def date_option(value: str | None, option: str):
     try:
         return dt.date.fromisoformat(value.strip())
     except ValueError:
-        raise InvalidValue(f"{option}: {value!r} is not a date: expected YYYY-MM-DD") from None
+        raise InvalidValue(option=option, what="value", value=value, problem="is not a date",
+                           expected="YYYY-MM-DD") from None
 
 
 def optional_distance(value: str | None, option: str) -> float | None:

@@ -18,6 +18,7 @@ from sharpzone.cli.options import (
 )
 from sharpzone.cli.state import catalog_session
 from sharpzone.errors import InvalidValue
+from sharpzone.report.inert import inert
 from sharpzone.units import DISTANCE_HELP
 
 STOP_SCALES = ("full", "half", "third")
@@ -61,7 +62,7 @@ def sheet(
     try:
         sheet_form(out)
     except InvalidValue as error:
-        raise InvalidValue(f"--out: {error.message}") from None
+        raise error.with_option("--out") from None
     focal_lengths = [length_option(value, "--focal") for value in _listed(focal)]
     focus_distances = [distance_option(value, "--distances") for value in _listed(distances)]
     with catalog_session(ctx) as session:
@@ -74,5 +75,5 @@ def sheet(
         )
     written = write_sheet(result, out, imperial=imperial)
     focal_count = len(result.tables)
-    typer.echo(f"wrote the sheet of {result.lens.name} ({focal_count} focal length{'s' if focal_count > 1 else ''}) "
-               f"to {written}")
+    typer.echo(inert(f"wrote the sheet of {result.lens.name} ({focal_count} focal length{'s' if focal_count > 1 else ''}) "
+               f"to {written}"))

@@ -42,6 +42,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from sharpzone.errors import InvalidValue
+from sharpzone.limits import check_overlap
 from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_array
 from sharpzone.optics.dof import (
     Reference,
@@ -362,8 +363,7 @@ def plan_focus_stack(
 def _stack_progression(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference, pupil, overlap):
     """Frame counts and the progression (f, N, c, P, m_0, m*, r) of the stack (module doc)."""
     check_reference(reference)
-    if not (0 <= overlap < 1):
-        raise InvalidValue(f"stack overlap {overlap!r} is not valid: expected a fraction from 0 to below 1")
+    check_overlap(overlap)
     f, n, c, p = validate_lens_inputs(focal_mm, f_number, coc_mm, pupil)
     a, b = _check_range(near_target_mm, far_target_mm, f, reference)
     f, n, c, p, a, b = (np.array(x, dtype=np.float64) for x in np.broadcast_arrays(f, n, c, p, a, b))

@@ -1,5 +1,8 @@
 """Catalogue nouns for people (rich tables) and for scripts (JSON objects).
 
+A list fits the terminal (``report.console.fit_table``): each field has a priority (0 is
+always shown) and text fields may wrap; ``--wide`` shows every column.
+
 Each noun has one list of ``Field``s: the label and text (with units) people see, and the
 JSON keys and values scripts get (metres or millimetres as the key says, infinity as
 "inf", unknown as null). A list shows the fields marked ``in_list``; ``show`` all of them.
@@ -14,7 +17,7 @@ from typing import Any
 from rich.console import Console
 from rich.table import Table
 
-from sharpzone.report.console import stdout_console
+from sharpzone.report.console import Column, fit_table, print_fitted, stdout_console
 from sharpzone.report.jsonout import metres
 from sharpzone.units import format_distance, format_f_number, format_length_mm
 
@@ -28,10 +31,13 @@ class Field:
     text: Callable[[Any, bool], str]
     json: Callable[[Any], dict]
     in_list: bool = True
+    priority: int = 0  # in a list too wide for the terminal, the highest numbers go first
+    wrap: bool = False  # text that may wrap at spaces (numbers never do)
 
 
-def _plain(attribute: str, label: str, *, in_list: bool = True) -> Field:
-    return Field(label, lambda row, _: _or_dash(getattr(row, attribute)), lambda row: {attribute: getattr(row, attribute)}, in_list)
+def _plain(attribute: str, label: str, *, in_list: bool = True, priority: int = 0, wrap: bool = True) -> Field:
+    return Field(label, lambda row, _: _or_dash(getattr(row, attribute)), lambda row: {attribute: getattr(row, attribute)},
+                 in_list, priority, wrap)
 
 
 def _or_dash(value: Any) -> str:
@@ -55,11 +61,12 @@ FORMAT_FIELDS = [
     Field("Size", lambda r, _: f"{r.width_mm:g} × {r.height_mm:g} mm",
           lambda r: {"width_mm": r.width_mm, "height_mm": r.height_mm}),
     Field("Diagonal", lambda r, _: format_length_mm(r.to_core().diagonal_mm),
-          lambda r: {"diagonal_mm": r.to_core().diagonal_mm}),
+          lambda r: {"diagonal_mm": r.to_core().diagonal_mm}, priority=3),
     Field("Crop factor", lambda r, _: f"{r.to_core().crop_factor:.2f}×", lambda r: {"crop_factor": r.to_core().crop_factor}),
     Field("Default CoC", lambda r, _: f"{format_length_mm(r.to_core().diagonal_mm / r.coc_divisor)} (d/{r.coc_divisor:g})",
           lambda r: {"coc_divisor": r.coc_divisor, "coc_mm": r.to_core().diagonal_mm / r.coc_divisor}),
-    Field("Also called", lambda r, _: ", ".join(r.alias_list) or "—", lambda r: {"aliases": r.alias_list}),
+    Field("Also called", lambda r, _: ", ".join(r.alias_list) or "—", lambda r: {"aliases": r.alias_list}, priority=2,
+          wrap=True),
     _plain("description", "Description", in_list=False),
     _plain("source", "Source", in_list=False),
 ]
@@ -67,15 +74,15 @@ FORMAT_FIELDS = [
 BODY_FIELDS = [
     _plain("name", "Name"),
     Field("EXIF make / model", lambda r, _: f"{r.exif_make} / {r.exif_model}",
-          lambda r: {"exif_make": r.exif_make, "exif_model": r.exif_model}),
-    Field("Serial", lambda r, _: r.serial or "any", lambda r: {"serial": r.serial}),
+          lambda r: {"exif_make": r.exif_make, "exif_model": r.exif_model}, wrap=True),
+    Field("Serial", lambda r, _: r.serial or "any", lambda r: {"serial": r.serial}, priority=3),
     Field("Format", lambda r, _: r.sensor_format.name if r.sensor_format else "unknown (frames not judged)",
-          lambda r: {"format": r.sensor_format.name if r.sensor_format else None}),
+          lambda r: {"format": r.sensor_format.name if r.sensor_format else None}, wrap=True),
     Field("Pixels", lambda r, _: f"{r.pixel_width} × {r.pixel_height} px" if r.pixel_width and r.pixel_height else "—",
-          lambda r: {"pixel_width": r.pixel_width, "pixel_height": r.pixel_height}),
+          lambda r: {"pixel_width": r.pixel_width, "pixel_height": r.pixel_height}, priority=2),
     Field("Pixel pitch", lambda r, _: format_length_mm(r.pixel_pitch_mm), lambda r: {"pixel_pitch_mm": r.pixel_pitch_mm},
           in_list=False),
-    Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}),
+    Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}, priority=1, wrap=True),
 ]
 
 LENS_FIELDS = [
@@ -84,14 +91,15 @@ LENS_FIELDS = [
           lambda r: {"focal_min_mm": r.focal_min_mm, "focal_max_mm": r.focal_max_mm}),
     Field("Widest aperture", lambda r, _: _aperture_range(r.max_aperture_wide, r.max_aperture_tele),
           lambda r: {"max_aperture_wide": r.max_aperture_wide, "max_aperture_tele": r.max_aperture_tele}),
-    Field("Smallest aperture", lambda r, _: format_f_number(r.min_aperture), lambda r: {"min_aperture": r.min_aperture}),
+    Field("Smallest aperture", lambda r, _: format_f_number(r.min_aperture), lambda r: {"min_aperture": r.min_aperture},
+          priority=3),
     Field("Close focus", lambda r, imperial: format_distance(r.close_focus_mm, imperial=imperial),
-          lambda r: {"close_focus_m": metres(r.close_focus_mm)}),
+          lambda r: {"close_focus_m": metres(r.close_focus_mm)}, priority=2),
     Field("Pupil magnification", lambda r, _: f"{r.pupil_magnification:g}", lambda r: {"pupil_magnification": r.pupil_magnification},
           in_list=False),
     Field("EXIF names", lambda r, _: ", ".join(a.exif_name for a in r.aliases) or "—",
-          lambda r: {"exif_names": [a.exif_name for a in r.aliases]}),
-    Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}),
+          lambda r: {"exif_names": [a.exif_name for a in r.aliases]}, priority=4, wrap=True),
+    Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}, priority=1, wrap=True),
 ]
 
 
@@ -119,20 +127,22 @@ def _planned_text(shoot, imperial: bool) -> str:
 
 SHOOT_FIELDS = [
     _plain("name", "Name"),
-    Field("Created (UTC)", lambda r, _: r.created_at.strftime("%Y-%m-%d %H:%M"), lambda r: {"created_at": r.created_at}),
-    Field("Plan", _plan_text, lambda r: {
+    Field("Created (UTC)", lambda r, _: r.created_at.strftime("%Y-%m-%d %H:%M"), lambda r: {"created_at": r.created_at},
+          priority=2),
+    Field("Plan", _plan_text, wrap=True, json=lambda r: {
         "plan_kind": r.plan_kind,
         "plan_near_m": metres(r.plan_near_mm),
         "plan_far_m": metres(r.plan_far_mm),
         "plan_front_m": metres(r.plan_front_mm),
         "plan_back_m": metres(r.plan_back_mm),
     }),
-    Field("Planned setting", _planned_text, lambda r: {
+    Field("Planned setting", _planned_text, priority=1, wrap=True, json=lambda r: {
         "planned_focal_mm": r.planned_focal_mm,
         "planned_f_number": r.planned_f_number,
         "planned_focus_m": metres(r.planned_focus_mm),
     }),
-    Field("CoC policy", lambda r, _: r.coc_policy or "each format's own rule", lambda r: {"coc_policy": r.coc_policy}),
+    Field("CoC policy", lambda r, _: r.coc_policy or "each format's own rule", lambda r: {"coc_policy": r.coc_policy},
+          priority=3, wrap=True),
     _plain("root_folder", "Folder", in_list=False),
     _plain("notes", "Notes", in_list=False),
 ]
@@ -146,20 +156,18 @@ def row_json(row: Any, fields: Iterable[Field]) -> dict:
     return record
 
 
-def render_rows(rows: list, fields: list[Field], *, title: str, empty: str, imperial: bool = False,
+def render_rows(rows: list, fields: list[Field], *, title: str, empty: str, imperial: bool = False, wide: bool = False,
                 console: Console | None = None) -> None:
-    """A table with one row per catalogue row and the ``in_list`` fields as columns."""
+    """A table with one row per catalogue row and the ``in_list`` fields as columns, fitted
+    to the terminal (the fields' priorities say which go first; ``wide`` keeps all)."""
     console = console or stdout_console()
     if not rows:
         console.print(empty)
         return
-    shown = [field for field in fields if field.in_list]
-    table = Table(title=title, title_justify="left")
-    for position, field in enumerate(shown):
-        table.add_column(field.label, no_wrap=position == 0)
-    for row in rows:
-        table.add_row(*(field.text(row, imperial) for field in shown))
-    console.print(table)
+    columns = [Column(field.label, (lambda field: lambda row: field.text(row, imperial))(field),
+                      priority=field.priority, wrap=field.wrap)
+               for field in fields if field.in_list]
+    print_fitted(console, fit_table(columns, rows, console=console, wide=wide, title=title, title_justify="left"))
 
 
 def render_record(row: Any, fields: list[Field], *, title: str, imperial: bool = False,

@@ -1,25 +1,234 @@
-"""Terminal rendering with rich: one-off answers (dof, stack) and shared table helpers."""
+"""Terminal rendering with rich: one-off answers (dof, stack) and shared table helpers.
+
+Two rules hold for everything printed here and in the other renderers:
+
+- **Data is never markup.** The consoles parse no rich markup, and every string they print
+  (cells, titles, messages) goes through ``inert`` first, so a lens called
+  ``Korvath 50mm [/] Art`` or a file ``wedding [final].jpg`` shows as written and an ANSI
+  escape in EXIF text shows as ``\\x1b``. Our own colours are ``styled`` Text objects.
+- **Tables fit the terminal without cutting a number or a name.** ``fit_table`` takes
+  ``Column``s with a priority: when the natural widths do not fit, the columns with the
+  highest priority number go first (0 is never dropped), text columns marked ``wrap`` wrap at
+  spaces, and the caller says which columns were left out (``--wide`` keeps all).
+"""
 
 from __future__ import annotations
 
 import math
+import re
 import sys
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from typing import Any
 
+from rich import box
+from rich.cells import cell_len
 from rich.console import Console
 from rich.table import Table
+from rich.text import Text
 
 from sharpzone.analysis.setting import SettingReport, StackReport
+from sharpzone.report.inert import inert
 from sharpzone.units import format_distance, format_f_number, format_length_mm
+
+
+class SafeConsole(Console):
+    """A console that shows every string as written: no markup, control characters inert."""
+
+    def render_str(self, text: str, **options) -> Text:  # noqa: D102
+        options["markup"] = False
+        return super().render_str(inert(text), **options)
 
 
 def stdout_console() -> Console:
     """A console for results; plain text (no colour codes) when piped."""
-    return Console(file=sys.stdout, highlight=False, soft_wrap=False)
+    return SafeConsole(file=sys.stdout, highlight=False, soft_wrap=False, markup=False)
 
 
 def stderr_console() -> Console:
     """A console for progress and warnings, which must never mix into piped results."""
-    return Console(file=sys.stderr, highlight=False)
+    return SafeConsole(file=sys.stderr, highlight=False, markup=False)
+
+
+def styled(text: object, style: str | None = None) -> Text:
+    """``text`` (ours or data) in ``style``, inert."""
+    return Text(inert(text), style=style or "")
+
+
+def line(*parts: object) -> Text:
+    """One message from pieces: plain strings (data or ours) and ``styled`` Texts."""
+    return Text.assemble(*(part if isinstance(part, Text) else inert(part) for part in parts))
+
+
+# A space between a number and its unit never breaks a line ("41.7 cm", "14 frames").
+_GLUED_SPACE = re.compile(r"(?<=\d) (?=(?:mm|cm|m|km|in|ft|mi|µm|px|s|frames?|×)(?:\W|$))")
+
+
+def _break_points(plain: str) -> list[int]:
+    """Where ``plain`` may break: its spaces, except between a number and its unit."""
+    glued = {match.start() for match in _GLUED_SPACE.finditer(plain)}
+    return [index for index, char in enumerate(plain) if char == " " and index not in glued]
+
+
+def wrap_text(text: str | Text, width: int) -> Text:
+    """``text`` wrapped at spaces into lines of at most ``width`` cells where it can be,
+    never between a number and its unit and never inside a word."""
+    text = text if isinstance(text, Text) else Text(inert(text))
+    pieces: list[Text] = []
+    offset = 0
+    for source_line in text.plain.split("\n"):
+        end_of_line = offset + len(source_line)
+        start = offset
+        last_space = None
+        for space in _break_points(source_line):
+            position = offset + space
+            if cell_len(text.plain[start:position]) > width and last_space is not None:
+                pieces.append(text[start:last_space])
+                start = last_space + 1
+            last_space = position
+        if cell_len(text.plain[start:end_of_line]) > width and last_space is not None and last_space >= start:
+            pieces.append(text[start:last_space])
+            start = last_space + 1
+        pieces.append(text[start:end_of_line])
+        offset = end_of_line + 1
+    return Text("\n").join(pieces)
+
+
+def _words(plain: str) -> list[str]:
+    """``plain``'s unbreakable pieces (see ``_break_points``)."""
+    cuts = [-1, *_break_points(plain), len(plain)]
+    return [plain[a + 1:b] for a, b in zip(cuts, cuts[1:]) if b > a + 1]
+
+
+@dataclass(frozen=True)
+class Column:
+    """One table column: ``cell(row)`` gives its text (a str or a ``styled`` Text; lines
+    joined by newlines stay lines). ``priority`` 0 is never dropped; when the table does not
+    fit, the highest number goes first. ``wrap`` lets text wrap at spaces (numbers and file
+    names never wrap). ``shown(rows)`` can leave the column out for these rows altogether."""
+
+    header: str
+    cell: Callable[[Any], str | Text]
+    justify: str = "left"
+    priority: int = 0
+    wrap: bool = False
+    shown: Callable[[list], bool] | None = None
+
+
+# Every fitted table: a rule under the header, columns one space apart, no outer padding,
+# so 80 columns hold a frame's essentials.
+_TABLE_STYLE = {"box": box.SIMPLE_HEAD, "show_edge": False, "pad_edge": False, "padding": (0, 1), "collapse_padding": True}
+_WRAP_AT_LEAST = 12  # a wrapping column keeps this many cells (or its longest word) before wrapping
+
+
+def _widths(cells: Sequence[str | Text]) -> tuple[int, int]:
+    """(natural width, longest word) of a column's cells."""
+    natural = longest_word = 0
+    for cell in cells:
+        text = cell.plain if isinstance(cell, Text) else inert(cell)
+        for part in text.split("\n"):
+            natural = max(natural, cell_len(part))
+            longest_word = max(longest_word, max((cell_len(word) for word in _words(part)), default=0))
+    return natural, longest_word
+
+
+def _header_lines(header: str, width: int) -> str:
+    """``header`` broken at spaces into lines of at most ``width`` cells (a column of short
+    numbers under a long header stays narrow)."""
+    lines: list[str] = []
+    for word in header.split():
+        if lines and cell_len(lines[-1]) + 1 + cell_len(word) <= width:
+            lines[-1] += " " + word
+        else:
+            lines.append(word)
+    return "\n".join(lines) or header
+
+
+@dataclass
+class FittedTable:
+    """A table that fits, and the headers of the columns left out to make it fit."""
+
+    table: Table
+    dropped: list[str]
+    width: int
+
+    def note(self) -> str | None:
+        """The line to print under the table when columns were left out."""
+        if not self.dropped:
+            return None
+        return f"Not shown at this width: {', '.join(self.dropped)} (--wide shows every column)."
+
+
+def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: bool = False,
+              **table_options) -> FittedTable:
+    """A rich table of ``rows`` that fits ``console``'s width (see ``Column``); with ``wide``
+    every column, as wide as the table needs."""
+    from rich.measure import Measurement
+
+    columns = [column for column in columns if column.shown is None or column.shown(rows)]
+    cells = {id(column): [column.cell(row) for row in rows] for column in columns}
+
+    def build(selection) -> Table:
+        table = Table(**_TABLE_STYLE, **table_options)
+        for column in selection:
+            natural, longest_word = _widths(cells[id(column)])
+            header_word = _widths([column.header])[1]
+            if column.wrap:
+                table.add_column(column.header, justify=column.justify, overflow="fold",
+                                 min_width=max(longest_word, header_word, min(natural, _WRAP_AT_LEAST)))
+            else:
+                width = max(natural, header_word)
+                table.add_column(_header_lines(column.header, width), justify=column.justify, no_wrap=True,
+                                 overflow="fold", min_width=width)
+        for index in range(len(rows)):
+            table.add_row(*(cells[id(column)][index] for column in selection))
+        return table
+
+    def measure(table: Table) -> Measurement:
+        return Measurement.get(console, console.options.update(width=10**6), table)
+
+    kept, dropped = list(columns), []
+    table = build(kept)
+    while not wide and measure(table).minimum > console.width:
+        droppable = [column for column in kept if column.priority > 0]
+        if not droppable:
+            break
+        worst = max(droppable, key=lambda column: (column.priority, kept.index(column)))
+        kept.remove(worst)
+        dropped.append(worst.header)
+        table = build(kept)
+    width = max(console.width, measure(table).maximum) if wide else console.width
+    wrapping = [column for column in kept if column.wrap]
+    if wrapping:
+        # Rich would wrap at any space; wrap these ourselves at the width rich gives them.
+        spare = max(0, width - measure(table).minimum)
+        widths = {}
+        for column in wrapping:
+            natural, _ = _widths(cells[id(column)])
+            minimum = table.columns[kept.index(column)].min_width or natural
+            grant = min(spare, max(0, natural - minimum))
+            widths[id(column)] = minimum + grant
+            spare -= grant
+        for column in wrapping:
+            cells[id(column)] = [wrap_text(cell, widths[id(column)]) for cell in cells[id(column)]]
+        table = build(kept)
+    return FittedTable(table, dropped, width)
+
+
+def print_fitted(console: Console, fitted: FittedTable) -> None:
+    """Print a fitted table (as wide as it needs with ``--wide``) and its note."""
+    if fitted.width > console.width:  # --wide: as wide as the table needs
+        before = console.width
+        console.width = fitted.width
+        try:
+            console.print(fitted.table)
+        finally:
+            console.width = before
+    else:
+        console.print(fitted.table)
+    note = fitted.note()
+    if note:
+        console.print(styled(note, "dim"))
 
 
 def _reference_phrase(reference: str) -> str:
@@ -60,7 +269,7 @@ def render_setting(report: SettingReport, *, imperial: bool = False, console: Co
             table.add_row("Close-up depth (approx.)", dist(report.closeup_total_mm))
     console.print(table)
     for note in report.notes:
-        console.print(f"• {note}")
+        console.print(line("• ", note))
 
 
 def render_stack(report: StackReport, *, imperial: bool = False, console: Console | None = None) -> None:

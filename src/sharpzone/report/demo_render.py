@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from sharpzone.report.console import stdout_console
+from sharpzone.report.console import stdout_console, styled
 from sharpzone.report.frames_render import render_check
 
 if TYPE_CHECKING:
@@ -13,7 +13,7 @@ if TYPE_CHECKING:
 
 def render_demo(result: DemoResult, *, imperial: bool = False) -> None:
     console = stdout_console()
-    console.rule(f"[bold]{result.title}[/]")
+    console.rule(styled(result.title, "bold"))
     for shoot in result.shoots:
         summary = shoot.ingest
         console.print()

@@ -8,12 +8,14 @@ import os
 from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
-from rich.markup import escape
 from rich.table import Table
+from rich.text import Text
 
 from sharpzone.analysis.blur_checks import BLUR_FLAGS, count_problems
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
-from sharpzone.report.console import stdout_console
+from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
+from sharpzone.report.inert import inert
+from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.report.jsonout import metres
 from sharpzone.report.verdicts import blur_size, describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm
@@ -170,68 +172,89 @@ def frames_csv(frames: pd.DataFrame) -> str:
             value = row.get(column)
             if column == "flags":
                 value = ";".join(value)
-            values.append("" if value is None else value)
+            values.append("" if value is None else safe_cell(value))
         writer.writerow(values)
     return buffer.getvalue()
 
 
 def _short_path(path: str) -> str:
-    return os.path.basename(path) or path
+    return inert(os.path.basename(path) or path, newlines=False)
 
 
-def _flags_text(flags: list[str], separator: str = " ") -> str:
-    shown = [f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]" for flag in flags]
-    if not count_problems(flags):
-        shown.insert(0, f"[{PASSED_STYLE}]passed[/]")
-    return separator.join(shown)
+def _flag_style(flag: str) -> str:
+    return FLAG_STYLES.get(flag, "bold")
 
 
-def _micrometres(value_mm: float | None) -> str:
-    """A small length such as the Airy disk in µm (one decimal)."""
-    return "—" if value_mm is None else f"{value_mm * 1000:.1f} µm"
+def _flags_text(flags: list[str], separator: str = " ") -> Text:
+    parts = [styled(flag, _flag_style(flag)) for flag in flags]
+    if not count_problems(flags):  # no verdict, or only good news (sharp-at-focus)
+        parts.insert(0, styled("passed", PASSED_STYLE))
+    return Text(separator).join(parts)
 
 
-def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Console | None = None) -> None:
-    """A table of frames with their sharp zones."""
+def _measured(rows) -> bool:
+    return any(_number(row.get("blur_analysed_long_px")) is not None for row in rows)
+
+
+def _blur_at_focus(row) -> str:
+    return blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc")))
+
+
+def _focal_text(focal_mm: float | None) -> str:
+    """A focal length as lenses mark it: ``35 mm``, ``4.5 mm``."""
+    return "—" if focal_mm is None else f"{focal_mm:.3g} mm"
+
+
+def _closeup(row) -> bool:
+    return (_number(row["magnification"]) or 0) >= CLOSEUP_MAGNIFICATION
+
+
+def _working_f(row) -> str:
+    return format_f_number(_number(row["effective_f_number"])) if _closeup(row) else ""
+
+
+def frame_columns(imperial: bool) -> list[Column]:
+    """The columns of ``sharpzone frames``, most important first. Priority 0 is always
+    shown; at a narrow terminal the highest numbers are dropped first (``--wide`` keeps
+    all). Adding a column is one line here."""
+    def dist(key):
+        return lambda row: format_distance(_number(row[key]), imperial=imperial)
+
+    def zone(end):
+        return lambda row: _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial).split(" – ")[end]
+
+    return [
+        Column("File", lambda row: _short_path(row["path"])),
+        Column("Lens", lambda row: row.get("lens") or "—", wrap=True, priority=3),
+        Column("Focal", lambda row: _focal_text(_number(row["focal_mm"])), "right"),
+        Column("Aperture", lambda row: format_f_number(_number(row["f_number"])), "right"),
+        Column("Focus", lambda row: _focus_with_bracket(row, imperial), "right"),
+        Column("Near", zone(0), "right"),
+        Column("Far", zone(1), "right"),
+        Column("Depth", dist("total_mm"), "right", priority=4),
+        Column("Working f", _working_f, "right", priority=5, shown=lambda rows: any(map(_closeup, rows))),
+        Column("Hyperfocal", dist("hyperfocal_mm"), "right", priority=6),
+        Column("CoC", lambda row: format_length_mm(_number(row["coc_mm"])), "right", priority=7),
+        Column("Airy disk", lambda row: format_length_mm(_number(row["airy_disk_mm"])), "right", priority=8),
+        Column("Blur at focus", _blur_at_focus, "right", priority=2, shown=_measured),
+        Column("Verdict", lambda row: _flags_text(row["flags"], "\n")),
+    ]
+
+
+def render_frames(frames: pd.DataFrame, *, imperial: bool = False, wide: bool = False,
+                  console: Console | None = None) -> None:
+    """A table of frames with their sharp zones, fitted to the terminal (see ``frame_columns``)."""
     console = console or stdout_console()
     if frames.empty:
         console.print("No frames match.")
         return
-    table = Table(title=f"{len(frames)} frames", title_justify="left")
     records = frames.to_dict("records")
-    closeup = any((_number(row["magnification"]) or 0) >= CLOSEUP_MAGNIFICATION for row in records)
-    headers = [("File", "left"), ("Lens", "left"), ("Focal", "right"), ("Aperture", "right"), ("Focus", "right"),
-               ("Near", "right"), ("Far", "right"), ("Depth", "right"), ("Hyperfocal", "right"), ("CoC", "right"),
-               ("Airy disk", "right")]
-    if closeup:
-        headers.append(("Working f", "right"))
-    blurred = any(_number(row.get("blur_analysed_long_px")) is not None for row in records)
-    if blurred:
-        headers.append(("Blur at focus", "right"))
-    for header, justify in (*headers, ("Verdict", "left")):
-        table.add_column(header, justify=justify, no_wrap=header != "Lens", min_width=12 if header == "Lens" else None)
-    for row in records:
-        near, far = _number(row["near_mm"]), _number(row["far_mm"])
-        cells = [
-            _short_path(row["path"]), row.get("lens") or "—",
-            format_length_mm(_number(row["focal_mm"])), format_f_number(_number(row["f_number"])),
-            _focus_text(row, imperial),
-            *_zone_text(near, far, imperial).split(" – "),
-            format_distance(_number(row["total_mm"]), imperial=imperial),
-            format_distance(_number(row["hyperfocal_mm"]), imperial=imperial),
-            format_length_mm(_number(row["coc_mm"])), _micrometres(_number(row["airy_disk_mm"])),
-        ]
-        if closeup:
-            magnification = _number(row["magnification"]) or 0
-            cells.append(format_f_number(_number(row["effective_f_number"]))
-                         if magnification >= CLOSEUP_MAGNIFICATION else "")
-        if blurred:
-            cells.append(blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc"))))
-        table.add_row(*cells, _flags_text(row["flags"], "\n"))
-    console.print(table)
+    fitted = fit_table(frame_columns(imperial), records, console=console, wide=wide,
+                       title=f"{len(frames)} frames", title_justify="left")
+    print_fitted(console, fitted)
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
-    if blurred:
-        console.print(BLUR_CAUTION, style="dim")
+    if _measured(records):
+        console.print(styled(BLUR_CAUTION, "dim"))
 
 
 # Shown wherever measured blur is: what it is and what it is not.
@@ -239,7 +262,7 @@ BLUR_CAUTION = ("Blur is an estimate from a small preview (edge re-blur method o
                 "you decide what to reject — nothing is deleted or written to an image file.")
 
 
-def _focus_text(row, imperial: bool) -> str:
+def _focus_with_bracket(row, imperial: bool) -> str:
     """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"."""
     focus = _number(row["focus_mm"])
     text = format_distance(focus, imperial=imperial)
@@ -282,8 +305,47 @@ def _plans_line(frames: pd.DataFrame, imperial: bool) -> str:
     return "; ".join(plans)
 
 
-def render_check(result: CheckResult, *, imperial: bool = False, console: Console | None = None) -> None:
-    """Summary per verdict and per lens, then each flagged frame with its remedies."""
+# How many flagged frames ``check`` details unless ``--all`` is given: the worst first.
+CHECK_DETAIL_ROWS = 20
+
+
+def _severity(flags: list[str]) -> tuple[int, int]:
+    """Sort key, worst first: the most serious verdict (the order of ``FLAG_STYLES``; codes
+    it does not list come after), then more verdicts before fewer."""
+    order = list(FLAG_STYLES)
+    ranks = [order.index(flag) if flag in order else len(order) for flag in flags]
+    return (min(ranks, default=len(order)), -len(flags))
+
+
+def _setting_text(row, imperial: bool) -> str:
+    return (f"{_focal_text(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))}\n"
+            f"focus {_focus_with_bracket(row, imperial)}")
+
+
+def _zone_lines(row, imperial: bool) -> str:
+    near, far = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial).split(" – ")
+    return f"{near} –\n{far}"
+
+
+def _remedies_text(row, imperial: bool) -> Text:
+    return Text("\n").join(line(styled(flag, _flag_style(flag)), ": ", describe_flag(flag, row, imperial=imperial))
+                           for flag in row["flags"])
+
+
+def check_columns(imperial: bool) -> list[Column]:
+    """The columns of ``check``'s flagged frames (one line each to add a column)."""
+    return [
+        Column("File", lambda row: _short_path(row["path"])),
+        Column("Setting", lambda row: _setting_text(row, imperial)),
+        Column("Sharp zone", lambda row: _zone_lines(row, imperial), priority=2),
+        Column("Verdict and remedy", lambda row: _remedies_text(row, imperial), wrap=True),
+    ]
+
+
+def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool = False, wide: bool = False,
+                 console: Console | None = None) -> None:
+    """Summary per verdict and per lens, then the flagged frames, worst first, with their
+    remedies (the ``CHECK_DETAIL_ROWS`` worst unless ``show_all``)."""
     console = console or stdout_console()
     frames = result.frames
     if frames.empty:
@@ -292,82 +354,89 @@ def render_check(result: CheckResult, *, imperial: bool = False, console: Consol
     summary = result.summary_by_verdict()
     against = (result.requirement.describe(imperial) if result.requirement
                else f"the plan ({_plans_line(frames, imperial)})")
-    heading = (f"Checked {summary['frames']} frames against {against}: "
-               f"[{PASSED_STYLE}]{summary['passed']} passed[/], {summary['flagged']} flagged")
+    counts = f", {summary['flagged']} flagged"
     if summary["uncertain"]:
-        heading += f", {summary['uncertain']} uncertain (distance known only as a bracket)"
+        counts += f", {summary['uncertain']} uncertain (distance known only as a bracket)"
     if summary["unjudged"]:
-        heading += f", {summary['unjudged']} not judged"
-    console.print(heading)
-    console.print(_policy_line(frames) + " Distances from the sensor plane.", style="dim")
-    verdicts = Table(title="By verdict", title_justify="left")
-    verdicts.add_column("Verdict")
-    verdicts.add_column("Frames", justify="right")
-    for flag, count in summary.items():
-        if flag not in ("frames", "passed", "flagged", "uncertain", "unjudged"):
-            verdicts.add_row(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]", str(count))
-    if len(verdicts.rows):
-        console.print(verdicts)
-    lenses = Table(title="By lens", title_justify="left")
-    for header in ("Lens", "Frames", "Flagged", "Uncertain", "Not judged", "Share flagged"):
-        lenses.add_column(header, justify="left" if header == "Lens" else "right")
-    for item in result.summary_by_lens():
-        share = "—" if item["share_flagged"] is None else f"{item['share_flagged']:.0%}"
-        lenses.add_row(item["lens"], str(item["frames"]), str(item["flagged"]), str(item["uncertain"]),
-                       str(item["unjudged"]), share)
-    console.print(lenses)
-    console.print("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", style="dim")
-    flagged = result.noted
+        counts += f", {summary['unjudged']} not judged"
+    console.print(wrap_text(line(f"Checked {summary['frames']} frames against ", against, ": ",
+                                 styled(f"{summary['passed']} passed", PASSED_STYLE), counts),
+                            console.width))
+    console.print(styled(_policy_line(frames) + " Distances from the sensor plane.", "dim"))
+    verdict_rows = [(flag, count) for flag, count in summary.items()
+                    if flag not in ("frames", "passed", "flagged", "uncertain", "unjudged")]
+    if verdict_rows:
+        console.print()
+        print_fitted(console, fit_table([
+            Column("Verdict", lambda item: styled(item[0], _flag_style(item[0]))),
+            Column("Frames", lambda item: str(item[1]), "right"),
+        ], verdict_rows, console=console, wide=wide, title="By verdict", title_justify="left"))
+    console.print()
+    print_fitted(console, fit_table([
+        Column("Lens", lambda item: item["lens"], wrap=True),
+        Column("Frames", lambda item: str(item["frames"]), "right"),
+        Column("Flagged", lambda item: str(item["flagged"]), "right"),
+        Column("Uncertain", lambda item: str(item["uncertain"]), "right", priority=2),
+        Column("Not judged", lambda item: str(item["unjudged"]), "right", priority=1),
+        Column("Share", lambda item: "—" if item["share_flagged"] is None else f"{item['share_flagged']:.0%}", "right"),
+    ], result.summary_by_lens(), console=console, wide=wide, title="By lens", title_justify="left"))
+    console.print(styled("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", "dim"))
+    # Every frame that did not simply pass: flagged, uncertain or not judged, worst first.
+    flagged = frames[frames["outcome"].to_numpy(dtype=object) != "passed"]
     if flagged.empty:
         return
-    detail = Table(title="Flagged frames and what would have worked", title_justify="left", show_lines=True)
-    detail.add_column("File")
-    detail.add_column("Setting")
-    detail.add_column("Sharp zone")
-    detail.add_column("Verdict and remedy")
-    for row in flagged.to_dict("records"):
-        setting = (f"{format_length_mm(_number(row['focal_mm']))} {format_f_number(_number(row['f_number']))} @ "
-                   f"{_focus_text(row, imperial)}")
-        zone = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial)
-        remedies = "\n".join(f"[{FLAG_STYLES.get(flag, 'bold')}]{flag}[/]: {escape(describe_flag(flag, row, imperial=imperial))}"
-                             for flag in row["flags"])
-        detail.add_row(_short_path(row["path"]), setting, zone, remedies)
-    console.print(detail)
-    if any(flag in BLUR_FLAGS for flags in flagged["flags"] for flag in flags):
-        console.print(BLUR_CAUTION, style="dim")
+    records = sorted(flagged.to_dict("records"), key=lambda row: _severity(list(row["flags"])))
+    shown = records if show_all else records[:CHECK_DETAIL_ROWS]
+    console.print()
+    title = ("Flagged frames and what would have worked" if len(shown) == len(records)
+             else f"The {len(shown)} worst of {len(records)} flagged frames and what would have worked")
+    print_fitted(console, fit_table(check_columns(imperial), shown, console=console, wide=wide, show_lines=True,
+                                    title=title, title_justify="left"))
+    if len(shown) < len(records):
+        console.print(styled(f"{len(records) - len(shown)} more flagged frames not shown: --all lists every one "
+                             "(--json gives them all to scripts).", "dim"))
+    if any(flag in BLUR_FLAGS for row in shown for flag in row["flags"]):
+        console.print(styled(BLUR_CAUTION, "dim"))
 
 
-def render_stats(result: StatsResult, *, imperial: bool = False, console: Console | None = None) -> None:
+def _focus_text(group, imperial: bool) -> str:
+    if group.median_focus_mm is None:
+        focus = "unknown"
+    else:
+        low, high = group.focus_quartiles_mm
+        focus = (f"{format_distance(group.median_focus_mm, imperial=imperial)}\nmiddle half\n"
+                 f"{format_distance(low, imperial=imperial)}–{format_distance(high, imperial=imperial)}")
+    if group.unknown_focus:
+        focus += f"\n{group.unknown_focus} without\na distance"
+    return focus
+
+
+def _f_number_bars(group) -> str:
+    most = max((count for _, count in group.f_number_counts), default=1)
+    return "\n".join(f"{format_f_number(f_number):>6} {'█' * max(1, round(12 * count / most))} {count}"
+                     for f_number, count in group.f_number_counts) or "—"
+
+
+def render_stats(result: StatsResult, *, imperial: bool = False, wide: bool = False,
+                 console: Console | None = None) -> None:
     """Per lens and body: frames, an f-number histogram, share flagged, typical focus."""
     console = console or stdout_console()
     if not result.lenses:
         console.print("No frames match.")
         return
+    columns = [
+        Column("Name", lambda group: group.name, wrap=True),
+        Column("Frames", lambda group: str(group.frames), "right"),
+        Column("f-numbers used", _f_number_bars),
+        Column("Flagged", lambda group: "—" if group.share_flagged is None else f"{group.share_flagged:.0%}", "right"),
+        Column("Typical focus", lambda group: _focus_text(group, imperial)),
+        Column("Blur measured", lambda group: f"{group.blur_measured} frames\n{group.focus_missed} focus missed\n"
+                                              f"{group.soft_all_over} soft all over", priority=1,
+               shown=lambda groups: any(group.blur_measured for group in groups)),
+    ]
     for title, groups in (("Lenses", result.lenses), ("Bodies", result.bodies)):
-        table = Table(title=title, title_justify="left", show_lines=True)
-        blur = any(group.blur_measured for group in groups)
-        headers = ("Name", "Frames", "f-numbers used", "Flagged", "Typical focus") + (("Blur measured",) if blur else ())
-        for header in headers:
-            table.add_column(header, justify="right" if header in ("Frames", "Flagged") else "left")
-        for group in groups:
-            most = max((count for _, count in group.f_number_counts), default=1)
-            bars = "\n".join(f"{format_f_number(f_number):>6} {'█' * max(1, round(12 * count / most))} {count}"
-                             for f_number, count in group.f_number_counts) or "—"
-            flagged = "—" if group.share_flagged is None else f"{group.share_flagged:.0%}"
-            if group.median_focus_mm is None:
-                focus = "unknown"
-            else:
-                low, high = group.focus_quartiles_mm
-                focus = (f"{format_distance(group.median_focus_mm, imperial=imperial)} (middle half "
-                         f"{format_distance(low, imperial=imperial)}–{format_distance(high, imperial=imperial)})")
-            if group.unknown_focus:
-                focus += f"\n{group.unknown_focus} without a distance"
-            cells = [group.name, str(group.frames), bars, flagged, focus]
-            if blur:
-                cells.append(f"{group.blur_measured} frames\n{group.focus_missed} focus missed\n"
-                             f"{group.soft_all_over} soft all over")
-            table.add_row(*cells)
-        console.print(table)
+        print_fitted(console, fit_table(columns, groups, console=console, wide=wide, show_lines=True,
+                                        title=title, title_justify="left"))
 
 
 def stats_json(result: StatsResult) -> dict[str, Any]:

@@ -11,7 +11,7 @@ from shlex import quote as shlex_quote
 from rich.table import Table
 from rich.text import Text
 
-from sharpzone.report.console import stderr_console, stdout_console
+from sharpzone.report.console import line, stderr_console, stdout_console, styled
 
 if TYPE_CHECKING:
     from sharpzone.ingest.pipeline import IngestSummary
@@ -86,15 +86,15 @@ def render_ingest(summary: IngestSummary, catalog: str) -> None:
         table.add_row(label, str(value))
     console.print(table)
     for path, reason in summary.failed:
-        console.print(Text.assemble(("skipped", "red"), f" {path}: {reason}"), highlight=False)
+        console.print(line(styled("skipped", "red"), " ", path, ": ", reason))
     for name, count in sorted(summary.elsewhere.items()):
-        console.print(Text(f"{_frames(count)} already belong to shoot {name!r}: left there "
-                           f"(give --shoot {shlex_quote(summary.shoot)} to move them into this one)"), highlight=False)
+        console.print(line(f"{_frames(count)} already belong to shoot {name!r}: left there "
+                           f"(give --shoot {shlex_quote(summary.shoot)} to move them into this one)"))
     for name, count in sorted(summary.moved.items()):
-        console.print(Text(f"moved {_frames(count)} from shoot {name!r} to {summary.shoot!r}"), highlight=False)
+        console.print(line(f"moved {_frames(count)} from shoot {name!r} to {summary.shoot!r}"))
     for name in summary.needs_format:
-        console.print(Text(f"body {name!r} needs its sensor format before its frames can be judged: "
-                           f"{format_command(name)}"), highlight=False)
+        console.print(line(f"body {name!r} needs its sensor format before its frames can be judged: "
+                           f"{format_command(name)}"))
     if summary.vanished and not summary.pruned:
         console.print(f"{len(summary.vanished)} catalogued frames were not found again; kept (use --prune to remove).")
     for item in summary.registered:

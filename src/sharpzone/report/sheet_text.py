@@ -18,6 +18,7 @@ from typing import Any
 from sharpzone.analysis.sheets import DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS, FocalTable, Sheet, focal_range_text
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.optics.stops import stop_difference
+from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance, metres_or_inf
 
 # The machine interface of ``sharpzone sheet --out FILE.csv`` (documented in README.md).
@@ -63,7 +64,7 @@ def render_csv(sheet: Sheet) -> str:
     writer = csv.DictWriter(out, fieldnames=CSV_COLUMNS, lineterminator="\n")
     writer.writeheader()
     for record in sheet_records(sheet):
-        writer.writerow({key: _csv_value(value) for key, value in record.items()})
+        writer.writerow({key: safe_cell(_csv_value(value)) for key, value in record.items()})
     return out.getvalue()
 
 

@@ -19,6 +19,7 @@ from sharpzone.catalog.service._common import (
     require_name_free,
 )
 from sharpzone.errors import Conflict, InvalidValue, NotFound
+from sharpzone.limits import check_close_focus
 
 
 def list_lenses(session: Session) -> list[Lens]:
@@ -185,7 +186,8 @@ def _apply(
             f"lens {name!r}: minimum aperture f/{min_aperture:g} is wider than the maximum aperture "
             f"f/{widest_needed:g}: expected a larger f-number such as f/22"
         )
-    close_focus = positive(close_focus, f"lens {name!r}: close-focus distance", "mm")
+    close_focus = check_close_focus(positive(close_focus, f"lens {name!r}: close-focus distance", "mm"), focal_max,
+                                    what=f"lens {name!r}: close-focus distance")
     pupil = positive(pupil, f"lens {name!r}: pupil magnification")
     require_name_free(session, Lens, name, "lens", keep=lens)
     lens.name = name

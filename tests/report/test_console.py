@@ -1,0 +1,37 @@
+"""``report.console``: fitting a table by column priority, wrapping without parting a number
+from its unit."""
+
+from __future__ import annotations
+
+import io
+
+from sharpzone.report.console import Column, SafeConsole, fit_table, print_fitted, wrap_text
+from sharpzone.report.frames_render import CHECK_DETAIL_ROWS
+
+
+def test_the_check_detail_limit_is_the_documented_one():
+    assert CHECK_DETAIL_ROWS == 20
+
+
+def test_fit_table_drops_by_priority_and_never_cuts():
+    rows = [{"name": "VHB_0001.JPG", "value": "12345.678 mm", "minor": "0.00617 mm", "note": "a b c d e f g h"}]
+    columns = [
+        Column("File", lambda row: row["name"]),
+        Column("Value", lambda row: row["value"], "right"),
+        Column("Minor", lambda row: row["minor"], "right", priority=2),
+        Column("Note", lambda row: row["note"], wrap=True, priority=1),
+    ]
+    for width, kept in ((80, ["Minor", "Note"]), (45, ["Note"]), (30, [])):
+        buffer = io.StringIO()
+        console = SafeConsole(file=buffer, width=width, markup=False)
+        fitted = fit_table(columns, rows, console=console)
+        print_fitted(console, fitted)
+        text = buffer.getvalue()
+        assert "VHB_0001.JPG" in text and "12345.678 mm" in text and "…" not in text
+        assert [header for header in ("Minor", "Note") if header not in fitted.dropped] == kept
+
+
+def test_wrapping_never_parts_a_number_from_its_unit():
+    wrapped = wrap_text("a focus stack of 14 frames at f/2.8 would hold 41.7 cm–42.5 cm", 18).plain
+    for piece in ("14 frames", "41.7 cm–42.5 cm"):
+        assert piece in wrapped.splitlines() or any(piece in line for line in wrapped.splitlines())

@@ -1,0 +1,88 @@
+"""Tables fit 80 and 120 columns without cutting a number or a file name; minor columns
+give way in a stated order, ``--wide`` shows them all, long checks show the worst first."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+from typer.testing import CliRunner
+
+from sharpzone.cli.app import app
+
+CHECK_DETAIL_ROWS = 20  # what the README promises: the 20 worst flagged frames unless --all
+
+runner = CliRunner()
+LENS = "Altamira Optical 24-70mm F2.8 Mark II Asph"  # invented, long on purpose
+
+
+@pytest.fixture
+def long_catalog(tmp_path):
+    """60 frames through a long-named lens, planned to hold 2.5–4 m; most miss it."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K7 Pro Studio", exif_make="Korvath", exif_model="K7", format_name="36x24",
+                        pixel_width=6000, pixel_height=4000)
+        lens = add_lens(session, LENS, focal_min_mm=24, focal_max_mm=70, max_aperture_wide=2.8, min_aperture=22,
+                        close_focus_mm=380, exif_names=["ALTAMIRA 24-70mm F2.8 AX II"])
+        shoot = add_shoot(session, "Boathouse group portraits", near_mm=2500, far_mm=4000)
+        for number in range(60):
+            f_number = (2.8, 4.0, 8.0)[number % 3]
+            session.add(Frame(path=f"/cards/2026-05-01/wedding [final] VHB_{number:04d}.JPG", file_size=1000,
+                              file_mtime_ns=number, shoot=shoot, body=body, lens=lens, focal_mm=70.0,
+                              f_number=f_number, focus_mm=3000.0 + number, focus_source="exif",
+                              captured_at=dt.datetime(2026, 5, 1, 10, number)))
+    return url
+
+
+def _run(catalog, columns, *args):
+    result = runner.invoke(app, ["--catalog", catalog, *args], env={"COLUMNS": str(columns)})
+    assert result.exit_code == 0, result.output
+    return result.output
+
+
+
+
+@pytest.mark.parametrize("columns", [80, 120])
+@pytest.mark.parametrize("command", [("frames",), ("check",), ("stats",), ("lens", "list"), ("body", "list"),
+                                     ("shoot", "list"), ("format", "list")])
+def test_tables_fit_without_cutting(long_catalog, columns, command):
+    output = _run(long_catalog, columns, *command)
+    assert "…" not in output, output
+    assert max(len(line.rstrip()) for line in output.splitlines()) <= columns, output
+    if command in (("frames",), ("check",)):
+        assert "wedding [final] VHB_0001.JPG" in output  # the file name whole, as written
+    if command == ("frames",):
+        for number in ("70 mm", "f/2.8", "3.00 m"):
+            assert number in output
+
+
+def test_minor_columns_go_first_and_wide_shows_all(long_catalog):
+    narrow = _run(long_catalog, 80, "frames")
+    assert "Near" in narrow and "Far" in narrow and "Verdict" in narrow
+    assert "Airy disk" not in narrow.split("Not shown")[0]
+    assert "Not shown at this width: Airy disk, CoC, Hyperfocal" in " ".join(narrow.split())
+    wide = _run(long_catalog, 80, "frames", "--wide")
+    for header in ("Lens", "Depth", "Hyperfocal", "CoC", "Airy disk"):
+        assert header in wide
+    assert "Not shown" not in wide
+
+
+def test_coc_and_airy_disk_in_the_same_unit(long_catalog):
+    wide = _run(long_catalog, 80, "frames", "--wide")
+    row = next(line for line in wide.splitlines() if "VHB_0000" in line)
+    assert "µm" not in row and row.count(" mm") >= 3  # focal, CoC and Airy disk all in mm
+
+
+def test_long_check_shows_the_summary_and_the_worst_first(long_catalog):
+    short = _run(long_catalog, 120, "check")
+    assert "By verdict" in short and "By lens" in short
+    assert short.count("VHB_") == CHECK_DETAIL_ROWS
+    assert "--all lists every one" in short
+    everything = _run(long_catalog, 120, "check", "--all")
+    assert everything.count("VHB_") > CHECK_DETAIL_ROWS
+    assert "--all lists" not in everything
