@@ -103,7 +103,9 @@ def _format_imperial(value_mm: float, digits: int) -> str:
     feet = inches / 12
     if feet < 10:
         whole_feet = int(feet)
-        rest_inches = round(inches - whole_feet * 12, 1)
+        # Tenths of an inch at the usual 3 figures; more figures give more decimals.
+        decimals = max(1, digits - 1 - math.floor(math.log10(inches)))
+        rest_inches = round(inches - whole_feet * 12, decimals)
         if rest_inches >= 12:
             whole_feet, rest_inches = whole_feet + 1, 0.0
         return f"{whole_feet} ft {rest_inches:g} in"

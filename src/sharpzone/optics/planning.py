@@ -20,19 +20,17 @@ import numpy as np
 
 from sharpzone.errors import InvalidValue
 from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_array
+from sharpzone.optics.macro import MacroSpec, effective_focal_mm, focus_for_near_limit, sharp_zone_focusing
 from sharpzone.optics.dof import (
     Reference,
     check_reference,
     image_distance_mm,
     lens_distance_array,
     sensor_to_lens_distance,
-    sharp_zone,
     validate_lens_inputs,
 )
 
-# A stack that needs more frames than this is not a plan anyone will shoot.
-MAX_STACK_FRAMES = 5000
-DEFAULT_STACK_OVERLAP = 0.1
+from sharpzone.optics.planning_limits import DEFAULT_STACK_OVERLAP, MAX_STACK_FRAMES, MAX_STACK_OVERLAP
 
 
 def _check_range(near_target, far_target, focal, reference: Reference):
@@ -149,6 +147,11 @@ class StackPlan:
     far_mm: tuple[float, ...]
     overlap: float
     reference: Reference
+    # Per frame: image scale, working f-number N (1 + m/P) and the focal length the lens has
+    # there (the nominal one unless the lens records a maximum magnification).
+    magnification: tuple[float, ...] = ()
+    effective_f_number: tuple[float, ...] = ()
+    focal_mm: tuple[float, ...] = ()
 
     @property
     def frame_count(self) -> int:
@@ -205,27 +208,52 @@ def stack_frame_counts(
 def plan_focus_stack(
     focal_mm: float, f_number: float, coc_mm: float, near_target_mm: float, far_target_mm: float, *,
     reference: Reference = "sensor", pupil_magnification: float = 1.0, overlap: float = DEFAULT_STACK_OVERLAP,
+    macro: MacroSpec | None = None,
 ) -> StackPlan:
     """A focus stack at ``f_number`` that holds [near_target, far_target]: the frames' focus
-    distances and limits, from near to far. One frame when one frame is enough."""
+    distances and limits, from near to far. One frame when one frame is enough.
+
+    ``macro`` (``optics.macro.check_macro_spec``) lets the focal length follow the lens's
+    close focusing, so the stack reaches as near as the lens does (distances from the sensor).
+    """
     counts, frames = _walk_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm,
-                                 reference, pupil_magnification, overlap, keep_frames=True)
+                                 reference, pupil_magnification, overlap, keep_frames=True, macro=macro)
     if int(np.asarray(counts).flat[0]) < 0:
         raise InvalidValue(
             f"the range needs more than {MAX_STACK_FRAMES} frames at f/{f_number:g}",
             hint="stop down, step back, or split the range",
         )
-    focus, near, far = (tuple(float(np.asarray(x).flat[0]) for x in column) for column in zip(*frames))
-    return StackPlan(float(f_number), focus, near, far, overlap, reference)
+    focus, near, far, m, effective, focal = (tuple(float(np.asarray(x).flat[0]) for x in column)
+                                             for column in zip(*frames))
+    return StackPlan(float(f_number), focus, near, far, overlap, reference, m, effective, focal)
+
+
+def check_overlap(overlap: float) -> float:
+    """A stack overlap, checked: a fraction from 0 to ``MAX_STACK_OVERLAP``."""
+    if not (isinstance(overlap, (int, float)) and 0 <= overlap <= MAX_STACK_OVERLAP):
+        raise InvalidValue(f"stack overlap {overlap!r} is not valid: expected a fraction from 0 to {MAX_STACK_OVERLAP:g}")
+    return float(overlap)
 
 
 def _walk_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference, pupil, overlap,
-                keep_frames):
+                keep_frames, macro: MacroSpec | None = None):
     check_reference(reference)
-    if not (0 <= overlap < 1):
-        raise InvalidValue(f"stack overlap {overlap!r} is not valid: expected a fraction from 0 to below 1")
+    overlap = check_overlap(overlap)
     f, n, c, p = validate_lens_inputs(focal_mm, f_number, coc_mm, pupil)
-    a, b = _check_range(near_target_mm, far_target_mm, f, reference)
+    if macro is None:
+        a, b = _check_range(near_target_mm, far_target_mm, f, reference)
+    else:
+        if reference != "sensor":
+            raise InvalidValue("a lens's maximum magnification is modelled with distances from the sensor: "
+                               "use --reference sensor")
+        a, b = _check_range(near_target_mm, far_target_mm, macro.close_focus_focal_mm / 4.0001, reference)
+        closest = sharp_zone_focusing(macro, f, n, c, macro.close_focus_mm, pupil_magnification=p)
+        reach = np.asarray(closest.near_mm)
+        too_near = a < reach * (1 - 1e-9)
+        if np.any(too_near):
+            raise InvalidValue(
+                f"near end {float(np.asarray(a)[too_near].flat[0]):g} mm is nearer than this lens reaches: at its "
+                f"close focus ({macro.close_focus_mm:g} mm) the zone starts at {float(reach.flat[0]):.1f} mm")
     f, n, c, p, a, b = (np.array(x, dtype=np.float64) for x in np.broadcast_arrays(f, n, c, p, a, b))
     shape = f.shape
     f, n, c, p, a, b = (x.reshape(-1) for x in (f, n, c, p, a, b))
@@ -236,13 +264,17 @@ def _walk_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, refer
     frames = []
     while active.size:
         fa, na, ca, pa = f[active], n[active], c[active], p[active]
-        focus = _focus_for_near_limit(fa, na, ca, pa, target, reference)
+        if macro is None:
+            focus = _focus_for_near_limit(fa, na, ca, pa, target, reference)
+        else:
+            focus = focus_for_near_limit(macro, na, ca, target, pa)
         at_infinity = np.isinf(focus)
-        zone = sharp_zone(fa, na, ca, focus, reference=reference, pupil_magnification=pa)
+        zone = sharp_zone_focusing(macro, fa, na, ca, focus, reference=reference, pupil_magnification=pa)
         near, far = np.atleast_1d(zone.near_mm), np.atleast_1d(zone.far_mm)
         counts[active] += 1
         if keep_frames:
-            frames.append((focus, near, far))
+            focal_there = effective_focal_mm(macro, fa, focus)
+            frames.append((focus, near, far, zone.magnification, zone.effective_f_number, focal_there))
         done = (far >= b[active] * (1 - 1e-12)) | at_infinity
         too_many = counts[active] >= MAX_STACK_FRAMES
         counts[active[too_many & ~done]] = -1
