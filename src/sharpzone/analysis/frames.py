@@ -94,7 +94,7 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
     frame = _join_small_tables(session, frame)
     numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "format_width_mm", "format_height_mm",
-               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
+               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "lens_close_focus_mm", "lens_max_magnification", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
                "planned_focus_mm"]
     for column in numeric:
@@ -127,7 +127,8 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
     ).join(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")
     lenses = table(select(
         Lens.id.label("lens_id"), Lens.name.label("lens"), Lens.pupil_magnification,
-        Lens.min_aperture.label("lens_min_aperture")), "lens_id")
+        Lens.min_aperture.label("lens_min_aperture"), Lens.close_focus_mm.label("lens_close_focus_mm"),
+        Lens.max_magnification.label("lens_max_magnification")), "lens_id")
     for key, small in (("shoot_id", shoots), ("body_id", bodies), ("lens_id", lenses)):
         ids = pd.to_numeric(frame[key], errors="coerce")
         for column in small.columns:

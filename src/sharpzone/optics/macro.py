@@ -264,3 +264,30 @@ def focus_for_near_limit(spec: MacroSpec, f_number, coc_mm, target_mm, pupil_mag
     focus = (f0 + k * m) * (1 + m) ** 2 / m
     focus = np.where(target >= at_infinity, np.inf, np.maximum(focus, spec.close_focus_mm))
     return focus
+
+
+def effective_focal_rows(focal_mm, close_focus_mm, max_magnification, focus_mm) -> np.ndarray:
+    """Per row (arrays of equal length): the focal length the lens has at ``focus_mm`` (from
+    the sensor). Rows without a maximum magnification, or with a pair ``check_macro_spec``
+    refuses, keep ``focal_mm``; a focus nearer than the close-focus distance (a recorded
+    distance the lens cannot have had) takes the close-focus focal length. Each distinct
+    lens is worked out once."""
+    focal = np.asarray(focal_mm, dtype=np.float64)
+    close = np.asarray(close_focus_mm, dtype=np.float64)
+    m_max = np.asarray(max_magnification, dtype=np.float64)
+    focus = np.asarray(focus_mm, dtype=np.float64)
+    result = focal.copy()
+    with np.errstate(invalid="ignore"):
+        usable = (m_max > 0) & (close > 0) & (focal > 0) & ~np.isnan(focus)
+    if not usable.any():
+        return result
+    keys = np.column_stack([focal[usable], close[usable], m_max[usable]])
+    rows = np.flatnonzero(usable)
+    for key in np.unique(keys, axis=0):
+        try:
+            spec = check_macro_spec(float(key[0]), float(key[1]), float(key[2]))
+        except InvalidValue:
+            continue
+        these = rows[np.all(keys == key, axis=1)]
+        result[these] = effective_focal_mm(spec, spec.focal_mm, np.maximum(focus[these], spec.close_focus_mm))
+    return result
