@@ -6,7 +6,6 @@ from __future__ import annotations
 import json
 import math
 
-import numpy as np
 import pytest
 from typer.testing import CliRunner
 

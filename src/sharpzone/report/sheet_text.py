@@ -131,7 +131,10 @@ def _focusing_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) ->
         return []
     each = followed[0]
     spec = each.macro
-    return [("Close focusing", f"{spec.max_magnification:g}× at {format_round_distance(spec.close_focus_mm, imperial=imperial)}: "
+    from sharpzone.optics.macro import format_magnification
+
+    return [("Close focusing", f"{format_magnification(spec.max_magnification)} at "
+             f"{format_round_distance(spec.close_focus_mm, imperial=imperial)}: "
              f"the focal length shortens to {spec.close_focus_focal_mm:.0f} mm there (internal focusing) and "
              f"returns to {spec.focal_mm:g} mm towards infinity; each row uses its own")]
 
