@@ -45,6 +45,10 @@ MAX_LADDER_ROWS = 14
 # practice): added to the ladder wherever it spans them, beyond MAX_LADDER_ROWS.
 PORTRAIT_DISTANCES_MM = (2000.0, 2500.0, 3000.0, 4000.0, 5000.0)
 PORTRAIT_DISTANCES_FT = (7.0, 8.0, 10.0, 12.0, 15.0)
+# Close-up rows for a lens whose focal length follows its focus (a macro lens): the range
+# where product and detail work happens, in round steps (metric mm, imperial inches).
+CLOSE_UP_DISTANCES_MM = (200.0, 250.0, 350.0, 400.0, 450.0, 600.0, 800.0)
+CLOSE_UP_DISTANCES_IN = (8.0, 10.0, 14.0, 16.0, 18.0, 21.0, 30.0)
 # A ladder step closer than this factor to the close-focus row would repeat it.
 LADDER_GAP = 1.15
 # Without a catalogued close-focus distance the ladder starts at this many focal lengths:
@@ -230,18 +234,23 @@ def sheet_f_numbers(lens: LensSpec, focal_mm: float, stops: str = "full") -> lis
     return [widest, *narrower]
 
 
-def focus_ladder_mm(nearest_mm: float, farthest_mm: float, *, imperial: bool = False) -> list[float]:
+def focus_ladder_mm(nearest_mm: float, farthest_mm: float, *, imperial: bool = False,
+                    close_up: bool = False) -> list[float]:
     """Round focus distances (mm) from ``nearest_mm`` (kept as the first row) to
     ``farthest_mm``, then infinity: 1, 1.5, 2, 3, 5, 7 per decade of metres or feet, or
-    1, 2, 5 when that would give more than ``MAX_LADDER_ROWS`` rows."""
+    1, 2, 5 when that would give more than ``MAX_LADDER_ROWS`` rows; the portrait distances
+    besides, and with ``close_up`` (a macro lens) the close-up distances too."""
     for steps in (_FINE_STEPS, _COARSE_STEPS):
         rounds = round_distances_mm(steps, imperial=imperial)
         between = [d for d in rounds if nearest_mm * LADDER_GAP <= d <= farthest_mm]
         if len(between) + 2 <= MAX_LADDER_ROWS:
             break
-    portraits = ([feet * MM_PER_FOOT for feet in PORTRAIT_DISTANCES_FT] if imperial else list(PORTRAIT_DISTANCES_MM))
-    between += [d for d in portraits if nearest_mm * LADDER_GAP <= d <= farthest_mm
-                and not any(math.isclose(d, kept, rel_tol=1e-9) for kept in between)]
+    extra = [feet * MM_PER_FOOT for feet in PORTRAIT_DISTANCES_FT] if imperial else list(PORTRAIT_DISTANCES_MM)
+    if close_up:
+        extra += [inches * MM_PER_INCH for inches in CLOSE_UP_DISTANCES_IN] if imperial else list(CLOSE_UP_DISTANCES_MM)
+    for d in extra:
+        if nearest_mm * LADDER_GAP <= d <= farthest_mm and not any(math.isclose(d, kept, rel_tol=1e-9) for kept in between):
+            between.append(d)
     return [nearest_mm, *sorted(between), math.inf]
 
 
@@ -310,7 +319,8 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
             raise InvalidValue(f"focus distance {format_distance(nearer[0])} is nearer than the close-focus "
                                f"distance of {lens.name!r} at {focal_mm:g} mm ({format_distance(close)})")
     else:
-        ladder = focus_ladder_mm(close, float(hyperfocal.max()), imperial=imperial)
+        ladder = focus_ladder_mm(close, float(hyperfocal.max()), imperial=imperial,
+                                 close_up=reference == "sensor" and lens.macro_at(focal_mm) is not None)
     finite = [d for d in ladder if math.isfinite(d)] or [close]
     chart_far = max(max(finite), float(hyperfocal.max())) * 1.5
     curve = np.geomspace(min(finite), chart_far, CURVE_SAMPLES)
