@@ -6,7 +6,6 @@ from __future__ import annotations
 import json
 import math
 
-import numpy as np
 import pytest
 from typer.testing import CliRunner
 
@@ -21,7 +20,6 @@ from sharpzone.analysis.sheets import (
 )
 from sharpzone.cli.app import app
 from sharpzone.errors import InvalidValue
-from sharpzone.optics import sharp_zone
 from sharpzone.units import MM_PER_FOOT
 
 ZOOM = LensSpec("Altamira 24-70/2.8", 24, 70, 2.8, 2.8, 22, 380)
@@ -29,16 +27,35 @@ SLOW_ZOOM = LensSpec("Altamira 24-105/3.5-5.6", 24, 105, 3.5, 5.6, 22, 450)
 PRIME = LensSpec("Korvath 50/1.8", 50, 50, 1.8, 1.8, 22, 450, pupil_magnification=0.8)
 
 
-def test_every_cell_equals_the_optics_core():
+def _exact_thin_lens_from_sensor(f, n, c, d):
+    """Near and far limits (mm from the sensor) by the exact thin-lens forms of the Open
+    Photographic Society ("Hyperfocal distance"): H = f²/(N c) + f, near = s (H − f)/(H + s − 2f),
+    far = s (H − f)/(H − s), with s = (D + √(D² − 4 f D))/2 from the lens and v = s f/(s − f)
+    the lens-to-sensor distance (Gaussian lens formula) added back. Typed out here, apart
+    from the code under test (which works in magnification space)."""
+    s = (d + math.sqrt(d * d - 4 * f * d)) / 2
+    h = f * f / (n * c) + f
+    v = s * f / (s - f)
+    near = s * (h - f) / (h + s - 2 * f) + v
+    far = s * (h - f) / (h - s) + v if s < h else math.inf
+    return near, far
+
+
+def test_cells_match_the_published_exact_forms():
     sheet = build_sheet(ZOOM, choose_coc(sensor="36x24"))
     coc = sheet.coc.coc_mm
+    assert coc == pytest.approx(43.2666 / 1500, rel=1e-4)  # 36 × 24 mm diagonal / 1500
     for table in sheet.tables:
         for row, focus in enumerate(table.focus_mm):
+            if not math.isfinite(focus):
+                continue
             for column, f_number in enumerate(table.f_numbers):
-                zone = sharp_zone(table.focal_mm, f_number, coc, float(focus), reference="sensor")
-                assert table.near_mm[row, column] == pytest.approx(zone.near_mm, rel=1e-12)
-                assert table.far_mm[row, column] == pytest.approx(zone.far_mm, rel=1e-12)
-                assert table.hyperfocal_mm[column] == pytest.approx(zone.hyperfocal_mm, rel=1e-12)
+                near, far = _exact_thin_lens_from_sensor(table.focal_mm, f_number, coc, float(focus))
+                assert table.near_mm[row, column] == pytest.approx(near, rel=1e-9)
+                if math.isfinite(far):
+                    assert table.far_mm[row, column] == pytest.approx(far, rel=1e-9)
+                else:
+                    assert math.isinf(table.far_mm[row, column])
 
 
 def test_lens_reference_matches_the_exact_thin_lens_forms():
@@ -128,7 +145,9 @@ def test_default_ladder_runs_from_close_focus_to_infinity():
     (table,) = sheet.tables
     rows = list(table.focus_mm)
     assert rows[0] == 450.0 and math.isinf(rows[-1])
-    assert rows == sorted(rows) and len(rows) <= MAX_LADDER_ROWS
+    assert rows == sorted(rows) and len(rows) <= MAX_LADDER_ROWS + 2
+    # The usual portrait distances are rows (common practice: 2 to 5 m).
+    assert {2000.0, 2500.0, 3000.0, 4000.0, 5000.0} <= set(rows)
     # The ladder reaches the widest aperture's hyperfocal distance, no farther.
     assert rows[-2] <= table.hyperfocal_mm.max() < rows[-2] * 2
 
@@ -143,8 +162,14 @@ def test_imperial_ladder_is_round_feet():
 
 def test_long_ranges_thin_the_ladder():
     ladder = focus_ladder_mm(2700, 2_000_000)
-    assert len(ladder) <= MAX_LADDER_ROWS
-    assert ladder[1:4] == [5000.0, 10_000.0, 20_000.0]
+    assert len(ladder) <= MAX_LADDER_ROWS + 1
+    # 1-2-5 steps, with the portrait distances from 2700 × 1.15 mm up kept among them.
+    assert ladder[1:5] == [4000.0, 5000.0, 10_000.0, 20_000.0]
+
+
+def test_imperial_ladder_has_the_portrait_distances_in_feet():
+    feet = [d / MM_PER_FOOT for d in focus_ladder_mm(457.2, 30_000, imperial=True)[1:-1]]
+    assert {7.0, 8.0, 10.0, 12.0, 15.0} <= {round(f, 9) for f in feet}
 
 
 def test_reference_lens_starts_at_the_close_focus_converted_from_the_sensor():
@@ -169,11 +194,15 @@ def test_requested_distances_nearer_than_close_focus_are_refused():
 
 
 def test_chart_curves_are_the_same_limits_sampled_densely():
-    (table,) = build_sheet(PRIME, choose_coc()).tables
-    zone = sharp_zone(50, np.array(table.f_numbers)[None, :], build_sheet(PRIME, choose_coc()).coc.coc_mm,
-                      table.curve_focus_mm[:, None], pupil_magnification=0.8)
-    np.testing.assert_allclose(table.curve_near_mm, zone.near_mm, rtol=1e-12)
-    np.testing.assert_array_equal(np.isinf(table.curve_far_mm), np.isinf(zone.far_mm))
+    lens = LensSpec("Korvath 50/1.8", 50, 50, 1.8, 1.8, 22, 450)
+    sheet = build_sheet(lens, choose_coc())
+    (table,) = sheet.tables
+    for index in (0, len(table.curve_focus_mm) // 2, len(table.curve_focus_mm) - 1):
+        for column in (0, len(table.f_numbers) - 1):
+            near, far = _exact_thin_lens_from_sensor(50, table.f_numbers[column], sheet.coc.coc_mm,
+                                                     float(table.curve_focus_mm[index]))
+            assert table.curve_near_mm[index, column] == pytest.approx(near, rel=1e-9)
+            assert math.isinf(far) == math.isinf(table.curve_far_mm[index, column])
 
 
 @pytest.mark.parametrize(

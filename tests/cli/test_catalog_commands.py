@@ -65,8 +65,8 @@ def test_lens_add_show_and_json_units(cli):
     data = json.loads(cli("lens", "show", "altamira 24-105", "--json").stdout)
     assert data == {
         "name": "Altamira 24-105", "focal_min_mm": 24.0, "focal_max_mm": 105.0, "max_aperture_wide": 3.5,
-        "max_aperture_tele": 5.6, "min_aperture": 22.0, "close_focus_m": 0.45, "pupil_magnification": 1.0,
-        "exif_names": ["ALT 24-105mm"], "confirmed": True,
+        "max_aperture_tele": 5.6, "min_aperture": 22.0, "close_focus_m": 0.45, "max_magnification": None,
+        "pupil_magnification": 1.0, "exif_names": ["ALT 24-105mm"], "confirmed": True,
     }
     assert "1 ft 5½ in" in cli("lens", "show", "Altamira 24-105", "--imperial").stdout
 
@@ -198,3 +198,24 @@ def test_catalogue_commands_load_no_database_library_until_run():
     code = "import sys, sharpzone.cli.app; print(sorted(m for m in ('sqlalchemy', 'alembic', 'pandas') if m in sys.modules))"
     output = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert output.strip() == "[]"
+
+
+def test_lens_max_magnification_forms_edit_clear_and_refusals(cli):
+    # The specification's forms: 1:1, 0.5x, 0.25 (one parser, optics.macro.parse_magnification).
+    assert cli("lens", "add", "Vale Macro 100", "--focal", "100", "--aperture", "2.8", "--close-focus", "30cm",
+               "--max-magnification", "1:1").exit_code == 0
+    data = json.loads(cli("lens", "show", "Vale Macro 100", "--json").stdout)
+    assert data["max_magnification"] == 1.0 and data["close_focus_m"] == 0.3
+    assert "1:1" in cli("lens", "show", "Vale Macro 100").stdout
+    assert cli("lens", "edit", "Vale Macro 100", "--max-magnification", "0.5x").exit_code == 0
+    assert json.loads(cli("lens", "list", "--json").stdout)[0]["max_magnification"] == 0.5
+    assert cli("lens", "edit", "Vale Macro 100", "--max-magnification", "0").exit_code == 0
+    assert json.loads(cli("lens", "list", "--json").stdout)[0]["max_magnification"] is None
+    bad = cli("lens", "edit", "Vale Macro 100", "--max-magnification", "a lot")
+    assert bad.exit_code == 2 and "--max-magnification" in bad.output
+    # A magnification needs the close-focus distance it is reached at.
+    lonely = cli("lens", "add", "Vale 50", "--focal", "50", "--aperture", "2", "--max-magnification", "0.15")
+    assert lonely.exit_code == 2 and "close-focus" in lonely.output
+    # 1:1 at 1 m would need a 250 mm thin lens: not a 100 mm lens focusing steadily closer.
+    odd = cli("lens", "edit", "Vale Macro 100", "--close-focus", "1m", "--max-magnification", "1:1")
+    assert odd.exit_code == 2 and "focusing steadily closer" in odd.output

@@ -115,3 +115,75 @@ def test_dof_does_not_create_a_catalogue_for_an_unknown_format(tmp_path):
     result = runner.invoke(app, ["--catalog", str(catalog), "dof", "-f", "50", "-a", "8", "-d", "3m", "--sensor", "nosuch"])
     assert result.exit_code == 1 and "no sensor format 'nosuch'" in result.stderr
     assert not catalog.exists()
+
+
+# ---- product and macro work ----------------------------------------------------------------
+
+PRODUCT = ("stack", "-f", "100", "-a", "8", "--near", "40cm", "--far", "45cm", "--coc", "0.03")
+
+
+def test_the_close_product_stack_is_refused_without_a_maximum_magnification():
+    result = invoke(*PRODUCT)
+    assert result.exit_code == 2
+    assert "--max-magnification" in result.output  # the hint names the way out
+
+
+def test_the_close_product_stack_plans_with_a_macro_lens():
+    result = invoke(*PRODUCT, "--max-magnification", "1:1", "--close-focus", "30cm", "--json")
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    frames = data["frames"]
+    assert data["max_magnification"] == 1.0 and data["close_focus_m"] == 0.3
+    assert frames[0]["near_m"] == pytest.approx(0.40, abs=1e-9) and frames[-1]["far_m"] >= 0.45
+    # Each frame starts inside the one before (10 % overlap) and the steps are millimetres.
+    for before, after in zip(frames, frames[1:]):
+        assert after["near_m"] < before["far_m"]
+        assert 1.0 < after["step_mm"] < 10.0
+    # Macro approximation, total depth ≈ 2 N c (1 + m)/m² (common practice; D. Jacobson,
+    # "Photographic Lenses Tutorial", §04): at m ≈ 0.48, 2·8·0.03·1.48/0.48² ≈ 3.1 mm.
+    first_depth_mm = (frames[0]["far_m"] - frames[0]["near_m"]) * 1000
+    m = frames[0]["magnification"]
+    assert first_depth_mm == pytest.approx(2 * 8 * 0.03 * (1 + m) / m**2, rel=0.03)
+    # Working f-number N (1 + m/P) (Jacobson §04), every frame.
+    for frame in frames:
+        assert frame["effective_f_number"] == pytest.approx(8 * (1 + frame["magnification"]), rel=1e-9)
+    assert data["rail"]["step_mm"] == pytest.approx(data["rail"]["depth_mm"] * 0.9)
+
+
+def test_stack_rows_carry_the_precision_the_step_needs():
+    result = invoke(*PRODUCT, "--max-magnification", "1", "--close-focus", "30cm")
+    assert result.exit_code == 0, result.output
+    focus_cells = [line.split("│")[2].strip() for line in result.stdout.splitlines() if line.startswith("│")]
+    assert len(focus_cells) == len(set(focus_cells)) > 3  # no "45.2 cm" four times
+    assert "focusing rail" in result.stdout and "mm per" in result.stdout
+
+
+def test_stack_warns_where_diffraction_softens_every_frame():
+    # 1:1 at f/16 works at f/32: Airy disk 2.44 × 0.00055 × 32 = 0.043 mm > 0.03 mm.
+    result = invoke("stack", "-f", "100", "-a", "16", "--near", "30cm", "--far", "31cm", "--coc", "0.03",
+                    "--max-magnification", "1", "--close-focus", "30cm")
+    assert result.exit_code == 0, result.output
+    assert "diffraction softens every frame" in result.stdout and "‡" in result.stdout
+
+
+def test_stack_from_a_catalogued_macro_lens(tmp_path):
+    catalog = str(tmp_path / "c.db")
+    added = invoke("--catalog", catalog, "lens", "add", "Vale Macro 100", "--focal", "100", "--aperture", "2.8",
+                   "--close-focus", "30cm", "--max-magnification", "1:1")
+    assert added.exit_code == 0, added.output
+    result = invoke("--catalog", catalog, "stack", "--lens", "Vale Macro 100", "-a", "8", "--near", "40cm",
+                    "--far", "45cm", "--json")
+    assert result.exit_code == 0, result.output
+    assert json.loads(result.stdout)["max_magnification"] == 1.0
+    dof = invoke("--catalog", catalog, "dof", "--lens", "Vale Macro 100", "-a", "8", "-d", "30cm", "--json")
+    assert dof.exit_code == 0, dof.output
+    assert json.loads(dof.stdout)["magnification"] == pytest.approx(1.0, rel=1e-6)
+
+
+def test_overlap_limit_in_the_help_is_the_enforced_one():
+    from sharpzone.limits import OVERLAP_MAX as MAX_STACK_OVERLAP
+
+    assert f"0 to {MAX_STACK_OVERLAP:g}" in " ".join(invoke("stack", "--help").stdout.split())
+    refused = invoke("stack", "-f", "50", "-a", "8", "--near", "2m", "--far", "3m", "--overlap", "0.95")
+    assert refused.exit_code == 2 and f"0 to {MAX_STACK_OVERLAP:g}" in refused.output
+    assert invoke("stack", "-f", "50", "-a", "8", "--near", "2m", "--far", "3m", "--overlap", "0.9").exit_code == 0

@@ -132,3 +132,38 @@ def test_sheet_has_help_text():
     result = runner.invoke(app, ["sheet", "--help"])
     assert result.exit_code == 0
     assert "sharp-zone sheet" in result.stdout and "--out" in result.stdout
+
+
+def test_paper_letter_on_request_and_a4_by_default(catalog_path, tmp_path):
+    from pypdf import PdfReader
+
+    a4, letter = tmp_path / "a4.pdf", tmp_path / "letter.pdf"
+    assert invoke(catalog_path, "sheet", "Korvath 50/1.8", "-o", str(a4)).exit_code == 0
+    assert invoke(catalog_path, "sheet", "Korvath 50/1.8", "-o", str(letter), "--paper", "Letter").exit_code == 0
+    # ISO 216 A4 landscape 297 × 210 mm = 841.9 × 595.3 pt; US Letter 11 × 8.5 in = 792 × 612 pt.
+    box = PdfReader(a4).pages[0].mediabox
+    assert (float(box.width), float(box.height)) == pytest.approx((841.89, 595.28), abs=0.01)
+    box = PdfReader(letter).pages[0].mediabox
+    assert (float(box.width), float(box.height)) == (792, 612)
+    refused = invoke(catalog_path, "sheet", "Korvath 50/1.8", "-o", str(tmp_path / "x.pdf"), "--paper", "a3")
+    assert refused.exit_code == 2 and "--paper" in refused.output and not (tmp_path / "x.pdf").exists()
+
+
+def test_sheet_of_a_lens_recording_its_maximum_magnification(catalog_path, tmp_path):
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.service import add_lens
+
+    with session_scope(catalog_path) as session:
+        add_lens(session, "Vale Macro 100/2.8", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=32,
+                 close_focus_mm=300, max_magnification=1.0)
+    out = tmp_path / "macro.csv"
+    assert invoke(catalog_path, "sheet", "Vale Macro 100/2.8", "-o", str(out)).exit_code == 0
+    first = _csv_rows(out)[0]
+    # The rows start at the lens's own close focus (30 cm), not at 4 × 100 mm = 40 cm.
+    assert float(first["focus_m"]) == pytest.approx(0.3)
+    # At 1:1 with f/2.8: depth ≈ 2 N c (1 + m)/m² = 2 × 2.8 × 0.0288 × 2 = 0.32 mm (common
+    # practice; D. Jacobson, "Photographic Lenses Tutorial", §04).
+    assert float(first["total_m"]) * 1000 == pytest.approx(2 * 2.8 * float(first["coc_mm"]) * 2, rel=0.02)
+    markdown = tmp_path / "macro.md"
+    assert invoke(catalog_path, "sheet", "Vale Macro 100/2.8", "-o", str(markdown)).exit_code == 0
+    assert "Close focusing" in markdown.read_text(encoding="utf-8")

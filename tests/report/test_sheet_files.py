@@ -126,28 +126,32 @@ def test_markdown_has_a_table_per_focal_length_and_imperial_shows_feet(tmp_path,
     assert " m – " not in imperial and " cm" not in imperial
 
 
-def test_pdf_has_one_page_per_focal_length(tmp_path, zoom_sheet):
+def test_pdf_has_a_page_of_pictures_and_a_table_page_per_focal_length(tmp_path, zoom_sheet):
     from pypdf import PdfReader
 
     reader = PdfReader(write_sheet(zoom_sheet, tmp_path / "zoom.pdf"))
-    assert len(reader.pages) == 4
-    for page, focal in zip(reader.pages, ("24 mm", "35 mm", "50 mm", "70 mm")):
+    assert len(reader.pages) == 8
+    for number, page in enumerate(reader.pages):
+        focal = ("24 mm", "35 mm", "50 mm", "70 mm")[number // 2]
         text = page.extract_text()
         assert "Altamira 24-70/2.8" in text and focal in text
-        # Landscape, no larger than A4 (297 × 210 mm = 841.9 × 595.3 pt) nor Letter
-        # (11 × 8.5 in = 792 × 612 pt): 1 in = 72 pt = 25.4 mm.
+        assert ("Zone bars" in text) == (number % 2 == 0) and ("Table" in text) == (number % 2 == 1)
+        # Landscape A4 by default: 297 × 210 mm = 841.9 × 595.3 pt (1 in = 72 pt = 25.4 mm).
         width, height = float(page.mediabox.width), float(page.mediabox.height)
-        assert width > height and width <= 792 and height <= 210 / 25.4 * 72
+        assert (width, height) == pytest.approx((297 / 25.4 * 72, 210 / 25.4 * 72), abs=0.01)
     assert reader.metadata.title == "Sharp-zone sheet: Altamira 24-70/2.8"
+    letter = PdfReader(write_sheet(zoom_sheet, tmp_path / "zoom-letter.pdf", paper="letter")).pages[0]
+    assert (float(letter.mediabox.width), float(letter.mediabox.height)) == (792, 612)  # 11 × 8.5 in
 
 
-def test_png_opens_with_the_expected_size(tmp_path, prime_sheet, zoom_sheet):
+def test_png_holds_every_page_one_under_another(tmp_path, prime_sheet, zoom_sheet):
     from PIL import Image
 
+    # A4 at 120 dpi: 297 mm = 11.69 in → 1403 px, 210 mm = 8.27 in → 992 px per page.
     with Image.open(write_sheet(prime_sheet, tmp_path / "prime.png")) as single:
-        assert single.format == "PNG" and single.size == (1650, 1230)  # 11 × 8.2 in at 150 dpi
-    with Image.open(write_sheet(zoom_sheet, tmp_path / "zoom.png")) as grid:
-        assert grid.size == (1650, 1320)  # two rows of two charts: 11 × 8.8 in at 150 dpi
+        assert single.format == "PNG" and single.size == (1403, 2 * 992)
+    with Image.open(write_sheet(zoom_sheet, tmp_path / "zoom.png")) as pages:
+        assert pages.size == (1403, 8 * 992)
 
 
 def test_unknown_extension_names_it_and_the_expected_ones(tmp_path, prime_sheet):
@@ -202,27 +206,27 @@ def test_close_up_sheets_say_so_and_keep_near_and_far_apart():
     assert near != far
 
 
-def test_wide_tables_still_make_one_pdf_page_per_focal_length(tmp_path):
+def test_wide_tables_are_split_into_parts_not_squeezed(tmp_path):
     from pypdf import PdfReader
 
     sheet = build_sheet(MACRO, choose_coc(), stops="third")
     reader = PdfReader(write_sheet(sheet, tmp_path / "macro.pdf"))
-    assert len(reader.pages) == 1
-    text = reader.pages[0].extract_text()
-    assert "f/2.8" in text and "f/32" in text
+    assert 2 <= len(reader.pages) <= 3
+    tables = " ".join(page.extract_text() for page in reader.pages[1:])
+    assert "f/2.8" in tables and "f/32" in tables and tables.count("Focus at") >= 2
 
 
-def test_html_type_shrinks_or_stacks_cells_to_fit_the_page(tmp_path):
-    from sharpzone.report.sheet_text import html_table_layout, table_text
+def test_html_tables_keep_readable_type_by_splitting_columns():
+    from sharpzone.report.sheet_text import SMALLEST_TABLE_PT, html_table_parts, table_text
 
     metric = build_sheet(PRIME, choose_coc())
-    size, stacked = html_table_layout(table_text(metric, metric.tables[0]))
-    assert not stacked and 7.0 <= size <= 10.0
-    imperial = build_sheet(PRIME, choose_coc(), imperial=True)
-    size, stacked = html_table_layout(table_text(imperial, imperial.tables[0], imperial=True))
-    assert stacked and size >= 7.0
-    page = write_sheet(imperial, tmp_path / "prime.html", imperial=True).read_text(encoding="utf-8")
-    assert '<table class="stacked" style="font-size: ' in page and "table.stacked td span { display: block; }" in page
+    size, runs = html_table_parts(table_text(metric, metric.tables[0]))
+    assert runs == [(0, len(metric.tables[0].f_numbers))] and SMALLEST_TABLE_PT <= size <= 10.0
+    imperial = build_sheet(PRIME, choose_coc(), imperial=True, stops="third")
+    text = table_text(imperial, imperial.tables[0], imperial=True)
+    size, runs = html_table_parts(text, "letter")
+    assert len(runs) >= 2 and size >= SMALLEST_TABLE_PT
+    assert [c for a, b in runs for c in range(a, b)] == list(range(len(text.heads) - 1))
 
 
 def test_facts_say_when_close_focus_is_not_catalogued():

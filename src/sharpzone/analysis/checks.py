@@ -208,7 +208,8 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
     # A shallow copy: the new columns are added to it alone, the caller's frame stays as it was.
     result = frames.copy(deep=False)
     count = len(result)
-    focal = result["focal_mm"].to_numpy(dtype=float)
+    # The focal length the zone was computed with (shorter close up for a macro lens).
+    focal = result["effective_focal_mm" if "effective_focal_mm" in result else "focal_mm"].to_numpy(dtype=float)
     f_number = result["f_number"].to_numpy(dtype=float)
     focus = result["focus_mm"].to_numpy(dtype=float)
     coc = result["coc_mm"].to_numpy(dtype=float)

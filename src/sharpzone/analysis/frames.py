@@ -97,7 +97,8 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
     frame = _join_small_tables(session, frame)
     frame = join_blur(session, frame)
     numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm", "format_height_mm",
-               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture", "plan_near_mm",
+               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture",
+               "lens_close_focus_mm", "lens_max_magnification", "plan_near_mm",
                "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
                "planned_focus_mm"]
     for column in numeric:
@@ -130,7 +131,8 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
     ).outerjoin(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")  # a body may lack a format
     lenses = table(select(
         Lens.id.label("lens_id"), Lens.name.label("lens"), Lens.pupil_magnification,
-        Lens.min_aperture.label("lens_min_aperture")), "lens_id")
+        Lens.min_aperture.label("lens_min_aperture"), Lens.close_focus_mm.label("lens_close_focus_mm"),
+        Lens.max_magnification.label("lens_max_magnification")), "lens_id")
     for key, small in (("shoot_id", shoots), ("body_id", bodies), ("lens_id", lenses)):
         ids = pd.to_numeric(frame[key], errors="coerce")
         for column in small.columns:

@@ -13,7 +13,8 @@ from sharpzone.optics import dof as dof_core
 from sharpzone.optics.coc import CocPolicy, DiagonalFraction, FixedCoc, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
 from sharpzone.optics.formats import SensorFormat
-from sharpzone.optics.planning import StackPlan, plan_focus_stack
+from sharpzone.optics.macro import MacroSpec, check_macro_spec, sharp_zone_focusing
+from sharpzone.optics.planning import DEFAULT_STACK_OVERLAP, StackPlan, plan_focus_stack
 from sharpzone.optics.stops import stop_difference
 from sharpzone.seed import find_shipped_format
 
@@ -43,6 +44,31 @@ def format_lookup(catalog_location: str | None = None) -> FormatLookup:
                 return get_format(session, name).to_core()
 
     return lookup
+
+
+@dataclass(frozen=True)
+class LensOptics:
+    """What a one-off answer takes from a catalogued lens: focal length (a prime's own, else
+    ``None``), the long end, close focus (mm from the sensor), maximum magnification and pupil magnification."""
+
+    name: str
+    focal_mm: float | None
+    focal_max_mm: float
+    close_focus_mm: float | None
+    max_magnification: float | None
+    pupil_magnification: float
+
+
+def catalog_lens_optics(name: str, catalog_location: str | None = None) -> LensOptics:
+    """The lens called ``name`` (or answering to that EXIF name) in the catalogue."""
+    from sharpzone.analysis.sheets import find_lens
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.location import resolve_catalog_url
+
+    with session_scope(resolve_catalog_url(catalog_location)) as session:
+        row = find_lens(session, name)
+        prime = row.focal_min_mm if row.focal_min_mm == row.focal_max_mm else None
+        return LensOptics(row.name, prime, row.focal_max_mm, row.close_focus_mm, row.max_magnification, row.pupil_magnification or 1.0)
 
 
 @dataclass(frozen=True)
@@ -119,12 +145,18 @@ def evaluate_setting(
     coc_policy: str | None = None,
     reference: str = "sensor",
     pupil_magnification: float = 1.0,
+    close_focus_mm: float | None = None,
+    max_magnification: float | None = None,
     lookup: FormatLookup = find_shipped_format,
 ) -> SettingReport:
     """The sharp zone of a lens of ``focal_mm`` at ``f_number`` focused at ``focus_mm`` (mm,
-    measured from ``reference``), with the CoC, diffraction and close-up figures around it."""
+    measured from ``reference``), with the CoC, diffraction and close-up figures around it.
+
+    With ``max_magnification`` (reached at ``close_focus_mm`` from the sensor) the focal
+    length follows the lens's close focusing (``optics.macro``)."""
     coc = choose_coc(sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy, lookup=lookup)
-    zone = dof_core.sharp_zone(focal_mm, f_number, coc.coc_mm, focus_mm, reference=reference,
+    macro = check_macro_spec(focal_mm, close_focus_mm, max_magnification, what="the lens")
+    zone = sharp_zone_focusing(macro, focal_mm, f_number, coc.coc_mm, focus_mm, reference=reference,
                                pupil_magnification=pupil_magnification)
     airy = airy_disk_diameter_mm(zone.effective_f_number)
     limit = diffraction_limited_f_number(coc.coc_mm)
@@ -146,6 +178,8 @@ def evaluate_setting(
         )
     if math.isinf(zone.far_mm):
         notes.append("the zone reaches infinity: focusing nearer (towards the hyperfocal distance) gains depth in front")
+    if macro is not None:
+        notes.append(focusing_note(macro, float(zone.focus_mm)))
     return SettingReport(
         focal_mm=float(focal_mm), f_number=float(f_number), focus_mm=float(focus_mm), reference=reference,
         coc=coc, zone=zone, pupil_magnification=float(pupil_magnification), airy_disk_mm=float(airy),
@@ -154,15 +188,50 @@ def evaluate_setting(
     )
 
 
+def focusing_note(macro: MacroSpec, focus_mm: float) -> str:
+    """What the close-focusing model did at ``focus_mm`` (from the sensor), in words."""
+    from sharpzone.optics.macro import effective_focal_mm
+
+    focal = float(effective_focal_mm(macro, macro.focal_mm, focus_mm))
+    return (f"the lens focuses close by shortening its focal length ({macro.describe()}); "
+            f"focused here it works as {focal:.1f} mm")
+
+
+@dataclass(frozen=True)
+class RailPlan:
+    """The same range shot on a focusing rail: focus left at the first frame's setting and
+    the camera moved ``step_mm`` between frames (every frame then has the same depth)."""
+
+    focus_mm: float
+    depth_mm: float
+    step_mm: float
+    frame_count: int
+
+
 @dataclass(frozen=True)
 class StackReport:
-    """A focus-stack plan with the CoC it was made for."""
+    """A focus-stack plan with the CoC it was made for; lengths in mm.
+
+    ``airy_disk_mm`` has one value per frame (2.44 λ N_eff, 550 nm); ``diffraction_soft``
+    says which frames it softens beyond the CoC. ``rail`` is given for a finite range.
+    """
 
     focal_mm: float
     coc: CocChoice
     near_target_mm: float
     far_target_mm: float
     plan: StackPlan
+    macro: MacroSpec | None = None
+    airy_disk_mm: tuple[float, ...] = ()
+    diffraction_soft: tuple[bool, ...] = ()
+    rail: RailPlan | None = None
+    notes: tuple[str, ...] = ()
+
+    @property
+    def steps_mm(self) -> tuple[float, ...]:
+        """Change of focus distance from each frame to the next (one fewer than frames)."""
+        focus = self.plan.focus_mm
+        return tuple(b - a for a, b in zip(focus, focus[1:]))
 
 
 def plan_stack(
@@ -176,11 +245,49 @@ def plan_stack(
     coc_policy: str | None = None,
     reference: str = "sensor",
     pupil_magnification: float = 1.0,
-    overlap: float = 0.1,
+    overlap: float = DEFAULT_STACK_OVERLAP,
+    close_focus_mm: float | None = None,
+    max_magnification: float | None = None,
     lookup: FormatLookup = find_shipped_format,
 ) -> StackReport:
-    """Frames (focus distances, near to far) at ``f_number`` that together hold the range."""
+    """Frames (focus distances, near to far) at ``f_number`` that together hold the range,
+    each frame's working f-number and Airy disk, and the same range on a focusing rail.
+
+    With ``max_magnification`` (reached at ``close_focus_mm`` from the sensor) the focal
+    length follows the lens's close focusing, so the plan reaches as near as the lens does."""
     coc = choose_coc(sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy, lookup=lookup)
-    plan = plan_focus_stack(focal_mm, f_number, coc.coc_mm, near_target_mm, far_target_mm,
-                            reference=reference, pupil_magnification=pupil_magnification, overlap=overlap)
-    return StackReport(float(focal_mm), coc, float(near_target_mm), float(far_target_mm), plan)
+    macro = check_macro_spec(focal_mm, close_focus_mm, max_magnification, what="the lens")
+    try:
+        plan = plan_focus_stack(focal_mm, f_number, coc.coc_mm, near_target_mm, far_target_mm,
+                                reference=reference, pupil_magnification=pupil_magnification, overlap=overlap,
+                                macro=macro)
+    except InvalidValue as error:
+        if macro is None and near_target_mm <= 4 * focal_mm and error.hint is None:
+            raise InvalidValue(error.message, hint="a lens that focuses closer (a macro lens) records its maximum "
+                               "magnification: give --max-magnification with --close-focus, or --lens") from None
+        raise
+    airy = tuple(float(airy_disk_diameter_mm(n)) for n in plan.effective_f_number)
+    soft = tuple(a > coc.coc_mm for a in airy)
+    rail = None
+    if math.isfinite(far_target_mm) and plan.frame_count > 1:
+        first = sharp_zone_focusing(macro, focal_mm, f_number, coc.coc_mm, plan.focus_mm[0], reference=reference,
+                                    pupil_magnification=pupil_magnification)
+        depth = float(first.total_mm)
+        step = depth * (1 - plan.overlap)
+        count = 1 + math.ceil(max(0.0, far_target_mm - near_target_mm - depth) / step - 1e-9)
+        rail = RailPlan(plan.focus_mm[0], depth, step, count)
+    notes = []
+    if soft and all(soft):
+        limit = float(diffraction_limited_f_number(coc.coc_mm))
+        notes.append(
+            f"diffraction softens every frame: at the working f-number (f/{min(plan.effective_f_number):.1f} or more) "
+            f"the Airy disk ({min(airy) * 1000:.0f} µm) is wider than the CoC ({coc.coc_mm * 1000:.0f} µm); "
+            f"open up to a working f/{limit:.1f} or less (marked about "
+            f"f/{limit / (1 + plan.magnification[0] / pupil_magnification):.1f}) and take more frames")
+    elif any(soft):
+        count = sum(soft)
+        notes.append(f"diffraction softens {count} of {plan.frame_count} frames beyond the CoC (marked ‡)")
+    if macro is not None:
+        notes.append(focusing_note(macro, plan.focus_mm[0]))
+    return StackReport(float(focal_mm), coc, float(near_target_mm), float(far_target_mm), plan, macro, airy,
+                       soft, rail, tuple(notes))

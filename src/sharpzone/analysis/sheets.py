@@ -19,7 +19,8 @@ import numpy as np
 from sharpzone.analysis.setting import DEFAULT_SENSOR, CocChoice, choose_coc
 from sharpzone.errors import InvalidValue, NotFound
 from sharpzone.optics.diffraction import diffraction_limited_f_number
-from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance, sharp_zone
+from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance
+from sharpzone.optics.macro import effective_focal_mm, sharp_zone_focusing
 from sharpzone.optics.stops import STEPS_PER_STOP, check_scale, stop_series
 from sharpzone.units import MM_PER_FOOT, MM_PER_INCH, format_distance
 
@@ -40,6 +41,14 @@ _FINE_STEPS = (1.0, 1.5, 2.0, 3.0, 5.0, 7.0)
 _COARSE_STEPS = (1.0, 2.0, 5.0)
 _IMPERIAL_INCHES = (2, 3, 4, 6, 8)
 MAX_LADDER_ROWS = 14
+# The distances portraits are usually taken at, head-and-shoulders to full length (common
+# practice): added to the ladder wherever it spans them, beyond MAX_LADDER_ROWS.
+PORTRAIT_DISTANCES_MM = (2000.0, 2500.0, 3000.0, 4000.0, 5000.0)
+PORTRAIT_DISTANCES_FT = (7.0, 8.0, 10.0, 12.0, 15.0)
+# Close-up rows for a lens whose focal length follows its focus (a macro lens): the range
+# where product and detail work happens, in round steps (metric mm, imperial inches).
+CLOSE_UP_DISTANCES_MM = (200.0, 250.0, 350.0, 400.0, 450.0, 600.0, 800.0)
+CLOSE_UP_DISTANCES_IN = (8.0, 10.0, 14.0, 16.0, 18.0, 21.0, 30.0)
 # A ladder step closer than this factor to the close-focus row would repeat it.
 LADDER_GAP = 1.15
 # Without a catalogued close-focus distance the ladder starts at this many focal lengths:
@@ -65,6 +74,7 @@ class LensSpec:
     min_aperture: float
     close_focus_mm: float | None = None
     pupil_magnification: float = 1.0
+    max_magnification: float | None = None
 
     def __post_init__(self) -> None:
         if not self.name or not self.name.strip():
@@ -85,12 +95,24 @@ class LensSpec:
         if self.close_focus_mm is not None and not (self.close_focus_mm > 0):
             raise InvalidValue(f"lens {self.name!r}: close-focus distance {self.close_focus_mm!r} mm is not "
                                "valid: expected above 0 mm")
+        self.macro_at(self.focal_max_mm)  # the one check of the pair (optics.macro)
+
+    def macro_at(self, focal_mm: float):
+        """The close-focusing model at ``focal_mm`` (``optics.macro.MacroSpec``), or ``None``:
+        a recorded maximum magnification applies to a prime and to a zoom's long end."""
+        from sharpzone.optics.macro import check_macro_spec
+
+        if self.max_magnification is None or abs(focal_mm - self.focal_max_mm) > _SAME_STOP * focal_mm:
+            return None
+        return check_macro_spec(self.focal_max_mm, self.close_focus_mm, self.max_magnification,
+                                what=f"lens {self.name!r}")
 
     @classmethod
     def from_row(cls, row) -> LensSpec:
         """The spec of a catalogue ``Lens`` row (or anything with the same attributes)."""
         return cls(row.name, row.focal_min_mm, row.focal_max_mm, row.max_aperture_wide, row.max_aperture_tele,
-                   row.min_aperture, row.close_focus_mm, row.pupil_magnification or 1.0)
+                   row.min_aperture, row.close_focus_mm, row.pupil_magnification or 1.0,
+                   getattr(row, "max_magnification", None))
 
     @property
     def is_prime(self) -> bool:
@@ -148,6 +170,10 @@ class FocalTable:
     curve_focus_mm: np.ndarray
     curve_near_mm: np.ndarray
     curve_far_mm: np.ndarray
+    # The focal length at each row (shorter close up when the lens's focal length follows
+    # its focus, ``optics.macro``; else the nominal one throughout) and that model, if used.
+    row_focal_mm: np.ndarray | None = None
+    macro: object | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -208,16 +234,24 @@ def sheet_f_numbers(lens: LensSpec, focal_mm: float, stops: str = "full") -> lis
     return [widest, *narrower]
 
 
-def focus_ladder_mm(nearest_mm: float, farthest_mm: float, *, imperial: bool = False) -> list[float]:
+def focus_ladder_mm(nearest_mm: float, farthest_mm: float, *, imperial: bool = False,
+                    close_up: bool = False) -> list[float]:
     """Round focus distances (mm) from ``nearest_mm`` (kept as the first row) to
     ``farthest_mm``, then infinity: 1, 1.5, 2, 3, 5, 7 per decade of metres or feet, or
-    1, 2, 5 when that would give more than ``MAX_LADDER_ROWS`` rows."""
+    1, 2, 5 when that would give more than ``MAX_LADDER_ROWS`` rows; the portrait distances
+    besides, and with ``close_up`` (a macro lens) the close-up distances too."""
     for steps in (_FINE_STEPS, _COARSE_STEPS):
         rounds = round_distances_mm(steps, imperial=imperial)
         between = [d for d in rounds if nearest_mm * LADDER_GAP <= d <= farthest_mm]
         if len(between) + 2 <= MAX_LADDER_ROWS:
             break
-    return [nearest_mm, *between, math.inf]
+    extra = [feet * MM_PER_FOOT for feet in PORTRAIT_DISTANCES_FT] if imperial else list(PORTRAIT_DISTANCES_MM)
+    if close_up:
+        extra += [inches * MM_PER_INCH for inches in CLOSE_UP_DISTANCES_IN] if imperial else list(CLOSE_UP_DISTANCES_MM)
+    for d in extra:
+        if nearest_mm * LADDER_GAP <= d <= farthest_mm and not any(math.isclose(d, kept, rel_tol=1e-9) for kept in between):
+            between.append(d)
+    return [nearest_mm, *sorted(between), math.inf]
 
 
 def round_distances_mm(steps: tuple[float, ...], *, imperial: bool) -> list[float]:
@@ -261,7 +295,10 @@ def build_sheet(
 def _close_focus_mm(lens: LensSpec, focal_mm: float, reference: str) -> tuple[float, bool]:
     """The closest focus at ``focal_mm`` in ``reference`` (catalogued from the sensor), and
     whether it was raised to 4 f from the sensor, the nearest a thin lens can focus: real
-    macro lenses (thick, internally focusing) get nearer than the model can follow."""
+    macro lenses (thick, internally focusing) get nearer than the model can follow unless
+    they record their maximum magnification (then the focal length follows the focus)."""
+    if reference == "sensor" and lens.macro_at(focal_mm) is not None:
+        return float(lens.close_focus_mm), False
     from_sensor = lens.close_focus_mm if lens.close_focus_mm is not None else DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS * focal_mm
     raised = from_sensor < 4 * focal_mm
     from_sensor = max(from_sensor, 4 * focal_mm)
@@ -282,7 +319,8 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
             raise InvalidValue(f"focus distance {format_distance(nearer[0])} is nearer than the close-focus "
                                f"distance of {lens.name!r} at {focal_mm:g} mm ({format_distance(close)})")
     else:
-        ladder = focus_ladder_mm(close, float(hyperfocal.max()), imperial=imperial)
+        ladder = focus_ladder_mm(close, float(hyperfocal.max()), imperial=imperial,
+                                 close_up=reference == "sensor" and lens.macro_at(focal_mm) is not None)
     finite = [d for d in ladder if math.isfinite(d)] or [close]
     chart_far = max(max(finite), float(hyperfocal.max())) * 1.5
     curve = np.geomspace(min(finite), chart_far, CURVE_SAMPLES)
@@ -294,8 +332,9 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
         hyperfocal[None, :],
         np.broadcast_to(curve[:, None], (CURVE_SAMPLES, columns)),
     ])
-    zone = sharp_zone(focal_mm, f_numbers[None, :], coc_mm, focus, reference=reference,
-                      pupil_magnification=lens.pupil_magnification)
+    macro = lens.macro_at(focal_mm) if reference == "sensor" else None
+    zone = sharp_zone_focusing(macro, focal_mm, f_numbers[None, :], coc_mm, focus, reference=reference,
+                               pupil_magnification=lens.pupil_magnification)
     near, far, total = (np.asarray(values) for values in (zone.near_mm, zone.far_mm, zone.total_mm))
     return FocalTable(
         focal_mm=float(focal_mm),
@@ -313,6 +352,8 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
         curve_focus_mm=curve,
         curve_near_mm=near[rows + 1:],
         curve_far_mm=far[rows + 1:],
+        row_focal_mm=np.asarray(effective_focal_mm(macro, focal_mm, np.array(ladder))),
+        macro=macro,
     )
 
 

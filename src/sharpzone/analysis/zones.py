@@ -17,6 +17,7 @@ from sharpzone.optics.coc import CocPolicy, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
 from sharpzone.optics.dof import MIN_F_NUMBER, sharp_zone
 from sharpzone.optics.formats import SensorFormat, pixel_pitch_mm
+from sharpzone.optics.macro import effective_focal_rows
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -27,10 +28,13 @@ FRAME_COLUMNS = (
     "format_name", "format_width_mm", "format_height_mm", "format_coc_divisor", "pixel_width",
     "pupil_magnification", "shoot_coc_policy",
 )
+# Read when present: a lens's close focus and maximum magnification (``optics.macro``).
+FOCUSING_COLUMNS = ("lens_close_focus_mm", "lens_max_magnification")
 
 ZONE_COLUMNS = (
     "coc_mm", "coc_policy", "coc_from", "near_mm", "far_mm", "hyperfocal_mm", "total_mm",
     "magnification", "effective_f_number", "airy_disk_mm", "diffraction_limited_f_number",
+    "effective_focal_mm",
 )
 
 
@@ -110,23 +114,29 @@ def add_zones(frames: pd.DataFrame, coc_policy: CocPolicy | None = None) -> pd.D
     Rows whose focal length, f-number or format is unknown get NaN everywhere and say which
     in ``settings_missing`` (e.g. "sensor format unknown"); rows with an unknown focus
     distance still get CoC, hyperfocal distance and Airy disk.
+    ``effective_focal_mm`` is the focal length the zone was computed with.
     """
     result = frames.copy()
     count = len(result)
     coc, specs, origins = circles_of_confusion(result, coc_policy)
-    focal = result["focal_mm"].to_numpy(dtype=float)
     f_number = result["f_number"].to_numpy(dtype=float)
     focus = result["focus_mm"].to_numpy(dtype=float)
+    # The focal length the lens had at the recorded focus: the nominal one unless the lens
+    # records a maximum magnification (then shorter close up, as internal focusing makes it).
+    focal = effective_focal_rows(*(result[c].to_numpy(dtype=float) if c in result else np.full(count, np.nan)
+                                   for c in ("focal_mm", *FOCUSING_COLUMNS)), focus)
     pupil = result["pupil_magnification"].fillna(1.0).to_numpy(dtype=float)
     settings_known = (focal > 0) & (f_number >= MIN_F_NUMBER) & (coc > 0)
     focus_known = settings_known & (focus >= 4 * np.where(focal > 0, focal, np.inf))
 
     columns = {name: np.full(count, np.nan) for name in ZONE_COLUMNS if name not in ("coc_policy", "coc_from")}
     columns["coc_mm"] = coc
+    columns["effective_focal_mm"] = focal
     if settings_known.any():
         known = settings_known
+        nominal = result["focal_mm"].to_numpy(dtype=float)  # the hyperfocal distance is a far-focus figure
         columns["hyperfocal_mm"][known] = sharp_zone(
-            focal[known], f_number[known], coc[known], np.inf, reference="sensor").hyperfocal_mm
+            nominal[known], f_number[known], coc[known], np.inf, reference="sensor").hyperfocal_mm
         columns["diffraction_limited_f_number"][known] = diffraction_limited_f_number(coc[known])
         columns["effective_f_number"][known] = f_number[known]
     if focus_known.any():

@@ -321,9 +321,26 @@ ApertureRangeOpt = Annotated[Optional[str], typer.Option("--aperture", help="Wid
 MinApertureOpt = Annotated[Optional[str], typer.Option("--min-aperture", help="Smallest aperture (largest f-number), e.g. 22.")]
 CloseFocusOpt = Annotated[Optional[str], typer.Option("--close-focus", help=f"Closest focus distance from the sensor: {DISTANCE_HELP}.")]
 PupilOpt = Annotated[Optional[str], typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter; 1 for a symmetric lens).")]
+MaxMagnificationOpt = Annotated[Optional[str], typer.Option(
+    "--max-magnification", help="Image scale reached at the close-focus distance, from the lens's "
+    "specification: 1:1, 1:2, 0.25x or 0.5 (a zoom's at its long end; 0 clears it). Lets the "
+    "model follow a lens that shortens its focal length to focus close.")]
 
 
-def _lens_numbers(focal, aperture, min_aperture, close_focus, pupil) -> dict:
+def _magnification_option(value: str | None) -> float | None:
+    from sharpzone.optics.macro import parse_magnification
+
+    if value is None:
+        return None
+    if value.strip() in ("0", "none"):
+        return 0.0
+    try:
+        return parse_magnification(value, what="value")
+    except InvalidValue as error:
+        raise InvalidValue(f"--max-magnification: {error.message}") from None
+
+
+def _lens_numbers(focal, aperture, min_aperture, close_focus, pupil, max_magnification=None) -> dict:
     focal_min, focal_max = _range_option(focal, "--focal", length_option) if focal else (None, None)
     wide, tele = _range_option(aperture, "--aperture", f_number_option) if aperture else (None, None)
     return {
@@ -334,6 +351,7 @@ def _lens_numbers(focal, aperture, min_aperture, close_focus, pupil) -> dict:
         "min_aperture": _maybe(f_number_option, min_aperture, "--min-aperture"),
         "close_focus_mm": _maybe(distance_option, close_focus, "--close-focus"),
         "pupil_magnification": _number_option(pupil, "pupil"),
+        "max_magnification": _magnification_option(max_magnification),
     }
 
 
@@ -346,6 +364,7 @@ def lens_add(
     min_aperture: MinApertureOpt = None,
     close_focus: CloseFocusOpt = None,
     pupil: PupilOpt = None,
+    max_magnification: MaxMagnificationOpt = None,
     exif_name: Annotated[Optional[list[str]], typer.Option("--exif-name", help="EXIF LensModel text that names this lens; repeat for more.")] = None,
     unconfirmed: Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")] = False,
 ) -> None:
@@ -354,7 +373,7 @@ def lens_add(
 
     if focal is None or aperture is None:
         raise InvalidValue("lens add needs --focal (e.g. 50 or 24-70) and --aperture (e.g. 2.8 or 3.5-5.6)")
-    numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil)
+    numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil, max_magnification)
     defaults = {"min_aperture": 22.0, "pupil_magnification": 1.0}
     numbers.update({key: value for key, value in defaults.items() if numbers[key] is None})
     with catalog_session(ctx) as session:
@@ -372,12 +391,13 @@ def lens_edit(
     min_aperture: MinApertureOpt = None,
     close_focus: CloseFocusOpt = None,
     pupil: PupilOpt = None,
+    max_magnification: MaxMagnificationOpt = None,
     confirmed: Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help="Mark the lens as checked (or not).", show_default=False)] = None,
 ) -> None:
     """Change a lens; every frame taken with it follows."""
     from sharpzone.catalog.service import edit_lens
 
-    numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil)
+    numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil, max_magnification)
     with catalog_session(ctx) as session:
         row = edit_lens(session, name, new_name=new_name, confirmed=confirmed, **numbers)
     _show(row, "lens", title=f"Changed lens {row.name}")

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from typing import Annotated
+from dataclasses import dataclass
+from typing import Annotated, Optional
 
 import typer
 
@@ -21,10 +22,14 @@ from sharpzone.cli.options import (
 from sharpzone.cli.state import catalog_location, echo_json
 from sharpzone.errors import InvalidValue
 from sharpzone.limits import OVERLAP_HELP, check_overlap
+from sharpzone.optics.planning_limits import DEFAULT_STACK_OVERLAP
 from sharpzone.units import DISTANCE_HELP
 
-PupilOpt = Annotated[float, typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter); 1 for a symmetric lens.")]
-FocalOpt = Annotated[str, typer.Option("--focal", "-f", help="Focal length in mm (the real one, not the 35 mm equivalent).")]
+PupilOpt = Annotated[Optional[float], typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter); 1 for a symmetric lens (default, or the catalogued lens's).")]
+FocalOpt = Annotated[Optional[str], typer.Option("--focal", "-f", help="Focal length in mm (the real one, not the 35 mm equivalent); a catalogued prime's own with --lens.")]
+LensOpt = Annotated[Optional[str], typer.Option("--lens", "-l", help="A catalogued lens (name or EXIF name): its close focus, maximum magnification and pupil magnification apply.")]
+MaxMagOpt = Annotated[Optional[str], typer.Option("--max-magnification", help="The lens's maximum magnification at --close-focus (1:1, 0.5x …): the focal length then shortens towards close focus as the lens's does.")]
+CloseFocusOpt = Annotated[Optional[str], typer.Option("--close-focus", help=f"The lens's closest focus from the sensor, with --max-magnification: {DISTANCE_HELP}.")]
 ApertureOpt = Annotated[str, typer.Option("--aperture", "-a", help="f-number, e.g. 8 or f/5.6.")]
 
 
@@ -38,16 +43,56 @@ def _common(coc: str | None, reference: str) -> tuple[float | None, str]:
     return coc_mm, choice_option(reference, "--reference", ("sensor", "lens"))
 
 
+@dataclass(frozen=True)
+class _Lens:
+    focal_mm: float
+    close_focus_mm: float | None
+    max_magnification: float | None
+    pupil: float
+
+
+def _lens(ctx, focal: str | None, lens: str | None, max_magnification: str | None, close_focus: str | None,
+          pupil: float | None) -> _Lens:
+    """Focal length and focusing from the options, a catalogued lens filling the gaps."""
+    from sharpzone.errors import InvalidValue
+    from sharpzone.optics.macro import parse_magnification
+
+    found = None
+    if lens is not None:
+        from sharpzone.analysis.setting import catalog_lens_optics
+
+        found = catalog_lens_optics(lens, catalog_location(ctx))
+    focal_mm = length_option(focal, "--focal") if focal is not None else (found.focal_mm if found else None)
+    if focal_mm is None:
+        raise InvalidValue("--focal is needed (a zoom's focal length, or give a catalogued prime with --lens)")
+    magnification = None
+    if max_magnification is not None:
+        try:
+            magnification = parse_magnification(max_magnification, what="value")
+        except InvalidValue as error:
+            raise InvalidValue(f"--max-magnification: {error.message}") from None
+    elif found is not None and abs(focal_mm - found.focal_max_mm) <= 1e-6 * focal_mm:
+        # A zoom's maximum magnification is its long end's; elsewhere the nominal model stays.
+        magnification = found.max_magnification
+    close_mm = distance_option(close_focus, "--close-focus") if close_focus is not None else (
+        found.close_focus_mm if found else None)
+    pupil_value = pupil if pupil is not None else (found.pupil_magnification if found else 1.0)
+    return _Lens(focal_mm, close_mm if magnification is not None else None, magnification, pupil_value)
+
+
 def dof(
     ctx: typer.Context,
-    focal: FocalOpt,
     aperture: ApertureOpt,
     distance: Annotated[str, typer.Option("--distance", "-d", help=f"Focus distance: {DISTANCE_HELP}.")],
+    focal: FocalOpt = None,
+    lens: LensOpt = None,
+    max_magnification: MaxMagOpt = None,
+    close_focus: CloseFocusOpt = None,
     sensor: SensorOpt = None,
     coc: CocOpt = None,
     coc_policy: CocPolicyOpt = None,
     reference: ReferenceOpt = "sensor",
-    pupil: PupilOpt = 1.0,
+    pupil: PupilOpt = None,
     imperial: ImperialOpt = False,
     json: JsonOpt = False,
 ) -> None:
@@ -55,10 +100,12 @@ def dof(
     from sharpzone.analysis.setting import evaluate_setting, format_lookup
 
     coc_mm, reference = _common(coc, reference)
+    chosen = _lens(ctx, focal, lens, max_magnification, close_focus, pupil)
     report = evaluate_setting(
-        length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
+        chosen.focal_mm, f_number_option(aperture, "--aperture"),
         distance_option(distance, "--distance"), sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy,
-        reference=reference, pupil_magnification=pupil, lookup=format_lookup(catalog_location(ctx)),
+        reference=reference, pupil_magnification=chosen.pupil, close_focus_mm=chosen.close_focus_mm,
+        max_magnification=chosen.max_magnification, lookup=format_lookup(catalog_location(ctx)),
     )
     if json:
         from sharpzone.report.machine import setting_json
@@ -72,16 +119,20 @@ def dof(
 
 def stack(
     ctx: typer.Context,
-    focal: FocalOpt,
     aperture: ApertureOpt,
     near: Annotated[str, typer.Option("--near", help=f"Nearest point that must be sharp: {DISTANCE_HELP}.")],
     far: Annotated[str, typer.Option("--far", help=f"Farthest point that must be sharp: {DISTANCE_HELP}.")],
-    overlap: Annotated[float, typer.Option("--overlap", help=f"Share of each frame's depth that neighbouring frames repeat ({OVERLAP_HELP}).")] = 0.1,
+    focal: FocalOpt = None,
+    lens: LensOpt = None,
+    max_magnification: MaxMagOpt = None,
+    close_focus: CloseFocusOpt = None,
+    overlap: Annotated[float, typer.Option("--overlap", help="Share of each frame's depth, in dioptres, that "
+                                           f"neighbouring frames repeat ({OVERLAP_HELP}).")] = DEFAULT_STACK_OVERLAP,
     sensor: SensorOpt = None,
     coc: CocOpt = None,
     coc_policy: CocPolicyOpt = None,
     reference: ReferenceOpt = "sensor",
-    pupil: PupilOpt = 1.0,
+    pupil: PupilOpt = None,
     imperial: ImperialOpt = False,
     json: JsonOpt = False,
 ) -> None:
@@ -93,10 +144,12 @@ def stack(
         check_overlap(overlap)
     except InvalidValue as error:
         raise error.with_option("--overlap") from None
+    chosen = _lens(ctx, focal, lens, max_magnification, close_focus, pupil)
     report = plan_stack(
-        length_option(focal, "--focal"), f_number_option(aperture, "--aperture"),
+        chosen.focal_mm, f_number_option(aperture, "--aperture"),
         distance_option(near, "--near"), distance_option(far, "--far"), sensor=sensor, coc_mm=coc_mm,
-        coc_policy=coc_policy, reference=reference, pupil_magnification=pupil, overlap=overlap,
+        coc_policy=coc_policy, reference=reference, pupil_magnification=chosen.pupil, overlap=overlap,
+        close_focus_mm=chosen.close_focus_mm, max_magnification=chosen.max_magnification,
         lookup=format_lookup(catalog_location(ctx)),
     )
     if json:

@@ -38,8 +38,8 @@ def sheet(
     lens: Annotated[str, typer.Argument(help="The lens: its catalogue name or an EXIF lens name it answers to.",
                                         show_default=False)],
     out: Annotated[str, typer.Option("--out", "-o", help="File to write; the extension picks the form: .csv (tidy "
-                                     "rows), .md, .html (printable tables), .pdf (chart and table per focal "
-                                     "length) or .png (charts).", show_default=False)],
+                                     "rows), .md, .html (printable charts and tables), .pdf (charts and table "
+                                     "per focal length) or .png (the PDF's pages in one image).", show_default=False)],
     body: Annotated[Optional[str], typer.Option("--body", "-b", help="Camera body whose sensor format (and "
                                                 "pixel pitch) the sheet is for.")] = None,
     sensor: SensorOpt = None,
@@ -54,15 +54,18 @@ def sheet(
     coc_policy: CocPolicyOpt = None,
     reference: ReferenceOpt = "sensor",
     imperial: ImperialOpt = False,
+    paper: Annotated[str, typer.Option("--paper", help="Paper the PDF, PNG and HTML are laid out for, landscape: "
+                                       "a4 or letter.")] = "a4",
 ) -> None:
     """A lens's sharp-zone sheet to print and carry: near and far limits per focal length, f-number and focus distance."""
     from sharpzone.analysis.sheets import sheet_from_catalog
-    from sharpzone.report.sheet_files import sheet_form, write_sheet
+    from sharpzone.report.sheet_files import PAPERS, sheet_form, write_sheet
 
     try:
         sheet_form(out)
     except InvalidValue as error:
         raise error.with_option("--out") from None
+    paper = choice_option(paper, "--paper", PAPERS)
     focal_lengths = [length_option(value, "--focal") for value in _listed(focal)]
     focus_distances = [distance_option(value, "--distances") for value in _listed(distances)]
     with catalog_session(ctx) as session:
@@ -73,7 +76,7 @@ def sheet(
             distances=focus_distances or None, reference=choice_option(reference, "--reference", ("sensor", "lens")),
             imperial=imperial,
         )
-    written = write_sheet(result, out, imperial=imperial)
+    written = write_sheet(result, out, imperial=imperial, paper=paper)
     focal_count = len(result.tables)
     typer.echo(inert(f"wrote the sheet of {result.lens.name} ({focal_count} focal length{'s' if focal_count > 1 else ''}) "
                f"to {written}"))

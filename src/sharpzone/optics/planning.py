@@ -37,6 +37,7 @@ frame-by-frame plan at 0.2–0.3× (tests/optics/test_stack_closed_form.py), non
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -44,6 +45,7 @@ import numpy as np
 from sharpzone.errors import InvalidValue
 from sharpzone.limits import check_overlap
 from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_array
+from sharpzone.optics.macro import MacroSpec, effective_focal_mm, focus_for_near_limit, sharp_zone_focusing
 from sharpzone.optics.dof import (
     Reference,
     check_reference,
@@ -54,9 +56,7 @@ from sharpzone.optics.dof import (
     validate_lens_inputs,
 )
 
-# A stack that needs more frames than this is not a plan anyone will shoot.
-MAX_STACK_FRAMES = 5000
-DEFAULT_STACK_OVERLAP = 0.1
+from sharpzone.optics.planning_limits import DEFAULT_STACK_OVERLAP, MAX_STACK_FRAMES
 
 
 def _check_range(near_target, far_target, focal, reference: Reference):
@@ -310,6 +310,11 @@ class StackPlan:
     far_mm: tuple[float, ...]
     overlap: float
     reference: Reference
+    # Per frame: image scale, working f-number N (1 + m/P) and the focal length the lens has
+    # there (the nominal one unless the lens records a maximum magnification).
+    magnification: tuple[float, ...] = ()
+    effective_f_number: tuple[float, ...] = ()
+    focal_mm: tuple[float, ...] = ()
 
     @property
     def frame_count(self) -> int:
@@ -336,9 +341,20 @@ def stack_frame_counts(
 def plan_focus_stack(
     focal_mm: float, f_number: float, coc_mm: float, near_target_mm: float, far_target_mm: float, *,
     reference: Reference = "sensor", pupil_magnification: float = 1.0, overlap: float = DEFAULT_STACK_OVERLAP,
+    macro: MacroSpec | None = None,
 ) -> StackPlan:
     """A focus stack at ``f_number`` that holds [near_target, far_target]: the frames' focus
-    distances and limits, from near to far. One frame when one frame is enough."""
+    distances and limits, from near to far. One frame when one frame is enough.
+
+    Without ``macro`` the frames follow in closed form (the module doc). ``macro``
+    (``optics.macro.check_macro_spec``) lets the focal length follow the lens's close
+    focusing, so the stack reaches as near as the lens does (distances from the sensor);
+    its frames are found one after another, since the focal length changes from frame to
+    frame (a plan, not a per-frame remedy: the loop runs once per planned frame).
+    """
+    if macro is not None:
+        return _plan_macro_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference,
+                                 pupil_magnification, overlap, macro)
     counts, progression = _stack_progression(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm,
                                              reference, pupil_magnification, overlap)
     count = int(np.asarray(counts).flat[0])
@@ -356,8 +372,11 @@ def plan_focus_stack(
     focus = _focus_from_m(m, f, reference)
     zone = sharp_zone(f, n, c, focus, reference=reference, pupil_magnification=p)
     near, far = np.atleast_1d(zone.near_mm), np.atleast_1d(zone.far_mm)
+    magnification = np.atleast_1d(zone.magnification) * np.ones(count)
+    effective = np.atleast_1d(zone.effective_f_number) * np.ones(count)
     return StackPlan(float(f_number), tuple(map(float, focus)), tuple(map(float, near)), tuple(map(float, far)),
-                     overlap, reference)
+                     overlap, reference, tuple(map(float, magnification)), tuple(map(float, effective)),
+                     (f,) * count)
 
 
 def _stack_progression(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference, pupil, overlap):
@@ -381,3 +400,38 @@ def _stack_progression(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm
     counts = np.where(one, 1, 1 + np.maximum(later, 1)).astype(np.float64)
     counts = np.where(counts > MAX_STACK_FRAMES, -1, counts).astype(np.int64)
     return counts, (f, n, c, p, np.maximum(m_first, 0.0), m_fixed, ratio)
+
+
+def _plan_macro_stack(focal_mm, f_number, coc_mm, near_target_mm, far_target_mm, reference, pupil, overlap,
+                      macro: MacroSpec) -> StackPlan:
+    """A stack with the close-focusing model: each frame's near limit is the last one's far
+    limit less the overlap, found with the focal length the lens has at that focus."""
+    if reference != "sensor":
+        raise InvalidValue("a lens's maximum magnification is modelled with distances from the sensor: "
+                           "use --reference sensor")
+    overlap = check_overlap(overlap)
+    f, n, c, p = (float(np.asarray(x).flat[0]) for x in validate_lens_inputs(focal_mm, f_number, coc_mm, pupil))
+    a, b = (float(np.asarray(x).flat[0]) for x in
+            _check_range(near_target_mm, far_target_mm, macro.close_focus_focal_mm / 4.0001, reference))
+    closest = sharp_zone_focusing(macro, f, n, c, macro.close_focus_mm, pupil_magnification=p)
+    reach = float(np.asarray(closest.near_mm).flat[0])
+    if a < reach * (1 - 1e-9):
+        raise InvalidValue(
+            f"near end {a:g} mm is nearer than this lens reaches: at its close focus "
+            f"({macro.close_focus_mm:g} mm) the zone starts at {reach:.1f} mm")
+    frames, target = [], a
+    while True:
+        focus = float(np.asarray(focus_for_near_limit(macro, n, c, target, p)).flat[0])
+        zone = sharp_zone_focusing(macro, f, n, c, focus, reference=reference, pupil_magnification=p)
+        near, far = float(np.asarray(zone.near_mm).flat[0]), float(np.asarray(zone.far_mm).flat[0])
+        frames.append((focus, near, far, float(np.asarray(zone.magnification).flat[0]),
+                       float(np.asarray(zone.effective_f_number).flat[0]),
+                       float(np.asarray(effective_focal_mm(macro, f, focus)).flat[0])))
+        if far >= b * (1 - 1e-12) or math.isinf(focus):
+            break
+        if len(frames) >= MAX_STACK_FRAMES:
+            raise InvalidValue(f"the range needs more than {MAX_STACK_FRAMES} frames at f/{f_number:g}",
+                               hint="stop down, step back, or split the range")
+        target = far - overlap * (far - near)
+    focus, near, far, m, effective, focal = (tuple(column) for column in zip(*frames))
+    return StackPlan(float(f_number), focus, near, far, overlap, reference, m, effective, focal)

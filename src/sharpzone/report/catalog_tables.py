@@ -85,6 +85,12 @@ BODY_FIELDS = [
     Field("Confirmed", lambda r, _: _yes_no(r.confirmed), lambda r: {"confirmed": r.confirmed}, priority=1, wrap=True),
 ]
 
+def _magnification_text(value: float | None) -> str:
+    from sharpzone.optics.macro import format_magnification
+
+    return "—" if value is None else format_magnification(value)
+
+
 LENS_FIELDS = [
     _plain("name", "Name"),
     Field("Focal length", lambda r, _: _focal_range(r.focal_min_mm, r.focal_max_mm),
@@ -95,6 +101,8 @@ LENS_FIELDS = [
           priority=3),
     Field("Close focus", lambda r, imperial: format_distance(r.close_focus_mm, imperial=imperial),
           lambda r: {"close_focus_m": metres(r.close_focus_mm)}, priority=2),
+    Field("Max magnification", lambda r, _: _magnification_text(r.max_magnification),
+          lambda r: {"max_magnification": r.max_magnification}, priority=4),
     Field("Pupil magnification", lambda r, _: f"{r.pupil_magnification:g}", lambda r: {"pupil_magnification": r.pupil_magnification},
           in_list=False),
     Field("EXIF names", lambda r, _: ", ".join(a.exif_name for a in r.aliases) or "—",

@@ -272,32 +272,62 @@ def render_setting(report: SettingReport, *, imperial: bool = False, console: Co
         console.print(line("• ", note))
 
 
+def stack_digits(report: StackReport) -> int:
+    """Significant figures that keep neighbouring frames apart: the farthest finite distance
+    shown with the smallest step (or depth) to about two figures; 3 to 7."""
+    plan = report.plan
+    finite = [d for d in (*plan.focus_mm, *plan.near_mm, *plan.far_mm) if math.isfinite(d)]
+    finest = [s for s in report.steps_mm if math.isfinite(s) and s > 0]
+    finest += [far - near for near, far in zip(plan.near_mm, plan.far_mm) if math.isfinite(far) and far > near]
+    if not finite or not finest:
+        return 3
+    return min(7, max(3, math.ceil(math.log10(max(finite) / min(finest))) + 1))
+
+
 def render_stack(report: StackReport, *, imperial: bool = False, console: Console | None = None) -> None:
-    """A focus-stack plan: one row per frame, near to far."""
+    """A focus-stack plan: one row per frame, near to far, with the step from the frame
+    before, the working f-number, and (for a finite range) the same stack on a focusing rail."""
     console = console or stdout_console()
     plan = report.plan
+    digits = stack_digits(report)
 
     def dist(value_mm: float) -> str:
+        return format_distance(value_mm, imperial=imperial, digits=digits)
+
+    def short(value_mm: float) -> str:
         return format_distance(value_mm, imperial=imperial)
 
     frames = "frame" if plan.frame_count == 1 else "frames"
     title = (
         f"{plan.frame_count} {frames} at {format_f_number(plan.f_number)} with {report.focal_mm:g} mm hold "
-        f"{dist(report.near_target_mm)} – {dist(report.far_target_mm)}"
+        f"{short(report.near_target_mm)} – {short(report.far_target_mm)}"
     )
     caption = (f"distances {_reference_phrase(plan.reference)}; CoC {format_length_mm(report.coc.coc_mm)} "
-               f"({report.coc.describe()})")
+               f"({report.coc.describe()}); working f-number N (1 + m/P)")
     console.print(title, style="bold")
     table = Table()
-    table.add_column("#", justify="right")
-    table.add_column("Focus at", justify="right")
-    table.add_column("Sharp from", justify="right")
-    table.add_column("Sharp to", justify="right")
+    for head in ("#", "Focus at", "Step", "Sharp from", "Sharp to", "Scale", "Working"):
+        table.add_column(head, justify="right", no_wrap=True)
+    steps = ("—", *(format_distance(step, imperial=imperial, digits=2) for step in report.steps_mm))
+    soft = report.diffraction_soft or (False,) * plan.frame_count
     for number, (focus, near, far) in enumerate(zip(plan.focus_mm, plan.near_mm, plan.far_mm), start=1):
-        table.add_row(str(number), dist(focus), dist(near), dist(far))
+        m = plan.magnification[number - 1] if plan.magnification else float("nan")
+        working = plan.effective_f_number[number - 1] if plan.effective_f_number else plan.f_number
+        mark = " ‡" if soft[number - 1] else ""
+        table.add_row(str(number), dist(focus), steps[number - 1], dist(near), dist(far), f"{m:.3g}×",
+                      f"f/{working:.1f}{mark}")
     console.print(table)
     console.print(caption)
     if plan.frame_count > 1:
         console.print(f"• neighbouring frames share {plan.overlap:.0%} of their depth")
     if math.isinf(plan.focus_mm[-1]):
         console.print("• the last frame is focused at infinity")
+    rail = report.rail
+    if rail is not None:
+        console.print(f"• on a focusing rail: focus once at {dist(rail.focus_mm)}, then move the camera "
+                      f"{format_distance(rail.step_mm, imperial=imperial, digits=2)} per frame, {rail.frame_count} "
+                      f"frames (each {format_distance(rail.depth_mm, imperial=imperial, digits=2)} deep)")
+    if any(soft):
+        console.print("• ‡ diffraction at the working f-number (Airy disk 2.44 λ N, 550 nm) is wider than the CoC")
+    for note in report.notes:
+        console.print(f"• {note}")

@@ -50,8 +50,19 @@ def stack_json(report: StackReport) -> dict[str, Any]:
         "sensor": report.coc.sensor.name if report.coc.sensor else None,
         "reference": plan.reference,
         "overlap": plan.overlap,
+        "max_magnification": report.macro.max_magnification if report.macro else None,
+        "close_focus_m": metres(report.macro.close_focus_mm) if report.macro else None,
         "frames": [
-            {"focus_m": metres(focus), "near_m": metres(near), "far_m": metres(far)}
-            for focus, near, far in zip(plan.focus_mm, plan.near_mm, plan.far_mm)
+            {"focus_m": metres(focus), "near_m": metres(near), "far_m": metres(far),
+             "step_mm": step, "magnification": m, "effective_f_number": working, "focal_mm": focal,
+             "airy_disk_mm": airy, "diffraction_soft": soft}
+            for focus, near, far, step, m, working, focal, airy, soft in zip(
+                plan.focus_mm, plan.near_mm, plan.far_mm, (None, *report.steps_mm), plan.magnification,
+                plan.effective_f_number, plan.focal_mm, report.airy_disk_mm, report.diffraction_soft)
         ],
+        "rail": None if report.rail is None else {
+            "focus_m": metres(report.rail.focus_mm), "step_mm": report.rail.step_mm,
+            "depth_mm": report.rail.depth_mm, "frame_count": report.rail.frame_count,
+        },
+        "notes": list(report.notes),
     }

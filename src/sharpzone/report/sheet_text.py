@@ -121,7 +121,23 @@ def sheet_facts(sheet: Sheet, *, imperial: bool = False, table: FocalTable | Non
         ("f-numbers", f"{sheet.stops} stops from wide open (marked values)"),
         ("Diffraction", f"past f/{sheet.diffraction_limited_f_number:.1f} the Airy disk (550 nm) outgrows the CoC; "
                         f"columns marked {DIFFRACTION_MARK} are past it"),
-    ] + _nearest_row_fact(sheet, imperial=imperial, table=table) + _closeup_fact(sheet, imperial=imperial, table=table)
+    ] + _focusing_fact(sheet, imperial=imperial, table=table) + _nearest_row_fact(sheet, imperial=imperial, table=table) \
+        + _closeup_fact(sheet, imperial=imperial, table=table)
+
+
+def _focusing_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) -> list[tuple[str, str]]:
+    """Where the lens's focal length follows its focus (a recorded maximum magnification)."""
+    followed = [each for each in ([table] if table else sheet.tables) if each.macro is not None]
+    if not followed:
+        return []
+    each = followed[0]
+    spec = each.macro
+    from sharpzone.optics.macro import format_magnification
+
+    return [("Close focusing", f"{format_magnification(spec.max_magnification)} at "
+             f"{format_round_distance(spec.close_focus_mm, imperial=imperial)}: "
+             f"the focal length shortens to {spec.close_focus_focal_mm:.0f} mm there (internal focusing) and "
+             f"returns to {spec.focal_mm:g} mm towards infinity; each row uses its own")]
 
 
 def _closeup_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) -> list[tuple[str, str]]:
@@ -228,13 +244,15 @@ def render_markdown(sheet: Sheet, *, imperial: bool = False) -> str:
 
 # ---- HTML ----------------------------------------------------------------------------
 
-# Neutral print styling of our own; no external fonts, scripts or images. Landscape keeps
-# the reader's paper size (A4 or Letter), and the page margins leave room for both.
+# Neutral print styling of our own; no external fonts, scripts or images. On screen the page
+# keeps a margin from the window edge; in print the @page margins do that.
 _HTML_STYLE = """
-@page { size: landscape; margin: 11mm 12mm; }
+@page { size: %(paper)s landscape; margin: 11mm 12mm; }
 * { box-sizing: border-box; }
-body { font-family: "Segoe UI", "DejaVu Sans", Arial, sans-serif; color: #1b1b1b; margin: 0; }
-section.focal { page-break-after: always; break-after: page; padding: 0; }
+html { background: #fafafa; }
+body { font-family: "DejaVu Sans", "Segoe UI", Arial, sans-serif; color: #1b1b1b; background: white;
+       margin: 0 auto; padding: 10mm 12mm; max-width: 297mm; }
+section.focal { page-break-after: always; break-after: page; }
 section.focal:last-of-type { page-break-after: auto; break-after: auto; }
 header { display: flex; justify-content: space-between; align-items: baseline;
          border-bottom: 2px solid #1b1b1b; margin-bottom: 2mm; }
@@ -244,95 +262,103 @@ dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 0.3mm 4mm
            font-size: 8pt; margin: 0 0 2.5mm 0; }
 dl.facts dt { font-weight: 600; color: #444; }
 dl.facts dd { margin: 0; }
-table { border-collapse: collapse; width: 100%; page-break-inside: avoid; break-inside: avoid; }
-th, td { padding: 0.9mm 0.5em; text-align: right; border-bottom: 0.3mm solid #d0d0d0; }
+figure.chart { margin: 0 0 3mm 0; break-inside: avoid; page-break-inside: avoid; }
+figure.chart svg { display: block; width: 100%%; height: auto; }
+figure.chart figcaption { font-size: 7.5pt; color: #333; }
+table { border-collapse: collapse; width: 100%%; margin: 0 0 3mm 0; page-break-inside: avoid; break-inside: avoid; }
+th, td { padding: 0.7mm 0.45em; text-align: right; border-bottom: 0.3mm solid #d0d0d0; white-space: nowrap; }
 thead th { border-bottom: 0.5mm solid #1b1b1b; font-size: 1.05em; }
-tbody th { text-align: left; white-space: nowrap; font-weight: 600; }
+thead th:first-child { text-align: left; }
+tbody th { text-align: left; font-weight: 600; }
 tbody tr:nth-child(even) td, tbody tr:nth-child(even) th { background: #f2f2f2; }
-td span { white-space: nowrap; }
-table.stacked td span { display: block; }
 .past { color: #6b6b6b; font-style: italic; }
 tr.hyperfocal th, tr.hyperfocal td { border-top: 0.5mm solid #1b1b1b; background: #e6e6e6; }
 p.caption, p.caveat { font-size: 7.5pt; margin: 1.5mm 0 0 0; color: #333; }
 p.caveat { font-style: italic; }
-@media print { body { -webkit-print-color-adjust: exact; print-color-adjust: exact; } }
+@media print { html { background: white; } body { padding: 0; max-width: none; }
+               body { -webkit-print-color-adjust: exact; print-color-adjust: exact; } }
 """
 
-
-# The printable area of a landscape page on the narrower of A4 and Letter, in points
-# (1 mm = 72 / 25.4 pt): 279 mm less margins across, 210 mm less margins, title and facts down.
-_PRINT_WIDTH_PT = (279 - 24 - 5) * 72 / 25.4
-_TABLE_HEIGHT_PT = (210 - 22 - 55) * 72 / 25.4
-# Average advance of a character, cell padding and line height in ems for the faces above;
-# the vertical padding of a row in points.
-_CHAR_EM = 0.56
-_CELL_PADDING_EM = 1.0
-_LINE_EM = 1.2
-_ROW_PADDING_PT = 5.0
-# Below this size a table is set with near and far on two lines in each cell instead.
-_SMALLEST_ONE_LINE_PT = 7.0
+# Printable width of a landscape page (paper less the 12 mm side margins), in points.
+_PRINT_WIDTH_MM = {"a4": 297 - 24, "letter": 279.4 - 24}
+# Average advance of a character and cell padding in ems for the faces above (measured
+# against the rendered pages by tests/report/test_sheet_layout.py, with room to spare).
+_CHAR_EM = 0.6
+_CELL_PADDING_EM = 1.1
+# Table type never smaller than this; never larger than the largest.
+SMALLEST_TABLE_PT = 7.5
+_LARGEST_TABLE_PT = 10.0
 
 
-def _fitting_size_pt(widths: list[int], rows: int, lines: int) -> float:
-    across = _PRINT_WIDTH_PT / sum(width * _CHAR_EM + _CELL_PADDING_EM for width in widths)
-    down = (_TABLE_HEIGHT_PT / rows - _ROW_PADDING_PT) / (lines * _LINE_EM)
-    return min(10.0, across, down)
-
-
-def html_table_layout(text: TableText) -> tuple[float, bool]:
-    """Type size (pt) and whether cells stack near over far, so that the table fits one
-    printed page: one line per cell while that allows at least 7 pt, else two lines."""
+def html_table_parts(text: TableText, paper: str = "a4") -> tuple[float, list[tuple[int, int]]]:
+    """Type size (pt) and the runs of f-number columns (start, stop) that the table is set
+    in, one above the other: the fewest runs that keep the type at least
+    ``SMALLEST_TABLE_PT`` with every cell on one line across the printed width."""
+    width_pt = _PRINT_WIDTH_MM[paper] * 72 / 25.4
     label_width = max(len(label) for label, _cells in text.rows + [(text.heads[0], [])])
-    columns = range(len(text.heads) - 1)
-    rows = len(text.rows) + 1
-    one_line = _fitting_size_pt([label_width] + [max(len(cells[c]) for _l, cells in text.rows) for c in columns],
-                                rows, 1)
-    if one_line >= _SMALLEST_ONE_LINE_PT:
-        return round(one_line, 1), False
-    halves = [max(len(part) + 2 for _l, cells in text.rows for part in cells[c].split(" – ")) for c in columns]
-    two_lines = _fitting_size_pt([label_width] + halves, rows, 2)
-    if two_lines > one_line:
-        return round(max(two_lines, 5.0), 1), True
-    return round(max(one_line, 5.0), 1), False
+    widths = [max(max(len(cells[c]) for _l, cells in text.rows), len(text.heads[c + 1]))
+              for c in range(len(text.heads) - 1)]
 
+    def size_for(run: tuple[int, int]) -> float:
+        ems = sum(w * _CHAR_EM + _CELL_PADDING_EM for w in [label_width, *widths[run[0]:run[1]]])
+        return width_pt / ems
 
-def _cell_html(cell: str) -> str:
-    near, sep, far = cell.partition(" – ")
-    if not sep:
-        return f"<span>{html.escape(cell)}</span>"
-    return f"<span>{html.escape(near)} –</span> <span>{html.escape(far)}</span>"
+    count = len(widths)
+    for parts in range(1, count + 1):
+        per = math.ceil(count / parts)
+        runs = [(start, min(start + per, count)) for start in range(0, count, per)]
+        size = min(size_for(run) for run in runs)
+        if size >= SMALLEST_TABLE_PT:
+            return round(min(size, _LARGEST_TABLE_PT), 1), runs
+    return SMALLEST_TABLE_PT, [(c, c + 1) for c in range(count)]
 
 
 def _past_class(past: bool) -> str:
     return ' class="past"' if past else ""
 
 
-def render_html(sheet: Sheet, *, imperial: bool = False) -> str:
-    """The sheet as one self-contained HTML page that prints one focal length per page."""
+def _html_table(text: TableText, size: float) -> str:
+    esc = html.escape
+    marked = [False, *text.marked_columns]
+    heads = "".join(f'<th scope="col"{_past_class(past)}>{esc(head)}</th>' for head, past in zip(text.heads, marked))
+    body_rows = []
+    for number, (label, cells) in enumerate(text.rows):
+        row_class = ' class="hyperfocal"' if number == text.ladder_rows else ""
+        tds = "".join(f"<td{_past_class(past)}>{esc(cell)}</td>" for cell, past in zip(cells, text.marked_columns))
+        body_rows.append(f'<tr{row_class}><th scope="row">{esc(label)}</th>{tds}</tr>')
+    return (f'<table style="font-size: {size}pt"><thead><tr>{heads}</tr></thead>'
+            f"<tbody>{''.join(body_rows)}</tbody></table>")
+
+
+def render_html(sheet: Sheet, *, imperial: bool = False, paper: str = "a4", charts: bool = True) -> str:
+    """The sheet as one self-contained HTML page that prints one focal length per page on
+    ``paper`` (landscape A4 or Letter): facts, the chart (inline SVG) and the table."""
     esc = html.escape
     parts = [
         "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
-        f"<title>{esc(sheet_title(sheet))}</title>", f"<style>{_HTML_STYLE}</style>", "</head>", "<body>",
+        '<meta name="viewport" content="width=device-width, initial-scale=1">',
+        f"<title>{esc(sheet_title(sheet))}</title>", f"<style>{_HTML_STYLE % {'paper': paper.upper() if paper == 'a4' else paper}}</style>",
+        "</head>", "<body>",
     ]
     for table in sheet.tables:
         text = table_text(sheet, table, imperial=imperial)
         facts = "".join(f"<dt>{esc(label)}</dt><dd>{esc(value)}</dd>"
                         for label, value in sheet_facts(sheet, imperial=imperial, table=table))
-        size, stacked = html_table_layout(text)
-        table_class = ' class="stacked"' if stacked else ""
-        marked = [False, *text.marked_columns]
-        heads = "".join(f'<th scope="col"{_past_class(past)}>{esc(head)}</th>' for head, past in zip(text.heads, marked))
-        body_rows = []
-        for number, (label, cells) in enumerate(text.rows):
-            row_class = ' class="hyperfocal"' if number == text.ladder_rows else ""
-            tds = "".join(f"<td{_past_class(past)}>{_cell_html(cell)}</td>" for cell, past in zip(cells, text.marked_columns))
-            body_rows.append(f'<tr{row_class}><th scope="row">{esc(label)}</th>{tds}</tr>')
+        size, runs = html_table_parts(text, paper)
         parts += [
             '<section class="focal">',
             f"<header><h1>{esc(sheet_title(sheet))}</h1><h2>{esc(text.title)}</h2></header>",
             f'<dl class="facts">{facts}</dl>',
-            f'<table{table_class} style="font-size: {size}pt"><thead><tr>{heads}</tr></thead>',
-            f"<tbody>{''.join(body_rows)}</tbody></table>",
+        ]
+        if charts:
+            from sharpzone.report.sheet_chart import chart_svg
+
+            parts.append(f'<figure class="chart">{chart_svg(sheet, table, imperial=imperial)}'
+                         "<figcaption>Left: sharp from (lower curves) and sharp to (upper curves) against the focus "
+                         "distance. Right: zone bars for a few focus distances, ◆ at the hyperfocal distance."
+                         "</figcaption></figure>")
+        parts += [_html_table(column_slice(text, start, stop), size) for start, stop in runs]
+        parts += [
             f'<p class="caption">{esc(table_caption(sheet))}</p>',
             f'<p class="caveat">{esc(sheet.caveat)}</p>',
             "</section>",

@@ -20,6 +20,7 @@ from sharpzone.catalog.service._common import (
 )
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 from sharpzone.limits import check_close_focus
+from sharpzone.optics.macro import check_macro_spec
 
 
 def list_lenses(session: Session) -> list[Lens]:
@@ -49,12 +50,15 @@ def add_lens(
     min_aperture: float = 22.0,
     close_focus_mm: float | None = None,
     pupil_magnification: float = 1.0,
+    max_magnification: float | str | None = None,
     exif_names: tuple[str, ...] | list[str] = (),
     confirmed: bool = True,
 ) -> Lens:
     """Add a lens. A prime leaves ``focal_max_mm`` out; a constant-aperture lens leaves
     ``max_aperture_tele`` out. ``close_focus_mm`` is the closest focus from the sensor;
-    ``exif_names`` are the EXIF LensModel strings that name it."""
+    ``max_magnification`` the image scale reached there (its specification: 1.0 or ``"1:1"``
+    for a macro lens; a zoom's at its long end); ``exif_names`` are the EXIF LensModel
+    strings that name it."""
     lens = Lens(aliases=[])
     _apply(
         session,
@@ -67,6 +71,7 @@ def add_lens(
         min_aperture=min_aperture,
         close_focus_mm=close_focus_mm,
         pupil_magnification=pupil_magnification,
+        max_magnification=max_magnification,
         confirmed=confirmed,
     )
     session.add(lens)
@@ -88,10 +93,11 @@ def edit_lens(
     min_aperture: float | None = None,
     close_focus_mm: float | None = None,
     pupil_magnification: float | None = None,
+    max_magnification: float | str | None = None,
     confirmed: bool | None = None,
 ) -> Lens:
-    """Change the given fields of lens ``name`` (``None`` keeps a field). Frames taken with
-    it follow the change, since zones are computed when asked for."""
+    """Change the given fields of lens ``name`` (``None`` keeps a field; ``max_magnification``
+    0 clears it). Frames taken with it follow the change, since zones are computed when asked for."""
     lens = get_lens(session, name)
     _apply(
         session,
@@ -106,6 +112,7 @@ def edit_lens(
             min_aperture=min_aperture,
             close_focus_mm=close_focus_mm,
             pupil_magnification=pupil_magnification,
+            max_magnification=max_magnification,
             confirmed=confirmed,
         ),
     )
@@ -164,6 +171,7 @@ def _apply(
     min_aperture,
     close_focus_mm,
     pupil_magnification,
+    max_magnification,
     confirmed,
 ) -> None:
     """Validate the complete new state of ``lens``, then set it."""
@@ -189,6 +197,10 @@ def _apply(
     close_focus = check_close_focus(positive(close_focus, f"lens {name!r}: close-focus distance", "mm"), focal_max,
                                     what=f"lens {name!r}: close-focus distance")
     pupil = positive(pupil, f"lens {name!r}: pupil magnification")
+    if max_magnification in (0, 0.0, "0", "none", ""):
+        max_magnification = None
+    # The one check of the pair (optics.macro): a zoom's maximum magnification is its long end's.
+    macro = check_macro_spec(focal_max, close_focus, max_magnification, what=f"lens {name!r}")
     require_name_free(session, Lens, name, "lens", keep=lens)
     lens.name = name
     lens.focal_min_mm = focal_min
@@ -198,4 +210,5 @@ def _apply(
     lens.min_aperture = min_aperture
     lens.close_focus_mm = close_focus
     lens.pupil_magnification = pupil
+    lens.max_magnification = macro.max_magnification if macro else None
     lens.confirmed = bool(confirmed)
