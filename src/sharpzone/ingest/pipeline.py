@@ -154,7 +154,11 @@ def _read_all(tasks: Iterable[tuple[str, float | None]], jobs: int, reader: Read
         return
     workers = jobs if len(head) >= POOL_THRESHOLD else 1
     with ReaderPool(reader, workers, time_limit_s=time_limit_s) as pool:
-        yield from pool.read(itertools.chain(head, tasks))
+        results = pool.read_in_background(itertools.chain(head, tasks))
+        try:
+            yield from results
+        finally:
+            results.close()
 
 
 def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int | None, body_id, lens_id,

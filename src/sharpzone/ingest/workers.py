@@ -20,7 +20,9 @@ from __future__ import annotations
 import collections
 import multiprocessing
 import os
+import queue
 import signal
+import threading
 import time
 from collections.abc import Callable, Iterable, Iterator
 from multiprocessing.connection import wait
@@ -34,8 +36,12 @@ Task = tuple[str, "float | None"]
 DEPTH = 8
 # Per-file time limit (seconds) unless the caller says otherwise.
 TIME_LIMIT_S = 30.0
-# How often an idle worker checks that its parent is still there.
+# How often an idle worker checks that its parent is still there, and how often the
+# background reader checks whether it is asked to stop.
 PARENT_CHECK_S = 1.0
+STOP_CHECK_S = 0.1
+# Results read ahead of the consumer at most (memory stays flat however slow it is).
+READ_AHEAD = 2048
 CRASHED = "the metadata reader crashed on this file"
 _STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
@@ -70,6 +76,14 @@ def _worker_main(connection, reader: Reader, parent_pid: int) -> None:
             connection.send(result)
     except (EOFError, OSError):
         return  # the parent went away: leave without a word
+
+
+_DONE = object()
+
+
+class _Failed:
+    def __init__(self, error: BaseException) -> None:
+        self.error = error
 
 
 class _Worker:
@@ -145,9 +159,48 @@ class ReaderPool:
         for worker in workers:
             worker.stop(at_once=at_once)
 
-    def read(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+    def read_in_background(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+        """``read`` driven by a thread of its own, so the workers keep reading while the
+        caller is busy with what came back (writing a batch to the catalogue). The caller
+        should close this generator (``contextlib.closing``) when it stops early."""
+        results: queue.Queue = queue.Queue(maxsize=READ_AHEAD)
+        stop = threading.Event()
+
+        def put(item) -> bool:
+            while not stop.is_set():
+                try:
+                    results.put(item, timeout=STOP_CHECK_S)
+                    return True
+                except queue.Full:
+                    continue
+            return False
+
+        def run() -> None:
+            try:
+                for result in self.read(tasks, stop=stop):
+                    if not put(result):
+                        return
+                put(_DONE)
+            except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
+                put(_Failed(error))
+
+        thread = threading.Thread(target=run, name="sharpzone-readers", daemon=True)
+        thread.start()
+        try:
+            while True:
+                item = results.get()
+                if item is _DONE:
+                    return
+                if isinstance(item, _Failed):
+                    raise item.error
+                yield item
+        finally:
+            stop.set()
+            thread.join()
+
+    def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator[CaptureRecord | ReadProblem]:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
-        (the folder walk), drawn from only as workers have room."""
+        (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
@@ -166,13 +219,14 @@ class ReaderPool:
                         except StopIteration:
                             exhausted = True
             busy = [worker for worker in self._workers if worker.queue]
-            if not busy:
+            if not busy or (stop is not None and stop.is_set()):
                 return
             now = time.monotonic()
             deadline = min(worker.head_since for worker in busy) + self.time_limit_s
             waitables = {worker.connection: worker for worker in busy}
             waitables.update({worker.process.sentinel: worker for worker in busy})
-            ready = wait(list(waitables), timeout=max(0.0, deadline - now))
+            timeout = max(0.0, deadline - now)
+            ready = wait(list(waitables), timeout=timeout if stop is None else min(timeout, STOP_CHECK_S))
             handled: set[int] = set()
             for item in ready:
                 worker = waitables[item]
