@@ -429,7 +429,9 @@ def _interrupted(summary: IngestSummary, signal_number: int) -> Interrupted:
 def _choose_target(shoot: str | None, existing: list[str], root: str, stored: dict[str, _Stored],
                    shoot_names: dict[int, str]) -> _Target:
     if shoot is not None:
-        return _Target(shoot, root, None, explicit=True)
+        # Shoot names are matched ignoring case, as the catalogue does.
+        known = [key for key, name in shoot_names.items() if name.casefold() == shoot.strip().casefold()]
+        return _Target(shoot_names[known[0]] if known else shoot, root, known[0] if known else None, explicit=True)
     counts: dict[int, int] = {}
     for before in stored.values():
         if before.shoot_id is not None:
