@@ -18,6 +18,7 @@ changes.
 from __future__ import annotations
 
 import collections
+import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
 import multiprocessing
 import os
 import queue
@@ -53,8 +54,6 @@ def timed_out(limit_s: float) -> str:
 
 def _worker_main(connection, reader: Reader, parent_pid: int) -> None:
     """A worker's loop: read each (path, user distance) sent, answer with the result."""
-    import faulthandler
-
     faulthandler.disable()  # a crash is reported by the parent, in one line
     for number in _STOP_SIGNALS:
         signal.signal(number, signal.SIG_IGN)
