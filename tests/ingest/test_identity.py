@@ -150,3 +150,10 @@ def test_new_fields_are_stored_and_a_user_distance_is_exact(card, tmp_path, cata
         user = frames["IMG_2.JPG"]
         assert (user.focus_mm, user.focus_near_mm, user.focus_far_mm) == (4000, 4000, 4000)
         assert user.focus_key == USER_DISTANCES_KEY == "user distances CSV" and user.focus_source == "user"
+
+
+def test_a_rerun_into_the_same_shoot_moves_nothing(card, catalog_url):
+    with open_catalog(catalog_url) as catalog:
+        ingest_paths(catalog, [card], shoot="Harbour", jobs=1)
+        again = ingest_paths(catalog, [card], shoot="harbour", jobs=1)  # names ignore case
+    assert again.moved == {} and again.shoot == "Harbour" and again.unchanged == 9

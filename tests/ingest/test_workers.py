@@ -42,11 +42,15 @@ def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, cata
 
 def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written):
     folder = tmp_path / "pool"
-    _card(written, folder, 30, [f"C{n}_segv.JPG" for n in range(5)])
+    # "H_segv" comes after 30 good files in the same batch: their answers, read but not yet
+    # sent, die with the worker and must be read again, once.
+    bad = [f"C{n}_segv.JPG" for n in range(5)] + ["H_segv.JPG"]
+    _card(written, folder, 30, bad)
     tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
-    with ReaderPool(misbehaving_reader, 2, depth=4) as pool:
-        results = list(pool.read(tasks))
-        assert pool.replaced == 5
-    assert sorted(result.path for result in results) == sorted(path for path, _ in tasks)
-    crashed = [os.path.basename(r.path) for r in results if getattr(r, "reason", None) == CRASHED]
-    assert sorted(crashed) == [f"C{n}_segv.JPG" for n in range(5)]
+    for depth in (4, 64):
+        with ReaderPool(misbehaving_reader, 2, depth=depth) as pool:
+            results = list(pool.read_in_background(tasks))
+            assert pool.replaced == 6
+        assert sorted(result.path for result in results) == sorted(path for path, _ in tasks)
+        crashed = [os.path.basename(r.path) for r in results if getattr(r, "reason", None) == CRASHED]
+        assert sorted(crashed) == sorted(bad)

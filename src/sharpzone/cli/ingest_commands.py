@@ -18,15 +18,20 @@ def register(app: typer.Typer) -> None:
 def ingest(
     ctx: typer.Context,
     paths: Annotated[list[Path], typer.Argument(help="Image files or folders (searched recursively).", show_default=False)],
-    shoot: Annotated[Optional[str], typer.Option("--shoot", help="Shoot to file the frames under (created if new); default: the first folder's name.")] = None,
+    shoot: Annotated[Optional[str], typer.Option("--shoot", help="Shoot to file every frame found under (created if new), moving frames that belong to another shoot; default: the shoot these files are already in, else the first folder's name.")] = None,
     jobs: Annotated[Optional[int], typer.Option("--jobs", help="Worker processes reading EXIF; default: one per core.")] = None,
     distances: Annotated[Optional[Path], typer.Option("--distances", help="CSV of file name or path → focus distance (with units); wins over EXIF.")] = None,
     prune: Annotated[bool, typer.Option("--prune", help="Remove catalogued frames whose files have vanished.")] = False,
     strict: Annotated[bool, typer.Option("--strict", help="Exit with 1 if any file could not be read.")] = False,
     json: Annotated[bool, typer.Option("--json", help="Print the JSON summary (the machine interface) instead of a table.")] = False,
 ) -> None:
-    """Read the EXIF of every image under each PATH into the catalogue: new and changed files are
-    read, unchanged ones skipped, damaged ones reported and skipped."""
+    """Read the metadata of every image under each PATH into the catalogue (raw files of every
+    major maker, DNG, HEIC/HEIF, AVIF, JPEG, TIFF, PNG, WebP): new and changed files are read,
+    unchanged ones skipped, damaged ones reported and skipped.
+
+    Focus distance: the --distances CSV, else EXIF SubjectDistance, else the camera's maker
+    note (with its bracket), else an XMP sidecar. Ctrl-C stops in order: what was saved is
+    kept, and the same command finishes the job."""
     from sharpzone.catalog.engine import open_catalog
     from sharpzone.ingest.pipeline import ingest_paths
     from sharpzone.report.ingest_render import ingest_json, ingest_progress, render_ingest

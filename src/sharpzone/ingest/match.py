@@ -152,8 +152,10 @@ class CatalogMatcher:
         self.session = session
         self._format_rows = {row.name: row for row in list_formats(session)}
         self._formats = [row.to_core() for row in self._format_rows.values()]
-        self._bodies: dict[tuple[str, str, str | None], int | None] = {}
-        self._lenses: dict[str, int | None] = {}
+        # The rows themselves, not ids: the session's identity map holds rows only weakly,
+        # and a look-up by id per frame would go back to the database.
+        self._bodies: dict[tuple[str, str, str | None], object] = {}
+        self._lenses: dict[str, object] = {}
 
     def match(self, record: CaptureRecord) -> MatchOutcome:
         outcome = MatchOutcome()
@@ -162,7 +164,6 @@ class CatalogMatcher:
         return outcome
 
     def _body(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
-        from sharpzone.catalog.models import Body
         from sharpzone.catalog.service import add_body, find_body_for_exif
 
         make, model = (record.exif_make or "").strip(), (record.exif_model or "").strip()
@@ -170,8 +171,7 @@ class CatalogMatcher:
             outcome.warnings.append("no camera make or model in the file: body unknown")
             return None
         key = (make.casefold(), model.casefold(), (record.body_serial or "").strip() or None)
-        body_id = self._bodies.get(key)
-        body = self.session.get(Body, body_id) if body_id is not None else None
+        body = self._bodies.get(key)
         if body is None:
             body = find_body_for_exif(self.session, make, model, record.body_serial)
         if body is None:
@@ -189,11 +189,10 @@ class CatalogMatcher:
                 outcome.registered.append(f"body '{body.name}': format {fmt.name}, from the {how}")
         if body.sensor_format is None:
             outcome.needs_format.append(body.name)
-        self._bodies[key] = body.id
+        self._bodies[key] = body
         return body.id
 
     def _lens(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
-        from sharpzone.catalog.models import Lens
         from sharpzone.catalog.service import find_lens_for_exif
 
         spec = record.lens_spec or (None, None, None, None)
@@ -210,10 +209,11 @@ class CatalogMatcher:
             return None
         key = names[0]
         if key in self._lenses:
-            lens_id = self._lenses[key]
-            if lens_id is not None:
-                self._widen(self.session.get(Lens, lens_id), record)
-            return lens_id
+            lens = self._lenses[key]
+            if lens is None:
+                return None
+            self._widen(lens, record)
+            return lens.id
         lens = find_lens_for_exif(self.session, key)
         if lens is None:
             lens = self._register_lens(names, spec, record, how, outcome)
@@ -222,7 +222,7 @@ class CatalogMatcher:
                 return None
         else:
             self._widen(lens, record)
-        self._lenses[key] = lens.id
+        self._lenses[key] = lens
         return lens.id
 
     def _register_lens(self, names: list[str], spec: tuple, record: CaptureRecord, how: str, outcome: MatchOutcome):

@@ -154,7 +154,11 @@ def _read_all(tasks: Iterable[tuple[str, float | None]], jobs: int, reader: Read
         return
     workers = jobs if len(head) >= POOL_THRESHOLD else 1
     with ReaderPool(reader, workers, time_limit_s=time_limit_s) as pool:
-        yield from pool.read(itertools.chain(head, tasks))
+        results = pool.read_in_background(itertools.chain(head, tasks))
+        try:
+            yield from results
+        finally:
+            results.close()
 
 
 def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int | None, body_id, lens_id,
@@ -425,7 +429,9 @@ def _interrupted(summary: IngestSummary, signal_number: int) -> Interrupted:
 def _choose_target(shoot: str | None, existing: list[str], root: str, stored: dict[str, _Stored],
                    shoot_names: dict[int, str]) -> _Target:
     if shoot is not None:
-        return _Target(shoot, root, None, explicit=True)
+        # Shoot names are matched ignoring case, as the catalogue does.
+        known = [key for key, name in shoot_names.items() if name.casefold() == shoot.strip().casefold()]
+        return _Target(shoot_names[known[0]] if known else shoot, root, known[0] if known else None, explicit=True)
     counts: dict[int, int] = {}
     for before in stored.values():
         if before.shoot_id is not None:
@@ -476,9 +482,10 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
 
 def _file_elsewhere(catalog: Catalog, plan: _ReadPlan, target: _Target, summary: IngestSummary,
                     shoot_names: dict[int, str]) -> None:
-    """Unchanged frames of other shoots: moved with an explicit ``--shoot``, else named."""
+    """Frames found that belong to other shoots: moved with an explicit ``--shoot`` (the
+    re-read ones already were, by their batch), else left there and named."""
     others: dict[int, list[str]] = {}
-    for path in plan.unchanged_paths:
+    for path in plan.known_paths:
         shoot_id = plan.stored[path].shoot_id
         if shoot_id is not None and shoot_id != target.id:
             others.setdefault(shoot_id, []).append(path)
@@ -507,7 +514,7 @@ class _ReadPlan:
         self.notify = notify
         self.by_path: dict[str, CandidateFile] = {}
         self.found: set[str] = set()
-        self.unchanged_paths: list[str] = []
+        self.known_paths: list[str] = []
         self.scan_problems: list[ReadProblem] = []
         self.distance_changes: list[tuple[str, float]] = []
         self.total_to_read: int | None = None
@@ -542,10 +549,11 @@ class _ReadPlan:
                 continue
             shown, before = self._lookup(printable_path(event.path), event)
             self.found.add(shown)
+            if before is not None:
+                self.known_paths.append(shown)
             user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
             if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
                 self.summary.unchanged += 1
-                self.unchanged_paths.append(shown)
                 if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
                     self.distance_changes.append((shown, user_mm))
                 continue

@@ -2,10 +2,12 @@
 interpreter (a native library's segfault or abort) or hangs costs one file, never the run.
 
 ``ReaderPool`` keeps ``workers`` processes, each fed through its own pipe with up to
-``depth`` files at a time. A worker reads its files in the order given and answers in that
-order, so when one dies the file at the head of its queue is the one that killed it: that
-file is reported ("the metadata reader crashed on this file"), the worker is replaced and
-the rest of its queue goes to the others. A file that takes longer than ``time_limit_s`` is
+``depth`` files at a time (sent, and answered, in batches: one message per file would cost
+as much as reading a small file). A worker reads its files in the order given, answers in
+that order, and counts each file it finishes in a shared-memory counter, so when one dies
+the parent knows which file killed it, even with answers still unsent: that file is
+reported ("the metadata reader crashed on this file"), the worker is replaced, and the
+rest of its queue (the finished-but-unsent files too) goes to the others. A file that takes longer than ``time_limit_s`` is
 reported the same way ("timed out after N s"). (``concurrent.futures`` and
 ``multiprocessing.Pool`` cannot do this: the first breaks as a whole on a dead worker, the
 second hangs waiting for the lost task.)
@@ -18,9 +20,12 @@ changes.
 from __future__ import annotations
 
 import collections
+import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
 import multiprocessing
 import os
+import queue
 import signal
+import threading
 import time
 from collections.abc import Callable, Iterable, Iterator
 from multiprocessing.connection import wait
@@ -31,11 +36,17 @@ Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
 Task = tuple[str, "float | None"]
 
 # Files in flight per worker: enough that a worker never waits for the parent between files.
-DEPTH = 8
+DEPTH = 64
+# Answers a worker sends at once at most (it sends fewer when it has nothing more to read).
+RESULT_BATCH = 16
 # Per-file time limit (seconds) unless the caller says otherwise.
 TIME_LIMIT_S = 30.0
-# How often an idle worker checks that its parent is still there.
+# How often an idle worker checks that its parent is still there, and how often the
+# background reader checks whether it is asked to stop.
 PARENT_CHECK_S = 1.0
+STOP_CHECK_S = 0.1
+# Results read ahead of the consumer at most (memory stays flat however slow it is).
+READ_AHEAD = 2048
 CRASHED = "the metadata reader crashed on this file"
 _STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
@@ -45,10 +56,9 @@ def timed_out(limit_s: float) -> str:
     return f"the metadata reader timed out after {limit_s:g} s on this file"
 
 
-def _worker_main(connection, reader: Reader, parent_pid: int) -> None:
-    """A worker's loop: read each (path, user distance) sent, answer with the result."""
-    import faulthandler
-
+def _worker_main(connection, reader: Reader, parent_pid: int, finished) -> None:
+    """A worker's loop: read each batch of (path, user distance) sent, count every file
+    finished in ``finished`` (shared memory), and answer with the results in order."""
     faulthandler.disable()  # a crash is reported by the parent, in one line
     for number in _STOP_SIGNALS:
         signal.signal(number, signal.SIG_IGN)
@@ -59,23 +69,40 @@ def _worker_main(connection, reader: Reader, parent_pid: int) -> None:
                 if os.getppid() != parent_pid:
                     return
                 continue
-            task = connection.recv()
-            if task is None:
+            tasks = connection.recv()
+            if tasks is None:
                 return
-            path, user_mm = task
-            try:
-                result = reader(path, user_mm)
-            except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
-                result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
-            connection.send(result)
+            answers = []
+            for path, user_mm in tasks:
+                try:
+                    result = reader(path, user_mm)
+                except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
+                    result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
+                answers.append(result)
+                finished.value += 1
+                if len(answers) >= RESULT_BATCH:
+                    connection.send(answers)
+                    answers = []
+            if answers:
+                connection.send(answers)
     except (EOFError, OSError):
         return  # the parent went away: leave without a word
+
+
+_DONE = object()
+
+
+class _Failed:
+    def __init__(self, error: BaseException) -> None:
+        self.error = error
 
 
 class _Worker:
     def __init__(self, context, reader: Reader) -> None:
         self.connection, child_end = context.Pipe(duplex=True)
-        self.process = context.Process(target=_worker_main, args=(child_end, reader, os.getpid()), daemon=True)
+        self.finished = context.RawValue("q", 0)  # files this worker has finished reading
+        self.process = context.Process(target=_worker_main, args=(child_end, reader, os.getpid(), self.finished),
+                                       daemon=True)
         # Block the stop signals across the fork so the child ignores them before any
         # could reach it; the parent gets any that arrived meanwhile right after.
         signal.pthread_sigmask(signal.SIG_BLOCK, _STOP_SIGNALS)
@@ -85,16 +112,29 @@ class _Worker:
             signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
         child_end.close()
         self.queue: collections.deque[Task] = collections.deque()
+        self.answered = 0  # files whose answers the parent has received
+        self.seen_finished = 0
         self.head_since = time.monotonic()
 
-    def send(self, task: Task) -> None:
+    def send(self, tasks: list[Task]) -> None:
         if not self.queue:
             self.head_since = time.monotonic()
-        self.queue.append(task)
+        self.queue.extend(tasks)
         try:
-            self.connection.send(task)
+            self.connection.send(tasks)
         except OSError:
-            pass  # it just died: found by its sentinel, and this task goes to another worker
+            pass  # it just died: found by its sentinel, and these tasks go to another worker
+
+    def note_progress(self, now: float) -> None:
+        """The file at work changes when the shared counter moves: restart its clock."""
+        finished = self.finished.value
+        if finished != self.seen_finished:
+            self.seen_finished = finished
+            self.head_since = now
+
+    def in_progress(self) -> int:
+        """Index in ``queue`` of the file being read (finished ones may still be unsent)."""
+        return max(0, self.finished.value - self.answered)
 
     def stop(self, *, at_once: bool = False) -> None:
         if not at_once:
@@ -145,34 +185,77 @@ class ReaderPool:
         for worker in workers:
             worker.stop(at_once=at_once)
 
-    def read(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+    def read_in_background(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+        """``read`` driven by a thread of its own, so the workers keep reading while the
+        caller is busy with what came back (writing a batch to the catalogue). The caller
+        should close this generator (``contextlib.closing``) when it stops early."""
+        results: queue.Queue = queue.Queue(maxsize=READ_AHEAD)
+        stop = threading.Event()
+
+        def put(item) -> bool:
+            while not stop.is_set():
+                try:
+                    results.put(item, timeout=STOP_CHECK_S)
+                    return True
+                except queue.Full:
+                    continue
+            return False
+
+        def run() -> None:
+            try:
+                for result in self.read(tasks, stop=stop):
+                    if not put(result):
+                        return
+                put(_DONE)
+            except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
+                put(_Failed(error))
+
+        thread = threading.Thread(target=run, name="sharpzone-readers", daemon=True)
+        thread.start()
+        try:
+            while True:
+                item = results.get()
+                if item is _DONE:
+                    return
+                if isinstance(item, _Failed):
+                    raise item.error
+                yield item
+        finally:
+            stop.set()
+            thread.join()
+
+    def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator[CaptureRecord | ReadProblem]:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
-        (the folder walk), drawn from only as workers have room."""
+        (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
         if not self._workers:
             self._workers = [_Worker(self._context, self.reader) for _ in range(self.size)]
         while True:
-            for _ in range(self.depth):  # round-robin, one file per worker per pass
-                for worker in self._workers:
-                    if len(worker.queue) >= self.depth:
-                        continue
-                    if retry:
-                        worker.send(retry.popleft())
-                    elif not exhausted:
-                        try:
-                            worker.send(next(tasks))
-                        except StopIteration:
-                            exhausted = True
+            for worker in self._workers:
+                room = self.depth - len(worker.queue)
+                if room < min(RESULT_BATCH, max(1, self.depth // 4)) and worker.queue:
+                    continue  # top up in batches, not file by file
+                batch = []
+                while len(batch) < room and retry:
+                    batch.append(retry.popleft())
+                while len(batch) < room and not exhausted:
+                    try:
+                        batch.append(next(tasks))
+                    except StopIteration:
+                        exhausted = True
+                if batch:
+                    worker.send(batch)
             busy = [worker for worker in self._workers if worker.queue]
-            if not busy:
+            if not busy or (stop is not None and stop.is_set()):
                 return
             now = time.monotonic()
             deadline = min(worker.head_since for worker in busy) + self.time_limit_s
             waitables = {worker.connection: worker for worker in busy}
             waitables.update({worker.process.sentinel: worker for worker in busy})
-            ready = wait(list(waitables), timeout=max(0.0, deadline - now))
+            timeout = max(0.0, deadline - now)
+            ready = wait(list(waitables), timeout=timeout if stop is None else min(timeout, STOP_CHECK_S))
             handled: set[int] = set()
             for item in ready:
                 worker = waitables[item]
@@ -182,6 +265,7 @@ class ReaderPool:
                 yield from self._drain(worker, retry)
             now = time.monotonic()
             for worker in list(self._workers):
+                worker.note_progress(now)
                 if worker.queue and now - worker.head_since > self.time_limit_s:
                     yield from self._replace(worker, timed_out(self.time_limit_s), retry)
 
@@ -189,18 +273,25 @@ class ReaderPool:
         """Every answer the worker has sent; if it died, its culprit and a replacement."""
         try:
             while worker.queue and worker.connection.poll():
-                result = worker.connection.recv()
-                worker.queue.popleft()
-                worker.head_since = time.monotonic()
-                yield result
+                answers = worker.connection.recv()
+                for _ in answers:
+                    worker.queue.popleft()
+                worker.answered += len(answers)
+                yield from answers
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
             yield from self._replace(worker, CRASHED, retry)
 
     def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[ReadProblem]:
-        culprit = worker.queue.popleft()
-        retry.extendleft(reversed(worker.queue))
+        queue = list(worker.queue)
+        # Files before the one at work were read but their answers died with the worker:
+        # they are read again. (If every file was read, the first takes the blame, so a
+        # worker that dies on answering cannot loop.)
+        at = worker.in_progress()
+        at = at if at < len(queue) else 0
+        culprit = queue[at]
+        retry.extendleft(reversed(queue[:at] + queue[at + 1:]))
         worker.queue.clear()
         worker.stop(at_once=True)
         self._workers[self._workers.index(worker)] = _Worker(self._context, self.reader)
