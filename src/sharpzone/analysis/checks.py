@@ -37,9 +37,7 @@ FLAGS = (
     "distance-unknown", "settings-unknown", "no-requirement", "too-wide-open", "focus-misplaced",
     "out-of-reach", "past-diffraction", "outside-plan",
 )
-# The narrowest aperture assumed when the catalogue does not know a lens's minimum aperture
-# (most interchangeable lenses stop down to f/22; common practice).
-ASSUMED_MIN_APERTURE = 22.0
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE  # noqa: E402, F401 - one home
 
 REQUIREMENT_COLUMNS = ("plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
 

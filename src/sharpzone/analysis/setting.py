@@ -8,7 +8,7 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from sharpzone.errors import InvalidValue, NotFound
+from sharpzone.errors import InvalidValue
 from sharpzone.optics import dof as dof_core
 from sharpzone.optics.coc import CocPolicy, DiagonalFraction, FixedCoc, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
@@ -23,24 +23,22 @@ FormatLookup = Callable[[str], SensorFormat]
 
 
 def format_lookup(catalog_location: str | None = None) -> FormatLookup:
-    """A lookup of sensor formats: the shipped ones first (no database needed, so ``dof``
-    starts fast), then the catalogue's own, if a catalogue already exists there."""
+    """A lookup of sensor formats as ``sheet`` sees them: the catalogue's own (so ``format
+    edit`` counts), or the shipped list while no catalogue file exists yet (``dof`` then
+    needs no database and creates none)."""
 
     def lookup(name: str) -> SensorFormat:
-        try:
+        from sharpzone.catalog.location import resolve_catalog_url, sqlite_path
+
+        url = resolve_catalog_url(catalog_location)
+        path = sqlite_path(url)
+        if path is not None and not path.exists():
             return find_shipped_format(name)
-        except NotFound:
-            from sharpzone.catalog.location import resolve_catalog_url, sqlite_path
+        from sharpzone.catalog.engine import session_scope
+        from sharpzone.catalog.service import get_format
 
-            url = resolve_catalog_url(catalog_location)
-            path = sqlite_path(url)
-            if path is not None and not path.exists():
-                raise
-            from sharpzone.catalog.engine import session_scope
-            from sharpzone.catalog.service import get_format
-
-            with session_scope(url) as session:
-                return get_format(session, name).to_core()
+        with session_scope(url) as session:
+            return get_format(session, name).to_core()
 
     return lookup
 

@@ -16,6 +16,7 @@ import numpy as np
 from sharpzone.optics.coc import CocPolicy, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
 from sharpzone.optics.dof import MIN_F_NUMBER, sharp_zone
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 from sharpzone.optics.formats import SensorFormat, pixel_pitch_mm
 
 if TYPE_CHECKING:
@@ -78,7 +79,7 @@ def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None
     ).indices.items():
         if not isinstance(name, str) or not (width > 0 and height > 0):
             continue
-        fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else 1500.0)
+        fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else DIAGONAL_DIVISOR)
         pitch = pixel_pitch_mm(fmt, _count(pixels), _count(pixels_high))
         try:
             coc[index] = parse_coc_policy(spec).coc_mm(fmt, pitch)

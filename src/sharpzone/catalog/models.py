@@ -32,7 +32,8 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
-from sharpzone.vocabulary import FOCUS_SOURCES, PLAN_KINDS  # noqa: F401 - shared with the readers
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
+from sharpzone.vocabulary import FOCUS_SOURCES, PLAN_KINDS, SUBJECT_DISTANCE_RANGES
 
 if TYPE_CHECKING:
     from sharpzone.optics.formats import SensorFormat
@@ -88,7 +89,7 @@ class SensorFormatRow(Base):
     name: Mapped[str] = mapped_column(String(NAME_LENGTH), unique=True)
     width_mm: Mapped[float] = mapped_column(Double)
     height_mm: Mapped[float] = mapped_column(Double)
-    coc_divisor: Mapped[float] = mapped_column(Double, default=1500.0, server_default="1500")
+    coc_divisor: Mapped[float] = mapped_column(Double, default=DIAGONAL_DIVISOR, server_default=f"{DIAGONAL_DIVISOR:g}")
     aliases: Mapped[str] = mapped_column(Text, default="", server_default="")
     description: Mapped[str] = mapped_column(Text, default="", server_default="")
     source: Mapped[str] = mapped_column(Text, default="", server_default="")

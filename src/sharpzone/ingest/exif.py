@@ -35,8 +35,7 @@ TagValue = int | float | str | bytes | tuple | None
 _KEPT_IFDS = ("Image", "GPS", "EXIF")
 # Offsets to the EXIF, GPS and interoperability IFDs: structure, not information.
 _POINTER_TAGS = frozenset({0x8769, 0x8825, 0xA005})
-# EXIF 2.3 (CIPA DC-008) SubjectDistance: numerator 0xFFFFFFFF means infinity.
-_INFINITE_NUMERATOR = 0xFFFFFFFF
+from sharpzone.vocabulary import SUBJECT_DISTANCE_INFINITY as _INFINITE_NUMERATOR  # noqa: E402
 _SUBJECT_DISTANCE_TAG = 0x9206
 # A HEIF meta box or EXIF item beyond this is not metadata but damage.
 _MAX_METADATA_BYTES = 16 << 20

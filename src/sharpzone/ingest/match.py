@@ -18,6 +18,7 @@ from typing import TYPE_CHECKING
 
 from sharpzone.ingest.records import CaptureRecord
 from sharpzone.optics.formats import FULL_FRAME_DIAGONAL_MM, SensorFormat
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -122,7 +123,7 @@ class CatalogMatcher:
             name = self._free_name(model, "lens")
             lens = add_lens(self.session, name, focal_min_mm=focal_min, focal_max_mm=max(focal_max, focal_min),
                             max_aperture_wide=wide, max_aperture_tele=max(tele, wide) if focal_max > focal_min else wide,
-                            min_aperture=max(22.0, wide, tele), exif_names=[model], confirmed=False)
+                            min_aperture=max(ASSUMED_MIN_APERTURE, wide, tele), exif_names=[model], confirmed=False)
             source = "LensSpecification" if record.lens_spec else "the frame's own settings"
             outcome.registered.append(f"lens '{name}' (from {source}; unconfirmed)")
         self._lenses[model] = lens.id

@@ -14,7 +14,7 @@ from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import stdout_console
 from sharpzone.report.jsonout import metres
 from sharpzone.report.verdicts import describe_flag
-from sharpzone.units import format_distance, format_f_number, format_length_mm
+from sharpzone.units import format_distance, format_f_number, format_length_mm, format_zone
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -171,14 +171,7 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, console: Cons
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
 
 
-def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
-    """"near – far" with enough digits that a shallow close-up zone does not read "42.0 – 42.0"."""
-    digits = 3
-    if near and far and math.isfinite(far) and far > near:
-        digits = min(6, 3 + max(0, math.ceil(-math.log10((far - near) / near)) - 1))
-    return (f"{format_distance(near, imperial=imperial, digits=digits)} – "
-            f"{format_distance(far, imperial=imperial, digits=digits)}")
-
+_zone_text = format_zone  # one rounding rule for near – far, in units
 
 def _policy_line(frames: pd.DataFrame) -> str:
     """Which CoC policies the figures rest on, and where each came from."""

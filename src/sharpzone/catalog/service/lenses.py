@@ -19,6 +19,7 @@ from sharpzone.catalog.service._common import (
     require_name_free,
 )
 from sharpzone.errors import Conflict, InvalidValue, NotFound
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 
 
 def list_lenses(session: Session) -> list[Lens]:
@@ -45,7 +46,7 @@ def add_lens(
     max_aperture_wide: float,
     focal_max_mm: float | None = None,
     max_aperture_tele: float | None = None,
-    min_aperture: float = 22.0,
+    min_aperture: float = ASSUMED_MIN_APERTURE,
     close_focus_mm: float | None = None,
     pupil_magnification: float = 1.0,
     exif_names: tuple[str, ...] | list[str] = (),
