@@ -67,24 +67,12 @@ class LensSpec:
     pupil_magnification: float = 1.0
 
     def __post_init__(self) -> None:
-        if not self.name or not self.name.strip():
-            raise InvalidValue("a lens needs a name")
-        for label, value in (("shortest focal length", self.focal_min_mm), ("longest focal length", self.focal_max_mm),
-                             ("maximum aperture", self.max_aperture_wide),
-                             ("maximum aperture at the long end", self.max_aperture_tele),
-                             ("minimum aperture", self.min_aperture),
-                             ("pupil magnification", self.pupil_magnification)):
-            if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
-                raise InvalidValue(f"lens {self.name!r}: {label} {value!r} is not valid: expected a number above 0")
-        if self.focal_max_mm < self.focal_min_mm:
-            raise InvalidValue(f"lens {self.name!r}: longest focal length {self.focal_max_mm:g} mm is shorter "
-                               f"than the shortest {self.focal_min_mm:g} mm")
-        if self.min_aperture < max(self.max_aperture_wide, self.max_aperture_tele):
-            raise InvalidValue(f"lens {self.name!r}: minimum aperture f/{self.min_aperture:g} is wider than "
-                               "its maximum aperture: expected a larger f-number such as f/22")
-        if self.close_focus_mm is not None and not (self.close_focus_mm > 0):
-            raise InvalidValue(f"lens {self.name!r}: close-focus distance {self.close_focus_mm!r} mm is not "
-                               "valid: expected above 0 mm")
+        from sharpzone.catalog.rules import lens_values  # the catalogue's own lens rules
+
+        lens_values(name=self.name, focal_min_mm=self.focal_min_mm, focal_max_mm=self.focal_max_mm,
+                    max_aperture_wide=self.max_aperture_wide, max_aperture_tele=self.max_aperture_tele,
+                    min_aperture=self.min_aperture, close_focus_mm=self.close_focus_mm,
+                    pupil_magnification=self.pupil_magnification)
 
     @classmethod
     def from_row(cls, row) -> LensSpec:

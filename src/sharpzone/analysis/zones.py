@@ -81,8 +81,9 @@ def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None
             continue
         fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else DIAGONAL_DIVISOR)
         pitch = pixel_pitch_mm(fmt, _count(pixels), _count(pixels_high))
+        policy = parse_coc_policy(spec)  # a policy it cannot read is an error, never an unknown CoC
         try:
-            coc[index] = parse_coc_policy(spec).coc_mm(fmt, pitch)
+            coc[index] = policy.coc_mm(fmt, pitch)
         except ValueError:
             continue  # e.g. a pixel-pitch policy on a body whose pixel width is unknown
     return coc, specs, origins

@@ -131,7 +131,7 @@ class CatalogMatcher:
 
     def _free_name(self, wanted: str, what: str) -> str:
         from sharpzone.catalog.models import Body, Lens
-        from sharpzone.catalog.service._common import find_by_name
+        from sharpzone.catalog.service.common import find_by_name
 
         model = Body if what == "body" else Lens
         name, number = wanted, 2

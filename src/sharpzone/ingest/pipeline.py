@@ -83,7 +83,7 @@ def _stored_frames(session: Session, roots: Sequence[str]) -> dict[str, _Stored]
 def _ensure_shoot(catalog: Catalog, name: str, root: str) -> int:
     from sharpzone.catalog.models import Shoot
     from sharpzone.catalog.service import add_shoot
-    from sharpzone.catalog.service._common import find_by_name
+    from sharpzone.catalog.service.common import find_by_name
 
     for attempt in range(2):
         try:

@@ -10,15 +10,9 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Lens, LensAlias
-from sharpzone.catalog.service._common import (
-    clean_name,
-    get_by_name,
-    merged,
-    remove_reassigning_frames,
-    positive,
-    require_name_free,
-)
-from sharpzone.errors import Conflict, InvalidValue, NotFound
+from sharpzone.catalog.rules import clean_name, lens_values
+from sharpzone.catalog.service.common import get_by_name, merged, remove_reassigning_frames, require_name_free
+from sharpzone.errors import Conflict, NotFound
 from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 
 
@@ -49,12 +43,14 @@ def add_lens(
     min_aperture: float = ASSUMED_MIN_APERTURE,
     close_focus_mm: float | None = None,
     pupil_magnification: float = 1.0,
+    max_magnification: float | None = None,
     exif_names: tuple[str, ...] | list[str] = (),
     confirmed: bool = True,
 ) -> Lens:
     """Add a lens. A prime leaves ``focal_max_mm`` out; a constant-aperture lens leaves
     ``max_aperture_tele`` out. ``close_focus_mm`` is the closest focus from the sensor;
-    ``exif_names`` are the EXIF LensModel strings that name it."""
+    ``exif_names`` are the EXIF LensModel strings that name it; ``max_magnification`` the
+    specified maximum magnification (e.g. 1.0 for a 1:1 macro lens), when known."""
     lens = Lens(aliases=[])
     _apply(
         session,
@@ -67,6 +63,7 @@ def add_lens(
         min_aperture=min_aperture,
         close_focus_mm=close_focus_mm,
         pupil_magnification=pupil_magnification,
+        max_magnification=max_magnification,
         confirmed=confirmed,
     )
     session.add(lens)
@@ -88,6 +85,7 @@ def edit_lens(
     min_aperture: float | None = None,
     close_focus_mm: float | None = None,
     pupil_magnification: float | None = None,
+    max_magnification: float | None = None,
     confirmed: bool | None = None,
 ) -> Lens:
     """Change the given fields of lens ``name`` (``None`` keeps a field). Frames taken with
@@ -106,6 +104,7 @@ def edit_lens(
             min_aperture=min_aperture,
             close_focus_mm=close_focus_mm,
             pupil_magnification=pupil_magnification,
+            max_magnification=max_magnification,
             confirmed=confirmed,
         ),
     )
@@ -152,49 +151,11 @@ def lens_frame_counts(session: Session) -> dict[int, int]:
     return {lens_id: count for lens_id, count in rows}
 
 
-def _apply(
-    session,
-    lens,
-    *,
-    name,
-    focal_min_mm,
-    focal_max_mm,
-    max_aperture_wide,
-    max_aperture_tele,
-    min_aperture,
-    close_focus_mm,
-    pupil_magnification,
-    confirmed,
-) -> None:
-    """Validate the complete new state of ``lens``, then set it."""
-    name = clean_name(name, "lens")
-    focal_min, focal_max = focal_min_mm, focal_max_mm
-    aperture_wide, aperture_tele = max_aperture_wide, max_aperture_tele
-    close_focus, pupil = close_focus_mm, pupil_magnification
-    focal_min = positive(focal_min, f"lens {name!r}: shortest focal length", "mm")
-    focal_max = positive(focal_max, f"lens {name!r}: longest focal length", "mm")
-    if focal_max < focal_min:
-        raise InvalidValue(
-            f"lens {name!r}: longest focal length {focal_max:g} mm is shorter than the shortest {focal_min:g} mm"
-        )
-    aperture_wide = positive(aperture_wide, f"lens {name!r}: maximum aperture (f-number)")
-    aperture_tele = positive(aperture_tele, f"lens {name!r}: maximum aperture at the long end (f-number)")
-    min_aperture = positive(min_aperture, f"lens {name!r}: minimum aperture (f-number)")
-    widest_needed = max(aperture_wide, aperture_tele)
-    if min_aperture < widest_needed:
-        raise InvalidValue(
-            f"lens {name!r}: minimum aperture f/{min_aperture:g} is wider than the maximum aperture "
-            f"f/{widest_needed:g}: expected a larger f-number such as f/22"
-        )
-    close_focus = positive(close_focus, f"lens {name!r}: close-focus distance", "mm")
-    pupil = positive(pupil, f"lens {name!r}: pupil magnification")
-    require_name_free(session, Lens, name, "lens", keep=lens)
-    lens.name = name
-    lens.focal_min_mm = focal_min
-    lens.focal_max_mm = focal_max
-    lens.max_aperture_wide = aperture_wide
-    lens.max_aperture_tele = aperture_tele
-    lens.min_aperture = min_aperture
-    lens.close_focus_mm = close_focus
-    lens.pupil_magnification = pupil
+def _apply(session, lens, *, confirmed, **fields) -> None:
+    """Validate the complete new state of ``lens`` (``fields`` checked by
+    ``rules.lens_values``), then set it."""
+    values = lens_values(**fields)
+    require_name_free(session, Lens, values["name"], "lens", keep=lens)
+    for column, value in values.items():
+        setattr(lens, column, value)
     lens.confirmed = bool(confirmed)
