@@ -304,19 +304,6 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
     )
 
 
-def find_lens(session: Session, name: str):
-    """The catalogue lens called ``name`` or carrying ``name`` as an EXIF alias."""
-    from sharpzone.catalog.service import find_lens_for_exif, get_lens
-
-    try:
-        return get_lens(session, name)
-    except NotFound:
-        lens = find_lens_for_exif(session, name)
-        if lens is None:
-            raise
-        return lens
-
-
 def sheet_from_catalog(
     session: Session,
     lens_name: str,
@@ -333,11 +320,11 @@ def sheet_from_catalog(
 ) -> Sheet:
     """The sheet of the catalogued lens ``lens_name`` (name or EXIF alias) for the format of
     ``body`` or the format called ``sensor`` (default 36x24); see ``build_sheet``."""
-    from sharpzone.catalog.service import get_body, get_format
+    from sharpzone.catalog.service import get_body, get_format, get_lens
 
     if body and sensor:
         raise InvalidValue("give either --body or --sensor, not both")
-    lens = LensSpec.from_row(find_lens(session, lens_name))
+    lens = LensSpec.from_row(get_lens(session, lens_name))
     pixel_pitch_mm = None
     if body:
         body_row = get_body(session, body)

@@ -22,14 +22,21 @@ def list_lenses(session: Session) -> list[Lens]:
 
 
 def get_lens(session: Session, name: str) -> Lens:
-    """The lens called ``name`` (ignoring case); ``NotFound`` lists the known ones."""
-    return get_by_name(session, Lens, name, "lens")
+    """The lens called ``name`` (ignoring case) or carrying ``name`` as an EXIF alias;
+    ``NotFound`` lists the known ones."""
+    try:
+        return get_by_name(session, Lens, name, "lens")
+    except NotFound:
+        lens = find_lens_for_exif(session, name)
+        if lens is None:
+            raise
+        return lens
 
 
 def find_lens_for_exif(session: Session, lens_model: str) -> Lens | None:
     """The lens whose EXIF alias is ``lens_model`` (exact after trimming spaces), or ``None``."""
-    alias = session.scalars(select(LensAlias).where(LensAlias.exif_name == lens_model.strip())).first()
-    return alias.lens if alias is not None else None
+    # Queried as a lens (not through the alias) so its aliases load with it.
+    return session.scalars(select(Lens).join(LensAlias).where(LensAlias.exif_name == lens_model.strip())).first()
 
 
 def add_lens(
