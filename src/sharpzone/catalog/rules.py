@@ -282,29 +282,65 @@ def _shoot_row(values: dict) -> dict:
     return {**values, "coc_policy": settings["coc_policy"]} if "coc_policy" in values else values
 
 
-def frame_checks(values: dict, label: str) -> None:
-    """A frame's capture settings: each in range, the focus bracket around the distance."""
-    one_of(values.get("focus_source", "none"), FOCUS_SOURCES, f"{label}: focus source", optional=False)
-    one_of(values.get("subject_distance_range"), SUBJECT_DISTANCE_RANGES, f"{label}: subject distance range")
-    positive(values.get("focal_mm"), f"{label}: focal length", "mm")
-    positive(values.get("focal_35mm_mm"), f"{label}: 35 mm equivalent focal length", "mm")
-    f_number(values.get("f_number"), f"{label}: f-number")
-    positive(values.get("exposure_s"), f"{label}: exposure time", "s")
-    positive_int(values.get("iso"), f"{label}: ISO")
-    positive_int(values.get("width_px"), f"{label}: width")
-    positive_int(values.get("height_px"), f"{label}: height")
-    whole_number(values.get("file_size"), f"{label}: file size", low=0, high=BIG_INTEGER_RANGE[1])
-    whole_number(values.get("utc_offset_minutes"), f"{label}: UTC offset (minutes)",
-                 low=-MAX_UTC_OFFSET_MINUTES, high=MAX_UTC_OFFSET_MINUTES)
-    focus = positive(values.get("focus_mm"), f"{label}: focus distance", "mm", allow_inf=True)
-    near = positive(values.get("focus_near_mm"), f"{label}: nearest focus distance", "mm", allow_inf=True)
-    far = positive(values.get("focus_far_mm"), f"{label}: farthest focus distance", "mm", allow_inf=True)
+# A frame's single values: column → (what a person calls it, the check).
+_FRAME_VALUE_RULES = {
+    "subject_distance_range": ("subject distance range",
+                               lambda v, what: one_of(v, SUBJECT_DISTANCE_RANGES, what)),
+    "focal_mm": ("focal length", lambda v, what: positive(v, what, "mm")),
+    "focal_35mm_mm": ("35 mm equivalent focal length", lambda v, what: positive(v, what, "mm")),
+    "f_number": ("f-number", f_number),
+    "exposure_s": ("exposure time", lambda v, what: positive(v, what, "s")),
+    "iso": ("ISO", positive_int),
+    "width_px": ("width", positive_int),
+    "height_px": ("height", positive_int),
+    "utc_offset_minutes": ("UTC offset (minutes)",
+                           lambda v, what: whole_number(v, what, low=-MAX_UTC_OFFSET_MINUTES, high=MAX_UTC_OFFSET_MINUTES)),
+    "focus_mm": ("focus distance", lambda v, what: positive(v, what, "mm", allow_inf=True)),
+    "focus_near_mm": ("nearest focus distance", lambda v, what: positive(v, what, "mm", allow_inf=True)),
+    "focus_far_mm": ("farthest focus distance", lambda v, what: positive(v, what, "mm", allow_inf=True)),
+    **{f"focus_point_{axis}": (f"focus point {axis}", fraction) for axis in ("x", "y", "w", "h")},
+}
+
+
+def _focus_bracket(values: dict, label: str) -> None:
+    near, focus, far = (values.get(key) for key in ("focus_near_mm", "focus_mm", "focus_far_mm"))
     known = [value for value in (near, focus, far) if value is not None]
     if known != sorted(known):
         raise InvalidValue(f"{label}: focus bracket {near!r} – {far!r} mm must hold the focus distance {focus!r} mm "
                            "(nearest ≤ focus ≤ farthest)")
-    for axis in ("x", "y", "w", "h"):
-        fraction(values.get(f"focus_point_{axis}"), f"{label}: focus point {axis}")
+
+
+def frame_checks(values: dict, label: str) -> None:
+    """A frame's capture settings: each in range, the focus bracket around the distance."""
+    one_of(values.get("focus_source", "none"), FOCUS_SOURCES, f"{label}: focus source", optional=False)
+    whole_number(values.get("file_size"), f"{label}: file size", low=0, high=BIG_INTEGER_RANGE[1])
+    for column, (what, rule) in _FRAME_VALUE_RULES.items():
+        rule(values.get(column), f"{label}: {what}")
+    _focus_bracket(values, label)
+
+
+def frame_within_rules(values: dict, warnings: list[str]) -> dict:
+    """``values`` of a frame read from a file, with each value that breaks a rule dropped
+    (``None``, a focus source unknown to the catalogue becomes "none") and a warning for it,
+    so what a reader hands over always fits the catalogue's CHECK constraints."""
+    cleaned = dict(values)
+    if cleaned.get("focus_source", "none") not in FOCUS_SOURCES:
+        warnings.append(f"focus source {cleaned['focus_source']!r} ignored: not one the catalogue knows")
+        cleaned["focus_source"] = "none"
+    for column, (what, rule) in _FRAME_VALUE_RULES.items():
+        if cleaned.get(column) is None:
+            continue
+        try:
+            rule(cleaned[column], what)
+        except InvalidValue as error:
+            warnings.append(f"{error.message}: ignored")
+            cleaned[column] = None
+    try:
+        _focus_bracket(cleaned, "focus")
+    except InvalidValue as error:
+        warnings.append(f"{error.message}: bracket ignored")
+        cleaned["focus_near_mm"] = cleaned["focus_far_mm"] = None
+    return cleaned
 
 
 def _frame_row(values: dict) -> dict:

@@ -122,7 +122,9 @@ def _read_one(item: tuple[str, float | None]) -> CaptureRecord | ReadProblem:
 
 def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int, body_id, lens_id,
                warnings: list[str]) -> dict:
-    return {
+    from sharpzone.catalog.rules import frame_within_rules  # what breaks a rule is dropped, with a warning
+
+    return frame_within_rules({
         "path": printable_path(record.path), "shoot_id": shoot_id, "file_size": candidate.size,
         "file_mtime_ns": candidate.mtime_ns, "captured_at": record.captured_at,
         "utc_offset_minutes": record.utc_offset_minutes, "body_id": body_id, "lens_id": lens_id,
@@ -130,8 +132,8 @@ def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int, b
         "iso": record.iso, "focus_mm": record.focus_mm, "focus_source": record.focus_source,
         "focal_35mm_mm": record.focal_35mm_mm, "width_px": record.width_px, "height_px": record.height_px,
         "exif_make": record.exif_make, "exif_model": record.exif_model, "exif_lens_model": record.lens_model,
-        "warnings": "; ".join(warnings) or None,
-    }
+        "warnings": None,
+    }, warnings) | {"warnings": "; ".join(warnings) or None}
 
 
 def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],

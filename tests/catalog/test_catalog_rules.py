@@ -1,0 +1,36 @@
+"""The catalogue's rules on their own: what a reader hands over is made to fit them."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from sharpzone.catalog.rules import check_row, frame_within_rules, whole_number
+from sharpzone.errors import InvalidValue
+
+
+def test_values_a_reader_got_wrong_are_dropped_with_a_warning():
+    warnings: list[str] = []
+    cleaned = frame_within_rules({"path": "/a.jpg", "focus_source": "telepathy", "iso": 0, "f_number": 0.2,
+                                  "focal_mm": 50.0, "focus_point_x": 1.5, "focus_mm": 3000.0,
+                                  "focus_near_mm": 4000.0, "focus_far_mm": math.inf}, warnings)
+    assert cleaned["focus_source"] == "none"
+    assert cleaned["iso"] is None and cleaned["f_number"] is None and cleaned["focus_point_x"] is None
+    assert cleaned["focal_mm"] == 50.0 and cleaned["focus_mm"] == 3000.0
+    assert cleaned["focus_near_mm"] is None and cleaned["focus_far_mm"] is None
+    assert len(warnings) == 5 and all("\n" not in w for w in warnings)
+    assert check_row("frame", cleaned) == cleaned  # now within every rule
+
+
+def test_a_good_frame_passes_untouched():
+    values = {"path": "/a.jpg", "focus_source": "makernote", "focus_mm": 3000.0, "focus_near_mm": 2500.0,
+              "focus_far_mm": math.inf, "focus_point_x": 0.0, "focus_point_w": 1.0, "iso": 100}
+    warnings: list[str] = []
+    assert frame_within_rules(values, warnings) == values and warnings == []
+
+
+@pytest.mark.parametrize("value", [True, 1.5, "3", 2**31])
+def test_whole_numbers_are_whole_and_in_range(value):
+    with pytest.raises(InvalidValue):
+        whole_number(value, "count", low=0)
