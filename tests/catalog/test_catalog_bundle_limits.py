@@ -123,3 +123,17 @@ def test_the_command_prints_one_line_and_no_traceback(tmp_path):
     result = CliRunner().invoke(app, ["--catalog", str(tmp_path / "c.sqlite"), "catalog", "import", str(bundle)])
     assert result.exit_code == 2
     assert "Traceback" not in result.output and len(result.output.strip().splitlines()) == 1
+
+
+def test_a_zip_that_lies_about_its_sizes_stops_at_the_declared_size(tmp_path):
+    import struct
+
+    bundle = tmp_path / "liar.zip"
+    with zipfile.ZipFile(bundle, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+        archive.writestr("manifest.json", json.dumps(HEADER))
+        archive.writestr("ingest_problem.csv", b"path,reason\n" + b"/a.jpg,x\n" * 200_000)
+    data = bytearray(bundle.read_bytes())
+    entry = data.index(b"PK\x01\x02", data.index(b"PK\x01\x02") + 4)  # the CSV's central record
+    struct.pack_into("<I", data, entry + 24, 100)  # claims 100 bytes uncompressed
+    bundle.write_bytes(bytes(data))
+    _refused(tmp_path, bundle, r"cannot be read: .*(CRC|fewer fields)")

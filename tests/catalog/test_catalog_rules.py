@@ -34,3 +34,13 @@ def test_a_good_frame_passes_untouched():
 def test_whole_numbers_are_whole_and_in_range(value):
     with pytest.raises(InvalidValue):
         whole_number(value, "count", low=0)
+
+
+def test_a_stored_policy_the_program_cannot_read_is_an_error_not_an_unknown_coc():
+    # Before 0004 an imported bundle could store one; every verdict then turned into a
+    # wrong "settings-unknown" remedy.
+    from sharpzone.analysis.zones import add_zones
+    from tests.analysis.frames_factory import frames_frame
+
+    with pytest.raises(InvalidValue, match=r"CoC policy 'blurry-ish' is not valid"):
+        add_zones(frames_frame({"shoot_coc_policy": "blurry-ish"}))
