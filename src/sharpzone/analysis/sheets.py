@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from sharpzone.analysis.setting import DEFAULT_SENSOR, CocChoice, choose_coc
-from sharpzone.errors import InvalidValue, NotFound
+from sharpzone.errors import InvalidValue
 from sharpzone.optics.diffraction import diffraction_limited_f_number
 from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance, sharp_zone
 from sharpzone.optics.stops import STEPS_PER_STOP, check_scale, stop_series

@@ -35,7 +35,6 @@ from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
 from sharpzone.catalog.rules import CHECKS, NAME_LENGTH
 from sharpzone.optics.limits import DIAGONAL_DIVISOR
-from sharpzone.vocabulary import FOCUS_SOURCES, PLAN_KINDS  # noqa: F401 - shared with the readers
 
 if TYPE_CHECKING:
     from sharpzone.optics.formats import SensorFormat

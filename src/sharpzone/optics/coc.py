@@ -28,7 +28,6 @@ from sharpzone.optics.formats import SensorFormat
 # Photographic Optics).
 ACUITY_BLUR_MM = 0.2
 NEAR_VIEWING_DISTANCE_MM = 250.0
-from sharpzone.optics.limits import DIAGONAL_DIVISOR as MODERN_DIAGONAL_DIVISOR  # noqa: E402
 
 POLICY_HELP = (
     "circle-of-confusion policy: 'diagonal' (the format's rule, diagonal/1500 by default), "
