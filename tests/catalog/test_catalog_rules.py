@@ -44,3 +44,30 @@ def test_a_stored_policy_the_program_cannot_read_is_an_error_not_an_unknown_coc(
 
     with pytest.raises(InvalidValue, match=r"CoC policy 'blurry-ish' is not valid"):
         add_zones(frames_frame({"shoot_coc_policy": "blurry-ish"}))
+
+
+def test_each_shared_number_is_written_in_one_place_only():
+    # The f/0.5 floor, the 1/1500 diagonal rule, the assumed f/22, the SubjectDistance
+    # infinity code: one definition each (issue: seven, four, two and three copies).
+    import re
+    import tokenize
+    from pathlib import Path
+
+    import sharpzone
+
+    homes = {
+        r"(MIN_F_NUMBER = |>= |< )0\.5\b": "optics/limits.py",
+        r"\b1500(\.0)?\b": "optics/limits.py",
+        r"\b22\.0\b": "optics/limits.py",
+        r"0xFFFFFFFF": "vocabulary.py",
+    }
+    root = Path(sharpzone.__file__).parent
+    for pattern, home in homes.items():
+        found = set()
+        for path in root.rglob("*.py"):
+            with path.open("rb") as source:  # the code only: no comments, strings or docstrings
+                code = " ".join(token.string for token in tokenize.tokenize(source.readline)
+                                if token.type not in (tokenize.COMMENT, tokenize.STRING, tokenize.ENCODING))
+            if re.search(pattern, code):
+                found.add(path.relative_to(root).as_posix())
+        assert found == {home}, (pattern, found)

@@ -37,7 +37,7 @@ FLAGS = (
     "distance-unknown", "settings-unknown", "no-requirement", "too-wide-open", "focus-misplaced",
     "out-of-reach", "past-diffraction", "outside-plan",
 )
-from sharpzone.optics.limits import ASSUMED_MIN_APERTURE  # noqa: E402, F401 - one home
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE, MIN_F_NUMBER  # noqa: E402, F401 - one home
 
 REQUIREMENT_COLUMNS = ("plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
 
@@ -205,7 +205,7 @@ def _outside_plan(frames: pd.DataFrame, focus, coc, pupil, usable) -> np.ndarray
         return np.zeros(len(frames), dtype=bool)
     planned_focal, planned_n, planned_focus = (frames[c].to_numpy(dtype=float) for c in columns)
     with np.errstate(invalid="ignore"):
-        rows = usable & (planned_focal > 0) & (planned_n >= 0.5) & (planned_focus >= 4 * planned_focal)
+        rows = usable & (planned_focal > 0) & (planned_n >= MIN_F_NUMBER) & (planned_focus >= 4 * planned_focal)
     outside = np.zeros(len(frames), dtype=bool)
     if rows.any():
         zone = sharp_zone(planned_focal[rows], planned_n[rows], coc[rows], planned_focus[rows],
