@@ -154,6 +154,17 @@ def test_a_large_bundle_imports_in_bulk_with_exact_counts(catalog, tmp_path):
     assert len(stored) == 3000 and stored["/cards/00005.jpg"] == 1234.5 and stored["/cards/00001.jpg"] == "inf"
 
 
+def _edited_bundle(tmp_path, catalog, edit):
+    """The JSON bundle of ``catalog`` with ``edit`` applied to its document."""
+    bundle = tmp_path / "bundle.json"
+    with catalog.session_scope() as session:
+        export_catalog(session, bundle)
+    document = json.loads(bundle.read_text(encoding="utf-8"))
+    edit(document)
+    bundle.write_text(json.dumps(document), encoding="utf-8")
+    return bundle
+
+
 def _frame(document, path="/photos/quay/a,b.jpg"):
     return next(row for row in document["tables"]["frame"] if row["path"] == path)
 
@@ -202,12 +213,7 @@ def _shoot(document):
     ],
 )
 def test_import_applies_the_rules_of_the_commands_and_writes_nothing(tmp_path, filled_catalog, edit, message):
-    bundle = tmp_path / "bundle.json"
-    with filled_catalog.session_scope() as session:
-        export_catalog(session, bundle)
-    document = json.loads(bundle.read_text(encoding="utf-8"))
-    edit(document)
-    bundle.write_text(json.dumps(document), encoding="utf-8")
+    bundle = _edited_bundle(tmp_path, filled_catalog, edit)
     target = sqlite_url(tmp_path / "target.sqlite")
     with open_catalog(target) as copy:
         with pytest.raises(InvalidValue, match=message) as refused:
@@ -262,3 +268,21 @@ def test_a_failed_export_removes_its_partial_file_and_says_disk_full(filled_cata
                 export_catalog(session, tmp_path / name)
     assert list(tmp_path.iterdir()) == [tmp_path / "catalog.sqlite"] or not [
         p for p in tmp_path.iterdir() if "bundle" in p.name]
+
+
+@pytest.mark.parametrize(
+    ("edit", "message"),
+    [
+        (lambda d: d["tables"]["body"].append({**d["tables"]["body"][0], "name": "Twin"}),
+         r"bundle body row 2: body 'Twin' claims the EXIF identity 'Korvath [^']+ A-1', which 'Korvath MF' already has"),
+        (lambda d: d["tables"]["sensor_format"].append({**d["tables"]["sensor_format"][-1], "name": "other",
+                                                         "aliases": "MEDIUM"}),
+         r"sensor_format 'other' claims the name 'medium', which 'test-44x33' already has"),
+    ],
+)
+def test_import_refuses_two_rows_claiming_one_identity(tmp_path, filled_catalog, edit, message):
+    bundle = _edited_bundle(tmp_path, filled_catalog, edit)
+    with open_catalog(sqlite_url(tmp_path / "target.sqlite")) as copy:
+        with pytest.raises(Conflict, match=message):
+            with copy.session_scope() as session:
+                import_catalog(session, bundle)

@@ -536,10 +536,14 @@ def _import_table(session: Session, model, records: Iterable[dict], replace: boo
     ids_by_name = {f.refers_to: _ids_by_name(session, f.refers_to) for f in fields if f.refers_to}
     natural_key = NATURAL_KEYS[model]
     added = replaced = unchanged = 0
+    claims = _catalogue_claims(session, model)
     numbered = enumerate(records, start=1)
     while batch := list(islice(numbered, ROW_BATCH)):
-        decoded = [_decode_row(model, fields, ids_by_name, record, f"bundle {table} row {number}", form)
-                   for number, record in batch]
+        decoded = []
+        for number, record in batch:
+            where = f"bundle {table} row {number}"
+            decoded.append(_decode_row(model, fields, ids_by_name, record, where, form))
+            _claim(claims, model, decoded[-1], where)
         known_rows = _existing_rows(session, model, decoded)
         to_write: list[dict] = []
         inserted = 0
@@ -564,6 +568,39 @@ def _import_table(session: Session, model, records: Iterable[dict], replace: boo
             raise Conflict(f"another program changed {table} rows during the import; nothing was imported: run it again")
         added += inserted
     result.added[table], result.replaced[table], result.unchanged[table] = added, replaced, unchanged
+
+
+def _claims_of(model, values: dict) -> list[tuple[str, object]]:
+    """What a row claims that no other row of its table may (beyond the unique columns the
+    database checks by name): a format's names and aliases ignoring case (the service's
+    rule), a body's EXIF identity (make, model, serial)."""
+    if model is SensorFormatRow:
+        names = [values.get("name") or "", *(values.get("aliases") or "").split(";")]
+        return [("the name", name.strip().lower()) for name in names if name.strip()]
+    if model is Body:
+        return [("the EXIF identity", (values.get("exif_make"), values.get("exif_model"), values.get("serial") or ""))]
+    return []
+
+
+def _catalogue_claims(session: Session, model) -> dict:
+    """Claims of the rows already in the catalogue, each with the name of the row making it."""
+    if model not in (SensorFormatRow, Body):
+        return {}
+    claims = {}
+    for row in session.execute(select(model.__table__)).mappings():
+        for claim in _claims_of(model, row):
+            claims[claim] = row["name"]
+    return claims
+
+
+def _claim(claims: dict, model, values: dict, where: str) -> None:
+    for claim in _claims_of(model, values):
+        owner = claims.setdefault(claim, values.get("name"))
+        if owner != values.get("name"):
+            what, value = claim
+            shown = " ".join(part for part in value if part) if isinstance(value, tuple) else value
+            raise Conflict(f"{where}: {model.__tablename__} {values.get('name')!r} claims {what} {shown!r}, "
+                           f"which {owner!r} already has")
 
 
 def _decode_row(model, fields: list[BundleField], ids_by_name: dict, record, where: str, form: str) -> dict:
