@@ -10,6 +10,7 @@ from importlib import resources
 
 from sharpzone.errors import InvalidValue, NotFound
 from sharpzone.optics.formats import SensorFormat
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 
 
 @dataclass(frozen=True)
@@ -33,7 +34,7 @@ def parse_sensor_formats(text: str) -> list[ShippedFormat]:
                 name=row["name"].strip(),
                 width_mm=float(row["width_mm"]),
                 height_mm=float(row["height_mm"]),
-                coc_divisor=float(row.get("coc_divisor") or 1500),
+                coc_divisor=float(row.get("coc_divisor") or DIAGONAL_DIVISOR),
             )
         except (KeyError, TypeError, ValueError) as error:
             raise InvalidValue(f"sensor_formats.csv line {number}: {error}") from None

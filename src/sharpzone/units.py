@@ -168,11 +168,25 @@ def _significant(value: float, digits: int) -> str:
 
 def metres_or_inf(value_mm: float | None) -> float | str | None:
     """The machine interface's form of a distance: metres, ``"inf"``, or ``None`` if unknown."""
-    if value_mm is None or (isinstance(value_mm, float) and math.isnan(value_mm)):
+    if value_mm is None:
+        return None
+    value_mm = float(value_mm)
+    if math.isnan(value_mm):
         return None
     if math.isinf(value_mm):
         return "inf"
     return value_mm / 1000.0
+
+
+def format_zone(near_mm: float | None, far_mm: float | None, imperial: bool = False) -> str:
+    """'near – far' with units, ∞ for infinity. A shallow zone (close-up work) gets the
+    extra figures that resolve about a fifth of its depth, so it reads 39.99 cm – 40.01 cm
+    rather than 40.0 cm – 40.0 cm (at most six figures)."""
+    digits = 3
+    if near_mm and far_mm and math.isfinite(far_mm) and far_mm > near_mm > 0:
+        digits = min(6, max(3, math.ceil(math.log10(5 * far_mm / (far_mm - near_mm)))))
+    return (f"{format_distance(near_mm, imperial=imperial, digits=digits)} – "
+            f"{format_distance(far_mm, imperial=imperial, digits=digits)}")
 
 
 _F_NUMBER = re.compile(r"^\s*(?:f\s*/?\s*)?((?:\d+(?:\.\d*)?|\.\d+))\s*$", re.IGNORECASE)

@@ -14,5 +14,9 @@ FOCUS_SOURCES = ("user", "exif", "makernote", "xmp", "none")
 # CIPA DC-008 SubjectDistanceRange words (code 0, unknown, is stored as no value).
 SUBJECT_DISTANCE_RANGES = ("macro", "close", "distant")
 
+# EXIF 2.3 / CIPA DC-008 SubjectDistance (tag 0x9206): a numerator of 0xFFFFFFFF means
+# infinity, 0 means unknown.
+SUBJECT_DISTANCE_INFINITY = 0xFFFFFFFF
+
 # A shoot's plan: an absolute range from the sensor, or a depth around the focus point.
 PLAN_KINDS = ("range", "depth")

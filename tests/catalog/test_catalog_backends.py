@@ -47,8 +47,9 @@ def test_times_are_stored_as_the_wall_clock_they_show_on_every_database(catalog)
     assert abs(seen_at - dt.datetime.now(dt.timezone.utc).replace(tzinfo=None)) < dt.timedelta(minutes=5)
 
 
-def test_both_infinities_and_tiny_values_round_trip(catalog):
-    values = {"/c/far.jpg": math.inf, "/c/neg.jpg": -math.inf, "/c/tiny.jpg": 5e-324, "/c/third.jpg": 1 / 3}
+def test_infinity_and_tiny_values_round_trip(catalog):
+    # (-inf no longer fits any column: every length is above 0, ck_frame_focus_mm_positive.)
+    values = {"/c/far.jpg": math.inf, "/c/tiny.jpg": 5e-324, "/c/third.jpg": 1 / 3}
     with catalog.session_scope() as session:
         for number, (path, value) in enumerate(values.items()):
             session.add(Frame(path=path, file_size=1, file_mtime_ns=number, focus_mm=value))

@@ -19,9 +19,9 @@ from sharpzone.seed import shipped_formats
 
 
 def test_revisions_form_one_line_from_0001_to_head():
-    assert migrate.known_revisions() == ["0001", "0002", "0003"]
-    assert migrate.head_revision() == "0003"
-    assert migrate.next_revision_id() == "0004"
+    assert migrate.known_revisions() == ["0001", "0002", "0003", "0004"]
+    assert migrate.head_revision() == "0004"
+    assert migrate.next_revision_id() == "0005"
 
 
 def test_quick_head_and_stamp_readers_agree_with_alembic(catalog_url):
@@ -41,30 +41,37 @@ def test_migrations_are_found_inside_the_package():
     folder = migrate.migrations_folder()
     assert (folder / "env.py").is_file()
     assert (folder / "script.py.mako").is_file()
-    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:3] == [
+    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:4] == [
         "0001_initial_schema.py",
         "0002_pupils_warnings_problems.py",
         "0003_focus_brackets_and_measured_blur.py",
+        "0004_database_checks.py",
     ]
 
 
 def test_empty_database_is_created_at_head_with_the_shipped_formats(catalog_url):
     result = migrate.prepare_catalog(catalog_url)
-    assert result.created and result.revision == "0003"
+    assert result.created and result.revision == "0004"
     engine = create_engine(catalog_url)
     with engine.connect() as connection:
-        assert migrate.current_revision(connection) == "0003"
+        assert migrate.current_revision(connection) == "0004"
         names = set(connection.scalars(select(SensorFormatRow.name)))
     engine.dispose()
     assert names == {shipped.format.name for shipped in shipped_formats()}
-    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0003")
+    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0004")
 
 
-def test_models_and_migrations_do_not_drift(catalog_url):
+@pytest.mark.parametrize("path", ["revisions", "created"])
+def test_models_and_migrations_do_not_drift(catalog_url, path):
+    # A new catalogue is made from the models (create_at_head); an old one goes through
+    # the revisions: both must give the models' schema.
     from alembic.autogenerate import compare_metadata
     from alembic.runtime.migration import MigrationContext
 
-    migrate.prepare_catalog(catalog_url)
+    if path == "revisions":
+        migrate.upgrade(catalog_url)
+    else:
+        migrate.prepare_catalog(catalog_url)
     engine = create_catalog_engine(catalog_url)
     with engine.connect() as connection, warnings.catch_warnings():
         # SQLite cannot reflect the expression index on body; the test below checks it.
@@ -74,9 +81,10 @@ def test_models_and_migrations_do_not_drift(catalog_url):
     engine.dispose()
 
 
-def test_body_identity_index_exists_after_migration(tmp_path):
+@pytest.mark.parametrize("path", ["revisions", "created"])
+def test_body_identity_index_exists_after_migration(tmp_path, path):
     url = sqlite_url(tmp_path / "c.sqlite")
-    migrate.prepare_catalog(url)
+    migrate.upgrade(url) if path == "revisions" else migrate.prepare_catalog(url)
     connection = sqlite3.connect(tmp_path / "c.sqlite")
     sql = connection.execute("SELECT sql FROM sqlite_master WHERE name = 'uq_body_exif_identity'").fetchone()[0]
     connection.close()
@@ -165,7 +173,7 @@ def test_catalogue_newer_than_the_program_is_refused(tmp_path):
     connection.execute("UPDATE alembic_version SET version_num = '0099'")
     connection.commit()
     connection.close()
-    with pytest.raises(CatalogError, match=r"revision '0099', newer than this program"):
+    with pytest.raises(CatalogError, match=r"unknown schema revision '0099': this program knows 0001 to 0004"):
         with open_catalog(url):
             pass
     assert not list(tmp_path.glob("*.bak-*"))
@@ -198,9 +206,9 @@ def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, mo
     shutil.copytree(migrate.migrations_folder(), copy, ignore=shutil.ignore_patterns("__pycache__"))
     monkeypatch.setattr(migrate, "migrations_folder", lambda: copy)
     path = migrate.new_revision("nothing changed")
-    assert path.parent == copy / "versions" and path.name.startswith("0004_")
+    assert path.parent == copy / "versions" and path.name.startswith("0005_")
     draft = path.read_text(encoding="utf-8")
-    assert "revision = '0004'" in draft and "down_revision = '0003'" in draft
+    assert "revision = '0005'" in draft and "down_revision = '0004'" in draft
     assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
 
 
@@ -216,3 +224,113 @@ def test_two_programs_creating_one_catalogue_take_turns(catalog_url):
         count = connection.execute(text("SELECT count(*) FROM sensor_format")).scalar()
     engine.dispose()
     assert count == len(shipped_formats())
+
+
+def _fill_revision_0003(url: str) -> None:
+    """0001 rows, then rows in the columns and table 0003 added."""
+    _fill_revision_0001(url)
+    engine = create_engine(url)
+    with engine.begin() as connection:
+        connection.execute(text(
+            "UPDATE frame SET focus_source = 'makernote', focus_mm = 3000, focus_near_mm = 2500, focus_far_mm = :inf, "
+            "focus_point_x = 0.5, focus_point_y = 0.25, focus_point_w = 0, focus_point_h = 0"), {"inf": math.inf})
+        connection.execute(text(
+            "INSERT INTO frame_blur (id, frame_id, method, method_version, measured_at, analysed_long_px, "
+            "focus_blur_px, best_blur_px, median_blur_px, regions_measured, regions_total) "
+            "VALUES (1, 1, 'edge-width', 1, '2026-12-01 10:00:00', 1024, 1.5, 0.9, 2.5, 40, 48)"))
+        connection.execute(text("UPDATE lens SET max_magnification = 0.5"))
+    engine.dispose()
+
+
+def test_0004_keeps_every_row_and_the_body_identity_index(catalog_url):
+    migrate.upgrade(catalog_url, "0003")
+    _fill_revision_0003(catalog_url)
+    result = migrate.prepare_catalog(catalog_url)
+    assert (result.upgraded_from, result.revision) == ("0003", "0004")
+    with open_catalog(catalog_url) as catalog, catalog.session_scope() as session:
+        frame = session.scalars(select(Frame)).one()
+        assert (frame.focus_source, frame.focus_mm, frame.focus_near_mm, frame.focus_point_y) == ("makernote", 3000, 2500, 0.25)
+        assert math.isinf(frame.focus_far_mm)
+        assert session.scalars(select(Lens)).one().max_magnification == 0.5
+        assert session.scalars(select(Body)).one().name == "Korvath K1"
+        # the identity index came back after the batch copy of body
+        from sharpzone.catalog.service import add_body
+        from sharpzone.errors import Conflict
+
+        with pytest.raises(Conflict):
+            add_body(session, "Twin", exif_make="Korvath", exif_model="K1", format_name="test-36x24")
+
+
+BAD_ROWS = [
+    ("UPDATE lens SET focal_min_mm = -50", "focal_min_mm_positive"),
+    ("UPDATE lens SET max_aperture_wide = 0.1, max_aperture_tele = 0.1", "max_aperture_wide_f_number"),
+    ("UPDATE shoot SET plan_kind = 'banana'", "plan_kind"),
+    ("UPDATE frame SET focus_source = 'telepathy'", "focus_source"),
+    ("UPDATE frame SET iso = -1", "iso_positive"),
+    ("UPDATE frame SET focus_near_mm = 4000", "focus_bracket"),
+    ("UPDATE frame SET focus_point_x = 1.5", "focus_point_x_fraction"),
+    ("UPDATE frame_blur SET best_blur_px = -1", "best_blur_px_not_negative"),
+]
+
+
+@pytest.mark.parametrize(("statement", "rule"), BAD_ROWS)
+def test_the_database_refuses_what_the_program_refuses(catalog_url, statement, rule):
+    migrate.upgrade(catalog_url, "0003")
+    _fill_revision_0003(catalog_url)
+    migrate.prepare_catalog(catalog_url)
+    engine = create_engine(catalog_url)
+    from sqlalchemy.exc import IntegrityError
+
+    with pytest.raises(IntegrityError, match=rule if sqlite_path(catalog_url) else "ck_"):
+        with engine.begin() as connection:
+            connection.execute(text(statement))
+    engine.dispose()
+
+
+@pytest.mark.parametrize(("statement", "rule"), BAD_ROWS[:4])
+def test_0004_refuses_a_catalogue_holding_a_bad_row_in_one_line_and_changes_nothing(catalog_url, statement, rule):
+    migrate.upgrade(catalog_url, "0003")
+    _fill_revision_0003(catalog_url)
+    engine = create_engine(catalog_url)
+    with engine.begin() as connection:
+        connection.execute(text(statement))
+    engine.dispose()
+    with pytest.raises(CatalogError, match=rf"cannot add the rule '{rule}' to table \w+: row id 1 breaks it") as refused:
+        migrate.prepare_catalog(catalog_url)
+    assert "\n" not in str(refused.value)
+    engine = create_engine(catalog_url)
+    with engine.connect() as connection:
+        assert migrate.current_revision(connection) == "0003"
+    engine.dispose()
+
+
+@pytest.mark.parametrize("path", ["revisions", "created"])
+def test_the_models_declare_the_check_constraints_the_migrations_made(catalog_url, path):
+    from sqlalchemy import CheckConstraint, inspect
+
+    migrate.upgrade(catalog_url) if path == "revisions" else migrate.prepare_catalog(catalog_url)
+    engine = create_engine(catalog_url)
+    with engine.connect() as connection:
+        inspector = inspect(connection)
+        in_database = {table: {c["name"] for c in inspector.get_check_constraints(table) if c["name"].startswith("ck_")}
+                       for table in Base.metadata.tables}
+    engine.dispose()
+    declared = {name: {c.name for c in table.constraints if isinstance(c, CheckConstraint) and c.name.startswith("ck_")}
+                for name, table in Base.metadata.tables.items()}
+    assert in_database == declared
+    assert "ck_frame_focus_source" in declared["frame"] and "ck_shoot_plan_shape" in declared["shoot"]
+
+
+def test_a_stamp_that_does_not_match_the_tables_is_one_line_and_leaves_no_backup(tmp_path):
+    path = tmp_path / "c.sqlite"
+    url = sqlite_url(path)
+    migrate.upgrade(url, "0002")
+    connection = sqlite3.connect(path)
+    connection.execute("UPDATE alembic_version SET version_num = '0001'")  # a 0002 schema stamped 0001
+    connection.commit()
+    connection.close()
+    for _attempt in range(3):
+        with pytest.raises(CatalogError, match=r"stamped with schema revision '0001' but its tables do not match it") as refused:
+            migrate.prepare_catalog(url)
+        assert "\n" not in str(refused.value) and "duplicate column" not in str(refused.value).lower()
+    assert list(tmp_path.glob("c.sqlite.bak-*")) == []  # a failed attempt leaves no copy behind

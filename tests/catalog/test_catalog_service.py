@@ -153,7 +153,9 @@ def test_add_zoom_and_prime_with_aliases(catalog_session):
     [
         ({"focal_min_mm": 70, "focal_max_mm": 24}, r"longest focal length 24 mm is shorter than the shortest 70 mm"),
         ({"min_aperture": 2}, r"minimum aperture f/2 is wider than the maximum aperture f/2.8"),
-        ({"max_aperture_wide": 0}, r"maximum aperture \(f-number\) 0 must be a positive finite number"),
+        ({"max_aperture_wide": 0}, r"maximum aperture 0 is not a valid f-number: expected f/0.5 or more"),
+        ({"max_aperture_wide": 0.1}, r"maximum aperture 0.1 is not a valid f-number"),
+        ({"max_magnification": -1}, r"maximum magnification -1 is not valid"),
         ({"close_focus_mm": math.inf}, r"close-focus distance inf mm must be a positive finite number"),
         ({"pupil_magnification": -1}, r"pupil magnification -1 must be"),
     ],
@@ -239,7 +241,7 @@ def test_edit_shoot_switches_plan_kind_and_keeps_the_other_limit(catalog_session
         ({"near_mm": 4000}, "a range plan needs both the near and the far limit"),
         ({"near_mm": 1, "far_mm": 2, "front_mm": 1, "back_mm": 1}, "not both"),
         ({"front_mm": 0, "back_mm": 0}, "must not be zero in front and behind"),
-        ({"planned_f_number": -2}, r"planned f-number -2 must be a positive"),
+        ({"planned_f_number": -2}, r"planned f-number -2 is not a valid f-number"),
         ({"coc_policy": "sharp-enough"}, r"'sharp-enough'"),
     ],
 )
@@ -262,6 +264,6 @@ def test_shoot_with_frames_is_removed_only_with_them(catalog_session, make_shoot
 def test_catalog_info_counts_rows(catalog_session, make_frame):
     make_frame()
     info = service.catalog_info(catalog_session)
-    assert info.revision == info.newest_revision == "0003"
+    assert info.revision == info.newest_revision == "0004"
     assert info.row_counts["frame"] == 1 and info.row_counts["lens"] == 1
     assert info.row_counts["sensor_format"] >= 20

@@ -90,9 +90,7 @@ FLAG_KINDS = {
 OUTCOMES = ("passed", "flagged", "uncertain", "unjudged")
 # Remedy codes in the ``remedy`` column: what the words for a flagged or uncertain frame say.
 REMEDIES = ("stop-down", "refocus", "stack", "focus-on-subject")
-# The narrowest aperture assumed when the catalogue does not know a lens's minimum aperture
-# (most interchangeable lenses stop down to f/22; common practice).
-ASSUMED_MIN_APERTURE = 22.0
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE, MIN_F_NUMBER  # noqa: E402, F401 - one home
 
 REQUIREMENT_COLUMNS = ("plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
 
@@ -167,7 +165,7 @@ def _focus_brackets(frames: pd.DataFrame, focus, focal):
 
 def _round_down_to_stops(f_numbers):
     """The narrowest marked third stop at or below each f-number (NaN below f/0.5)."""
-    series = stop_series("third", 0.5, 128.0)
+    series = stop_series("third", MIN_F_NUMBER, 128.0)
     labels = np.array([stop.label for stop in series])
     index = np.searchsorted(labels, np.asarray(f_numbers, dtype=float) * (1 + 1e-9), side="right") - 1
     return np.where(index >= 0, labels[np.maximum(index, 0)], np.nan)
@@ -370,7 +368,7 @@ def _remedies(missed, uncertain, focal, f_number, coc, pupil, focus_nearest, foc
     needed_exact[rows] = f_number_for_range(
         focal[rows], coc[rows], focus_nearest[rows], worst_near[rows], worst_far[rows], reference="sensor",
         pupil_magnification=pupil[rows], focus_far_mm=np.where(is_depth, focus_nearest, focus_farthest)[rows])
-    needed, needed_value = round_up_to_stops(np.maximum(needed_exact, 0.5))
+    needed, needed_value = round_up_to_stops(np.maximum(needed_exact, MIN_F_NUMBER))
     # Where to focus with the least stopping down (a known distance, so no bracket): for a
     # range, and for a depth whose subject distance is exact.
     refocusable = rows & (~is_depth | ~bracketed)
@@ -381,7 +379,7 @@ def _remedies(missed, uncertain, focal, f_number, coc, pupil, focus_nearest, foc
                                     worst_far[refocusable], reference="sensor",
                                     pupil_magnification=pupil[refocusable])
         best_focus[refocusable], best_exact[refocusable] = plan.focus_mm, plan.f_number
-    best, best_value = round_up_to_stops(np.maximum(best_exact, 0.5))
+    best, best_value = round_up_to_stops(np.maximum(best_exact, MIN_F_NUMBER))
 
     def reachable(label, value):
         # Within the lens's apertures and before diffraction softens the plane of focus.
@@ -414,7 +412,7 @@ def _remedies(missed, uncertain, focal, f_number, coc, pupil, focus_nearest, foc
         stack_near = np.where(is_depth, focus_nearest - front, worst_near)
         with np.errstate(invalid="ignore"):
             stack_far = np.where(is_depth, focus_farthest + back, worst_far)
-        usable = stack & (stack_n >= 0.5)
+        usable = stack & (stack_n >= MIN_F_NUMBER)
         low, high = stack_near[usable], stack_far[usable]
         low = np.fmax(low, 4.0001 * focal[usable])
         high = np.where(high <= low, low * 1.0001, high)
@@ -432,7 +430,7 @@ def _outside_plan(frames: pd.DataFrame, focus, coc, pupil, usable) -> np.ndarray
         return np.zeros(len(frames), dtype=bool)
     planned_focal, planned_n, planned_focus = (frames[c].to_numpy(dtype=float) for c in columns)
     with np.errstate(invalid="ignore"):
-        rows = usable & (planned_focal > 0) & (planned_n >= 0.5) & (planned_focus >= 4 * planned_focal)
+        rows = usable & (planned_focal > 0) & (planned_n >= MIN_F_NUMBER) & (planned_focus >= 4 * planned_focal)
     outside = np.zeros(len(frames), dtype=bool)
     if rows.any():
         zone = sharp_zone(planned_focal[rows], planned_n[rows], coc[rows], planned_focus[rows],

@@ -8,7 +8,7 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from sharpzone.errors import InvalidValue, NotFound
+from sharpzone.errors import InvalidValue
 from sharpzone.optics import dof as dof_core
 from sharpzone.optics.coc import CocPolicy, DiagonalFraction, FixedCoc, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
@@ -24,24 +24,22 @@ FormatLookup = Callable[[str], SensorFormat]
 
 
 def format_lookup(catalog_location: str | None = None) -> FormatLookup:
-    """A lookup of sensor formats: the shipped ones first (no database needed, so ``dof``
-    starts fast), then the catalogue's own, if a catalogue already exists there."""
+    """A lookup of sensor formats as ``sheet`` sees them: the catalogue's own (so ``format
+    edit`` counts), or the shipped list while no catalogue file exists yet (``dof`` then
+    needs no database and creates none)."""
 
     def lookup(name: str) -> SensorFormat:
-        try:
+        from sharpzone.catalog.location import resolve_catalog_url, sqlite_path
+
+        url = resolve_catalog_url(catalog_location)
+        path = sqlite_path(url)
+        if path is not None and not path.exists():
             return find_shipped_format(name)
-        except NotFound:
-            from sharpzone.catalog.location import resolve_catalog_url, sqlite_path
+        from sharpzone.catalog.engine import session_scope
+        from sharpzone.catalog.service import get_format
 
-            url = resolve_catalog_url(catalog_location)
-            path = sqlite_path(url)
-            if path is not None and not path.exists():
-                raise
-            from sharpzone.catalog.engine import session_scope
-            from sharpzone.catalog.service import get_format
-
-            with session_scope(url) as session:
-                return get_format(session, name).to_core()
+        with session_scope(url) as session:
+            return get_format(session, name).to_core()
 
     return lookup
 
@@ -61,12 +59,12 @@ class LensOptics:
 
 def catalog_lens_optics(name: str, catalog_location: str | None = None) -> LensOptics:
     """The lens called ``name`` (or answering to that EXIF name) in the catalogue."""
-    from sharpzone.analysis.sheets import find_lens
     from sharpzone.catalog.engine import session_scope
     from sharpzone.catalog.location import resolve_catalog_url
+    from sharpzone.catalog.service import get_lens
 
     with session_scope(resolve_catalog_url(catalog_location)) as session:
-        row = find_lens(session, name)
+        row = get_lens(session, name)  # by name or EXIF alias
         prime = row.focal_min_mm if row.focal_min_mm == row.focal_max_mm else None
         return LensOptics(row.name, prime, row.focal_max_mm, row.close_focus_mm, row.max_magnification, row.pupil_magnification or 1.0)
 

@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from sharpzone.analysis.setting import DEFAULT_SENSOR, CocChoice, choose_coc
-from sharpzone.errors import InvalidValue, NotFound
+from sharpzone.errors import InvalidValue
 from sharpzone.optics.diffraction import diffraction_limited_f_number
 from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance
 from sharpzone.optics.macro import effective_focal_mm, sharp_zone_focusing
@@ -77,24 +77,12 @@ class LensSpec:
     max_magnification: float | None = None
 
     def __post_init__(self) -> None:
-        if not self.name or not self.name.strip():
-            raise InvalidValue("a lens needs a name")
-        for label, value in (("shortest focal length", self.focal_min_mm), ("longest focal length", self.focal_max_mm),
-                             ("maximum aperture", self.max_aperture_wide),
-                             ("maximum aperture at the long end", self.max_aperture_tele),
-                             ("minimum aperture", self.min_aperture),
-                             ("pupil magnification", self.pupil_magnification)):
-            if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
-                raise InvalidValue(f"lens {self.name!r}: {label} {value!r} is not valid: expected a number above 0")
-        if self.focal_max_mm < self.focal_min_mm:
-            raise InvalidValue(f"lens {self.name!r}: longest focal length {self.focal_max_mm:g} mm is shorter "
-                               f"than the shortest {self.focal_min_mm:g} mm")
-        if self.min_aperture < max(self.max_aperture_wide, self.max_aperture_tele):
-            raise InvalidValue(f"lens {self.name!r}: minimum aperture f/{self.min_aperture:g} is wider than "
-                               "its maximum aperture: expected a larger f-number such as f/22")
-        if self.close_focus_mm is not None and not (self.close_focus_mm > 0):
-            raise InvalidValue(f"lens {self.name!r}: close-focus distance {self.close_focus_mm!r} mm is not "
-                               "valid: expected above 0 mm")
+        from sharpzone.catalog.rules import lens_values  # the catalogue's own lens rules
+
+        lens_values(name=self.name, focal_min_mm=self.focal_min_mm, focal_max_mm=self.focal_max_mm,
+                    max_aperture_wide=self.max_aperture_wide, max_aperture_tele=self.max_aperture_tele,
+                    min_aperture=self.min_aperture, close_focus_mm=self.close_focus_mm,
+                    pupil_magnification=self.pupil_magnification, max_magnification=self.max_magnification)
         self.macro_at(self.focal_max_mm)  # the one check of the pair (optics.macro)
 
     def macro_at(self, focal_mm: float):
@@ -357,19 +345,6 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
     )
 
 
-def find_lens(session: Session, name: str):
-    """The catalogue lens called ``name`` or carrying ``name`` as an EXIF alias."""
-    from sharpzone.catalog.service import find_lens_for_exif, get_lens
-
-    try:
-        return get_lens(session, name)
-    except NotFound:
-        lens = find_lens_for_exif(session, name)
-        if lens is None:
-            raise
-        return lens
-
-
 def sheet_from_catalog(
     session: Session,
     lens_name: str,
@@ -386,11 +361,11 @@ def sheet_from_catalog(
 ) -> Sheet:
     """The sheet of the catalogued lens ``lens_name`` (name or EXIF alias) for the format of
     ``body`` or the format called ``sensor`` (default 36x24); see ``build_sheet``."""
-    from sharpzone.catalog.service import get_body, get_format
+    from sharpzone.catalog.service import get_body, get_format, get_lens
 
     if body and sensor:
         raise InvalidValue("give either --body or --sensor, not both")
-    lens = LensSpec.from_row(find_lens(session, lens_name))
+    lens = LensSpec.from_row(get_lens(session, lens_name))
     pixel_pitch_mm = None
     if body:
         body_row = get_body(session, body)

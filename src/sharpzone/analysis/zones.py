@@ -16,6 +16,7 @@ import numpy as np
 from sharpzone.optics.coc import CocPolicy, parse_coc_policy
 from sharpzone.optics.diffraction import airy_disk_diameter_mm, diffraction_limited_f_number
 from sharpzone.optics.dof import MIN_F_NUMBER, sharp_zone
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 from sharpzone.optics.formats import SensorFormat, pixel_pitch_mm
 from sharpzone.optics.macro import effective_focal_rows
 
@@ -82,10 +83,11 @@ def circles_of_confusion(frames: pd.DataFrame, override: CocPolicy | None = None
     ).indices.items():
         if not isinstance(name, str) or not (width > 0 and height > 0):
             continue
-        fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else 1500.0)
+        fmt = SensorFormat(name, float(width), float(height), float(divisor) if divisor > 0 else DIAGONAL_DIVISOR)
         pitch = pixel_pitch_mm(fmt, _count(pixels), _count(pixels_high))
+        policy = parse_coc_policy(spec)  # a policy it cannot read is an error, never an unknown CoC
         try:
-            coc[index] = parse_coc_policy(spec).coc_mm(fmt, pitch)
+            coc[index] = policy.coc_mm(fmt, pitch)
         except ValueError:
             continue  # e.g. a pixel-pitch policy on a body whose pixel width is unknown
     return coc, specs, origins

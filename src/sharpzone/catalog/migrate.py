@@ -108,6 +108,20 @@ def upgrade_connection(connection: Connection, revision: str = "head") -> None:
     command.upgrade(config, revision)
 
 
+def create_at_head(connection: Connection) -> None:
+    """Create every table of an empty database from the models and stamp it with the
+    newest revision: the same schema the revisions build one by one (a test compares the
+    two), without copying each table once per SQLite batch step."""
+    from alembic import command
+
+    from sharpzone.catalog.models import Base
+
+    Base.metadata.create_all(connection)
+    config = alembic_config()
+    config.attributes["connection"] = connection
+    command.stamp(config, "head")
+
+
 def upgrade(url: str, revision: str = "head") -> None:
     """Upgrade the database at ``url`` to ``revision`` in one transaction (no backup, no
     seeding: ``prepare_catalog`` is what programs use; this is for tests and tools)."""
@@ -124,13 +138,15 @@ def upgrade(url: str, revision: str = "head") -> None:
 def prepare_catalog(url: str) -> PreparedCatalog:
     """Bring the catalogue at ``url`` to the newest schema before anyone uses it.
 
-    - empty database: create every table and add the shipped sensor formats;
+    - empty database: create every table (``create_at_head``) and add the shipped formats;
     - older revision: copy a SQLite file aside (``<name>.bak-<revision>-<UTC time>``),
       then upgrade in one transaction, checking foreign keys before the commit;
-    - unknown (newer) revision, or tables without a revision: refuse with ``CatalogError``.
+    - an unknown revision, tables without a revision, or tables that do not match their
+      revision stamp: refuse with one ``CatalogError`` line. A failed upgrade leaves the
+      catalogue as it was and removes the backup it made (so attempts add no copies).
     """
     from sqlalchemy import inspect
-    from sqlalchemy.exc import DBAPIError
+    from sqlalchemy.exc import DBAPIError, IntegrityError
 
     from sharpzone.catalog.engine import create_catalog_engine, translate_database_error
 
@@ -158,19 +174,32 @@ def prepare_catalog(url: str) -> PreparedCatalog:
                         f"{display_url(url)} holds tables but is not a sharpzone catalogue",
                         hint="give another --catalog path",
                     )
-                upgrade_connection(connection)
-                _check_foreign_keys(connection)
+                create_at_head(connection)
                 _seed_new_catalog(connection)
                 return PreparedCatalog(revision=head, created=True)
-            if found not in known_revisions():
+            known = known_revisions()
+            if found not in known:
                 raise CatalogError(
-                    f"catalogue {display_url(url)} has schema revision {found!r}, newer than this "
-                    f"program knows (newest {head!r})",
-                    hint="upgrade sharpzone to open it",
+                    f"catalogue {display_url(url)} has an unknown schema revision {found!r}: this program "
+                    f"knows {known[0]} to {known[-1]}",
+                    hint="a newer sharpzone or another program made it: open it with that program",
                 )
             backup = _back_up_sqlite(url, found)
-            upgrade_connection(connection)
-            _check_foreign_keys(connection)
+            try:
+                upgrade_connection(connection)
+                _check_foreign_keys(connection)
+            except DBAPIError as error:
+                _discard(backup)
+                if isinstance(error, IntegrityError):
+                    raise
+                raise CatalogError(
+                    f"catalogue {display_url(url)} is stamped with schema revision {found!r} but its tables do "
+                    "not match it, so it cannot be upgraded; the catalogue was left unchanged",
+                    hint="restore the catalogue from a backup, or ask whoever changed its tables",
+                ) from None
+            except BaseException:
+                _discard(backup)  # nothing changed, so the copy is not needed: one backup per revision
+                raise
             sync_id_sequences(connection)  # rows an older program or a person wrote with ids
             return PreparedCatalog(revision=head, upgraded_from=found, backup_path=backup)
     except DBAPIError as error:
@@ -216,6 +245,11 @@ def _back_up_sqlite(url: str, revision: str) -> Path | None:
             hint=f"check free space and permissions of {path.parent}",
         ) from None
     return backup
+
+
+def _discard(backup: Path | None) -> None:
+    if backup is not None:
+        backup.unlink(missing_ok=True)
 
 
 def _check_foreign_keys(connection: Connection) -> None:

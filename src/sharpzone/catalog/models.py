@@ -18,6 +18,7 @@ from typing import TYPE_CHECKING, Optional
 from sqlalchemy import (
     BigInteger,
     Boolean,
+    CheckConstraint,
     DateTime,
     Double,
     ForeignKey,
@@ -32,7 +33,8 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
-from sharpzone.vocabulary import FOCUS_SOURCES, PLAN_KINDS  # noqa: F401 - shared with the readers
+from sharpzone.catalog.rules import CHECKS, NAME_LENGTH
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 
 if TYPE_CHECKING:
     from sharpzone.optics.formats import SensorFormat
@@ -47,7 +49,6 @@ NAMING_CONVENTION = {
     "pk": "pk_%(table_name)s",
 }
 
-NAME_LENGTH = 200
 
 
 def utc_now() -> dt.datetime:
@@ -72,6 +73,12 @@ class WallClockDateTime(TypeDecorator):
         return value
 
 
+def checks(table: str) -> tuple[CheckConstraint, ...]:
+    """The CHECK constraints of ``table`` (``rules.CHECKS``, added by migration 0004), named
+    ``ck_<table>_<rule>`` through the naming convention."""
+    return tuple(CheckConstraint(condition, name=name) for name, condition in CHECKS.get(table, ()))
+
+
 class Base(DeclarativeBase):
     metadata = MetaData(naming_convention=NAMING_CONVENTION)
 
@@ -88,10 +95,12 @@ class SensorFormatRow(Base):
     name: Mapped[str] = mapped_column(String(NAME_LENGTH), unique=True)
     width_mm: Mapped[float] = mapped_column(Double)
     height_mm: Mapped[float] = mapped_column(Double)
-    coc_divisor: Mapped[float] = mapped_column(Double, default=1500.0, server_default="1500")
+    coc_divisor: Mapped[float] = mapped_column(Double, default=DIAGONAL_DIVISOR, server_default=f"{DIAGONAL_DIVISOR:g}")
     aliases: Mapped[str] = mapped_column(Text, default="", server_default="")
     description: Mapped[str] = mapped_column(Text, default="", server_default="")
     source: Mapped[str] = mapped_column(Text, default="", server_default="")
+
+    __table_args__ = checks("sensor_format")
 
     bodies: Mapped[list[Body]] = relationship(back_populates="sensor_format")
 
@@ -145,6 +154,7 @@ class Body(Base):
 
     __table_args__ = (
         Index("uq_body_exif_identity", "exif_make", "exif_model", func.coalesce(serial, ""), unique=True),
+        *checks("body"),
     )
 
 
@@ -172,6 +182,8 @@ class Lens(Base):
     pupil_magnification: Mapped[float] = mapped_column(Double, default=1.0, server_default="1")
     max_magnification: Mapped[Optional[float]] = mapped_column(Double)
     confirmed: Mapped[bool] = mapped_column(Boolean, default=True, server_default=true())
+
+    __table_args__ = checks("lens")
 
     aliases: Mapped[list[LensAlias]] = relationship(
         back_populates="lens",
@@ -223,6 +235,8 @@ class Shoot(Base):
     planned_focus_mm: Mapped[Optional[float]] = mapped_column(Double)
     coc_policy: Mapped[Optional[str]] = mapped_column(String(NAME_LENGTH))
     notes: Mapped[Optional[str]] = mapped_column(Text)
+
+    __table_args__ = checks("shoot")
 
 
 class Frame(Base):
@@ -276,7 +290,7 @@ class Frame(Base):
     body: Mapped[Optional[Body]] = relationship()
     lens: Mapped[Optional[Lens]] = relationship()
 
-    __table_args__ = (Index("ix_frame_device_inode", "device", "inode"),)
+    __table_args__ = (Index("ix_frame_device_inode", "device", "inode"), *checks("frame"))
 
 
 class FrameBlur(Base):
@@ -311,6 +325,8 @@ class FrameBlur(Base):
     regions_measured: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
     regions_total: Mapped[int] = mapped_column(Integer, default=0, server_default="0")
     grid: Mapped[Optional[str]] = mapped_column(Text)
+
+    __table_args__ = checks("frame_blur")
 
 
 class IngestProblem(Base):

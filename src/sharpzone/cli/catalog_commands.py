@@ -15,6 +15,7 @@ import typer
 from sharpzone.cli.options import ImperialOpt, WideOpt, distance_option, f_number_option, length_option
 from sharpzone.cli.state import catalog_session, echo_json
 from sharpzone.errors import InvalidValue
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE, DIAGONAL_DIVISOR
 from sharpzone.units import DISTANCE_HELP
 
 format_app = typer.Typer(help="Sensor formats: image area and default circle-of-confusion rule.", no_args_is_help=True)
@@ -183,7 +184,7 @@ def _maybe(parse, value: str | None, option: str):
 
 WidthOpt = Annotated[Optional[str], typer.Option("--width", help="Image width in mm (a bare number is mm).")]
 HeightOpt = Annotated[Optional[str], typer.Option("--height", help="Image height in mm (a bare number is mm).")]
-CocDivisorOpt = Annotated[Optional[str], typer.Option("--coc-divisor", help="Default circle of confusion = diagonal / this number (1500 unless told).")]
+CocDivisorOpt = Annotated[Optional[str], typer.Option("--coc-divisor", help="Default circle of confusion = diagonal / this number (1500 unless told, the common rule).")]
 FormatAliasOpt = Annotated[Optional[list[str]], typer.Option("--alias", help="Another name the format answers to; repeat for more (edit: replaces the list).")]
 DescriptionOpt = Annotated[Optional[str], typer.Option("--description", help="A line for people.")]
 SourceOpt = Annotated[Optional[str], typer.Option("--source", help="Where the size comes from.")]
@@ -208,7 +209,7 @@ def format_add(
     with catalog_session(ctx) as session:
         row = add_format(
             session, name, length_option(width, "--width"), length_option(height, "--height"),
-            coc_divisor=1500.0 if coc_divisor is None else _number_option(coc_divisor, "coc-divisor"), aliases=alias or [],
+            coc_divisor=DIAGONAL_DIVISOR if coc_divisor is None else _number_option(coc_divisor, "coc-divisor"), aliases=alias or [],
             description=description or "", source=source or "",
         )
     _show(row, "format", title=f"Added format {row.name}")
@@ -374,7 +375,7 @@ def lens_add(
     if focal is None or aperture is None:
         raise InvalidValue("lens add needs --focal (e.g. 50 or 24-70) and --aperture (e.g. 2.8 or 3.5-5.6)")
     numbers = _lens_numbers(focal, aperture, min_aperture, close_focus, pupil, max_magnification)
-    defaults = {"min_aperture": 22.0, "pupil_magnification": 1.0}
+    defaults = {"min_aperture": ASSUMED_MIN_APERTURE, "pupil_magnification": 1.0}
     numbers.update({key: value for key, value in defaults.items() if numbers[key] is None})
     with catalog_session(ctx) as session:
         row = add_lens(session, name, exif_names=exif_name or [], confirmed=not unconfirmed, **numbers)

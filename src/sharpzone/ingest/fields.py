@@ -476,9 +476,7 @@ class Field:
         return None
 
 
-# f/0.5 is the limit for a lens in air (N = 1 / (2 NA) with numerical aperture NA <= 1;
-# encyclopedia article "F-number", section on numerical aperture).
-MIN_F_NUMBER = 0.5
+from sharpzone.optics.limits import MIN_F_NUMBER  # noqa: E402 - the one home of the floor, with its reason
 # APEX Av 32 is f/65536: anything beyond is damage, not a lens.
 _MAX_APERTURE_VALUE = 32
 # CIPA DC-008 SubjectDistanceRange codes (0 = unknown).

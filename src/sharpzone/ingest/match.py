@@ -28,15 +28,13 @@ from typing import TYPE_CHECKING
 
 from sharpzone.ingest.records import CaptureRecord
 from sharpzone.optics.formats import FULL_FRAME_DIAGONAL_MM, SensorFormat
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
 
 # How far a measured sensor size may be from a catalogued format and still be taken for it.
 FORMAT_TOLERANCE = 0.08
-# The narrowest aperture given to a lens registered from frames (common practice: most
-# interchangeable lenses stop down to f/22).
-REGISTERED_MIN_APERTURE = 22.0
 
 _NUMBER = r"(\d+(?:[.,]\d+)?)"
 _FOCAL_IN_NAME = re.compile(_NUMBER + r"(?:\s*-\s*" + _NUMBER + r")?\s*mm", re.IGNORECASE)
@@ -243,7 +241,7 @@ class CatalogMatcher:
         aliases = [name for name in dict.fromkeys(names) if find_lens_for_exif(self.session, name) is None]
         lens = add_lens(self.session, self._free_name(names[0], "lens"), focal_min_mm=focal_min,
                         focal_max_mm=focal_max, max_aperture_wide=wide, max_aperture_tele=max(tele, wide),
-                        min_aperture=max(REGISTERED_MIN_APERTURE, wide, tele), exif_names=aliases, confirmed=False)
+                        min_aperture=max(ASSUMED_MIN_APERTURE, wide, tele), exif_names=aliases, confirmed=False)
         also = f"; also answers to {', '.join(repr(n) for n in aliases[1:])}" if len(aliases) > 1 else ""
         outcome.registered.append(f"lens '{lens.name}' (named from {how}, range from {source}{also}; unconfirmed)")
         return lens
@@ -276,7 +274,7 @@ class CatalogMatcher:
 
     def _free_name(self, wanted: str, what: str) -> str:
         from sharpzone.catalog.models import Body, Lens
-        from sharpzone.catalog.service._common import find_by_name
+        from sharpzone.catalog.service.common import find_by_name
 
         model = Body if what == "body" else Lens
         name, number = wanted, 2

@@ -130,7 +130,7 @@ class _Target:
     def ensure(self, session: Session) -> int:
         from sharpzone.catalog.models import Shoot
         from sharpzone.catalog.service import add_shoot
-        from sharpzone.catalog.service._common import find_by_name
+        from sharpzone.catalog.service.common import find_by_name
 
         if self.id is None:
             shoot = find_by_name(session, Shoot, self.name)
@@ -170,7 +170,9 @@ def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int | 
     elif record.focus_mm is not None and near is None and far is None:
         near = far = record.focus_mm  # a reader that gives no bracket gives an exact distance
     point = record.focus_point or (None, None, None, None)
-    return {
+    from sharpzone.catalog.rules import frame_within_rules  # what breaks a rule is dropped, with a warning
+
+    return frame_within_rules({
         "path": printable_path(record.path), "shoot_id": shoot_id, "file_size": candidate.size,
         "file_mtime_ns": candidate.mtime_ns, "captured_at": record.captured_at,
         "utc_offset_minutes": record.utc_offset_minutes, "body_id": body_id, "lens_id": lens_id,
@@ -183,8 +185,8 @@ def _frame_row(record: CaptureRecord, candidate: CandidateFile, shoot_id: int | 
         "device": candidate.device, "inode": candidate.inode,
         "focal_35mm_mm": record.focal_35mm_mm, "width_px": record.width_px, "height_px": record.height_px,
         "exif_make": record.exif_make, "exif_model": record.exif_model, "exif_lens_model": record.lens_model,
-        "warnings": "; ".join(warnings) or None,
-    }
+        "warnings": None,
+    }, warnings) | {"warnings": "; ".join(warnings) or None}
 
 
 def _same_file(path: str, file_id: tuple[int, int]) -> bool:

@@ -15,8 +15,7 @@ from sharpzone.ingest.records import FileReadError, os_error_reason
 
 EXIF_NAMESPACE = "http://ns.adobe.com/exif/1.0/"
 _SUBJECT_DISTANCE = f"{{{EXIF_NAMESPACE}}}SubjectDistance"
-# CIPA DC-008 SubjectDistance: numerator 0xFFFFFFFF is infinity, 0 is unknown.
-_INFINITE_NUMERATOR = 0xFFFFFFFF
+from sharpzone.vocabulary import SUBJECT_DISTANCE_INFINITY as _INFINITE_NUMERATOR  # noqa: E402
 
 
 def sidecar_path(image_path: str | bytes) -> str | None:

@@ -28,9 +28,6 @@ from sharpzone.optics.formats import SensorFormat
 # Photographic Optics).
 ACUITY_BLUR_MM = 0.2
 NEAR_VIEWING_DISTANCE_MM = 250.0
-# "1/1500 of the image diagonal" (R. F. Lyon, "Depth of Field Outside the Box", 2006;
-# a lens maker's newsletter "Depth of field – an insider's look behind the scenes", 2007).
-MODERN_DIAGONAL_DIVISOR = 1500.0
 
 POLICY_HELP = (
     "circle-of-confusion policy: 'diagonal' (the format's rule, diagonal/1500 by default), "

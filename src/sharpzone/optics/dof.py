@@ -35,9 +35,7 @@ from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_ar
 Reference = Literal["lens", "sensor"]
 REFERENCES: tuple[str, ...] = ("lens", "sensor")
 
-# The smallest f-number any lens has been made with is about 0.33; ``f/0.5`` is a safe floor
-# that still admits every photographic lens (from memory).
-MIN_F_NUMBER = 0.5
+from sharpzone.optics.limits import MIN_F_NUMBER  # noqa: E402 - the one home of the floor
 
 
 def check_reference(reference: str) -> Reference:

@@ -6,6 +6,7 @@ import math
 from dataclasses import dataclass
 
 from sharpzone.errors import InvalidValue
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 
 # The 36 × 24 mm frame: the reference for "35 mm equivalent" focal lengths (EXIF
 # FocalLengthIn35mmFilm, CIPA DC-008) and crop factors.
@@ -19,7 +20,7 @@ class SensorFormat:
     name: str
     width_mm: float
     height_mm: float
-    coc_divisor: float = 1500.0
+    coc_divisor: float = DIAGONAL_DIVISOR
 
     def __post_init__(self) -> None:
         if not self.name or not self.name.strip():

@@ -18,7 +18,7 @@ from sharpzone.report.inert import inert
 from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.report.jsonout import metres
 from sharpzone.report.verdicts import blur_size, describe_flag
-from sharpzone.units import format_distance, format_f_number, format_length_mm
+from sharpzone.units import format_distance, format_f_number, format_length_mm, format_zone
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -277,14 +277,7 @@ def _focus_with_bracket(row, imperial: bool) -> str:
     return f"{text} ({low}–{high})"
 
 
-def _zone_text(near: float | None, far: float | None, imperial: bool) -> str:
-    """"near – far" with enough digits that a shallow close-up zone does not read "42.0 – 42.0"."""
-    digits = 3
-    if near and far and math.isfinite(far) and far > near:
-        digits = min(6, 3 + max(0, math.ceil(-math.log10((far - near) / near)) - 1))
-    return (f"{format_distance(near, imperial=imperial, digits=digits)} – "
-            f"{format_distance(far, imperial=imperial, digits=digits)}")
-
+_zone_text = format_zone  # one rounding rule for near – far, in units
 
 def _policy_line(frames: pd.DataFrame) -> str:
     """Which CoC policies the figures rest on, and where each came from."""

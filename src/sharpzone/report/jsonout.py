@@ -41,9 +41,6 @@ def dumps(value: Any) -> str:
 
 def metres(value_mm: Any) -> Any:
     """A distance in mm as the interface's metres ("inf" stays, None stays)."""
-    if value_mm is None:
-        return None
-    value = float(value_mm)
-    if math.isnan(value):
-        return None
-    return math.inf if math.isinf(value) else value / 1000.0
+    from sharpzone.units import metres_or_inf
+
+    return metres_or_inf(value_mm)

@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Any
 from sharpzone.analysis.report_page import PASSED, primary_verdict, verdict_kind
 from sharpzone.errors import InvalidValue, SharpzoneError
 from sharpzone.report.frames_render import _plans_line, _zone_text
-from sharpzone.report.verdicts import describe_flag, flag_word
+from sharpzone.report.verdicts import describe_flag, flag_word, format_exposure
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance
 
 if TYPE_CHECKING:
@@ -282,7 +282,7 @@ def _setting(row: dict, imperial: bool) -> str:
     parts = [format_length_mm(_number(row.get("focal_mm"))), format_f_number(_number(row.get("f_number")))]
     exposure = _number(row.get("exposure_s"))
     if exposure:
-        parts.append(f"1/{1 / exposure:.0f} s" if exposure < 0.5 else f"{exposure:g} s")
+        parts.append(format_exposure(exposure))
     iso = _number(row.get("iso"))
     if iso:
         parts.append(f"ISO {iso:.0f}")

@@ -19,7 +19,8 @@ from sharpzone.analysis.sheets import DEFAULT_CLOSE_FOCUS_FOCAL_LENGTHS, FocalTa
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.optics.stops import stop_difference
 from sharpzone.report.spreadsheet import safe_cell
-from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance, metres_or_inf
+from sharpzone.units import (format_distance, format_f_number, format_length_mm, format_round_distance, format_zone,
+                             metres_or_inf)
 
 # The machine interface of ``sharpzone sheet --out FILE.csv`` (documented in README.md).
 CSV_COLUMNS = (
@@ -163,15 +164,7 @@ def _nearest_row_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None)
              f"{format_round_distance(sheet.lens.close_focus_mm, imperial=imperial)}")]
 
 
-def zone_text(near_mm: float, far_mm: float, *, imperial: bool = False) -> str:
-    """A cell: 'near – far' with units, ∞ for infinity; shallow zones (close-up work) get
-    the extra figures that keep near and far apart."""
-    digits = 3
-    if math.isfinite(far_mm) and far_mm > near_mm:
-        # Resolve about a fifth of the depth: 39.99 cm – 40.01 cm rather than 40.0 – 40.0.
-        digits = min(6, max(3, math.ceil(math.log10(5 * far_mm / (far_mm - near_mm)))))
-    return (f"{format_distance(near_mm, imperial=imperial, digits=digits)} – "
-            f"{format_distance(far_mm, imperial=imperial, digits=digits)}")
+zone_text = format_zone  # a cell: one rounding rule for near – far, in units
 
 
 def f_number_head(table: FocalTable, column: int) -> str:

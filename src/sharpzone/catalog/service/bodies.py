@@ -11,7 +11,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, Frame
-from sharpzone.catalog.service._common import (
+from sharpzone.catalog.service.common import (
     clean_name,
     equal_ignoring_case,
     get_by_name,

@@ -12,9 +12,10 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, SensorFormatRow
-from sharpzone.catalog.service._common import clean_name, merged, plural
+from sharpzone.catalog.service.common import clean_name, merged, plural
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 from sharpzone.optics.formats import SensorFormat
+from sharpzone.optics.limits import DIAGONAL_DIVISOR
 
 
 def list_formats(session: Session) -> list[SensorFormatRow]:
@@ -46,7 +47,7 @@ def add_format(
     width_mm: float,
     height_mm: float,
     *,
-    coc_divisor: float = 1500.0,
+    coc_divisor: float = DIAGONAL_DIVISOR,
     aliases: Iterable[str] = (),
     description: str = "",
     source: str = "",

@@ -10,16 +10,11 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Lens, LensAlias
-from sharpzone.catalog.service._common import (
-    clean_name,
-    get_by_name,
-    merged,
-    remove_reassigning_frames,
-    positive,
-    require_name_free,
-)
-from sharpzone.errors import Conflict, InvalidValue, NotFound
+from sharpzone.catalog.rules import clean_name, lens_values
+from sharpzone.catalog.service.common import get_by_name, merged, remove_reassigning_frames, require_name_free
+from sharpzone.errors import Conflict, NotFound
 from sharpzone.limits import check_close_focus
+from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 from sharpzone.optics.macro import check_macro_spec
 
 
@@ -29,14 +24,21 @@ def list_lenses(session: Session) -> list[Lens]:
 
 
 def get_lens(session: Session, name: str) -> Lens:
-    """The lens called ``name`` (ignoring case); ``NotFound`` lists the known ones."""
-    return get_by_name(session, Lens, name, "lens")
+    """The lens called ``name`` (ignoring case) or carrying ``name`` as an EXIF alias;
+    ``NotFound`` lists the known ones."""
+    try:
+        return get_by_name(session, Lens, name, "lens")
+    except NotFound:
+        lens = find_lens_for_exif(session, name)
+        if lens is None:
+            raise
+        return lens
 
 
 def find_lens_for_exif(session: Session, lens_model: str) -> Lens | None:
     """The lens whose EXIF alias is ``lens_model`` (exact after trimming spaces), or ``None``."""
-    alias = session.scalars(select(LensAlias).where(LensAlias.exif_name == lens_model.strip())).first()
-    return alias.lens if alias is not None else None
+    # Queried as a lens (not through the alias) so its aliases load with it.
+    return session.scalars(select(Lens).join(LensAlias).where(LensAlias.exif_name == lens_model.strip())).first()
 
 
 def add_lens(
@@ -47,7 +49,7 @@ def add_lens(
     max_aperture_wide: float,
     focal_max_mm: float | None = None,
     max_aperture_tele: float | None = None,
-    min_aperture: float = 22.0,
+    min_aperture: float = ASSUMED_MIN_APERTURE,
     close_focus_mm: float | None = None,
     pupil_magnification: float = 1.0,
     max_magnification: float | str | None = None,
@@ -159,56 +161,20 @@ def lens_frame_counts(session: Session) -> dict[int, int]:
     return {lens_id: count for lens_id, count in rows}
 
 
-def _apply(
-    session,
-    lens,
-    *,
-    name,
-    focal_min_mm,
-    focal_max_mm,
-    max_aperture_wide,
-    max_aperture_tele,
-    min_aperture,
-    close_focus_mm,
-    pupil_magnification,
-    max_magnification,
-    confirmed,
-) -> None:
-    """Validate the complete new state of ``lens``, then set it."""
-    name = clean_name(name, "lens")
-    focal_min, focal_max = focal_min_mm, focal_max_mm
-    aperture_wide, aperture_tele = max_aperture_wide, max_aperture_tele
-    close_focus, pupil = close_focus_mm, pupil_magnification
-    focal_min = positive(focal_min, f"lens {name!r}: shortest focal length", "mm")
-    focal_max = positive(focal_max, f"lens {name!r}: longest focal length", "mm")
-    if focal_max < focal_min:
-        raise InvalidValue(
-            f"lens {name!r}: longest focal length {focal_max:g} mm is shorter than the shortest {focal_min:g} mm"
-        )
-    aperture_wide = positive(aperture_wide, f"lens {name!r}: maximum aperture (f-number)")
-    aperture_tele = positive(aperture_tele, f"lens {name!r}: maximum aperture at the long end (f-number)")
-    min_aperture = positive(min_aperture, f"lens {name!r}: minimum aperture (f-number)")
-    widest_needed = max(aperture_wide, aperture_tele)
-    if min_aperture < widest_needed:
-        raise InvalidValue(
-            f"lens {name!r}: minimum aperture f/{min_aperture:g} is wider than the maximum aperture "
-            f"f/{widest_needed:g}: expected a larger f-number such as f/22"
-        )
-    close_focus = check_close_focus(positive(close_focus, f"lens {name!r}: close-focus distance", "mm"), focal_max,
-                                    what=f"lens {name!r}: close-focus distance")
-    pupil = positive(pupil, f"lens {name!r}: pupil magnification")
+def _apply(session, lens, *, confirmed, max_magnification=None, **fields) -> None:
+    """Validate the complete new state of ``lens`` (``fields`` checked by
+    ``rules.lens_values``; the close focus against the focal length by ``limits``, and the
+    close-focus pair by ``optics.macro``: a zoom's maximum magnification is its long
+    end's), then set it. A maximum magnification of 0 clears it."""
+    values = lens_values(**fields)
+    label = f"lens {values['name']!r}"
+    values["close_focus_mm"] = check_close_focus(values["close_focus_mm"], values["focal_max_mm"],
+                                                 what=f"{label}: close-focus distance")
     if max_magnification in (0, 0.0, "0", "none", ""):
         max_magnification = None
-    # The one check of the pair (optics.macro): a zoom's maximum magnification is its long end's.
-    macro = check_macro_spec(focal_max, close_focus, max_magnification, what=f"lens {name!r}")
-    require_name_free(session, Lens, name, "lens", keep=lens)
-    lens.name = name
-    lens.focal_min_mm = focal_min
-    lens.focal_max_mm = focal_max
-    lens.max_aperture_wide = aperture_wide
-    lens.max_aperture_tele = aperture_tele
-    lens.min_aperture = min_aperture
-    lens.close_focus_mm = close_focus
-    lens.pupil_magnification = pupil
-    lens.max_magnification = macro.max_magnification if macro else None
+    macro = check_macro_spec(values["focal_max_mm"], values["close_focus_mm"], max_magnification, what=label)
+    values["max_magnification"] = macro.max_magnification if macro else None
+    require_name_free(session, Lens, values["name"], "lens", keep=lens)
+    for column, value in values.items():
+        setattr(lens, column, value)
     lens.confirmed = bool(confirmed)

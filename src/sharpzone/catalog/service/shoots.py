@@ -8,25 +8,15 @@ distance are optional. The command line parses distances with ``sharpzone.units`
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Shoot
-from sharpzone.catalog.service._common import (
-    clean_name,
-    count_of,
-    get_by_name,
-    merged,
-    optional_text,
-    plural,
-    positive,
-    require_name_free,
-)
+from sharpzone.catalog.rules import clean_name, optional_text, plan_values, shoot_settings
+from sharpzone.catalog.service.common import count_of, get_by_name, merged, plural, require_name_free
 from sharpzone.errors import Conflict, InvalidValue
-from sharpzone.units import format_distance
 
 _PLAN_FIELDS = ("plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
 
@@ -163,46 +153,29 @@ def validate_coc_policy(text: str) -> str:
 
 
 def _set_plan(shoot, near, far, front, back, *, range_given=None, depth_given=None) -> None:
-    """Validate and set the plan; ``*_given`` say which kind the caller asked for."""
+    """Validate (``rules.plan_values``) and set the plan; ``*_given`` say which kind the
+    caller asked for."""
     range_given = (near is not None or far is not None) if range_given is None else range_given
     depth_given = (front is not None or back is not None) if depth_given is None else depth_given
     label = f"shoot {shoot.name!r}"
     if range_given and depth_given:
         raise InvalidValue(f"{label}: give a range (near/far) or a subject depth (front/back), not both")
-    values = dict.fromkeys(_PLAN_FIELDS)
     kind = None
-    if range_given or (near is not None or far is not None):
-        if near is None or far is None:
-            raise InvalidValue(f"{label}: a range plan needs both the near and the far limit")
-        near = positive(near, f"{label}: near limit", "mm")
-        far = positive(far, f"{label}: far limit", "mm", allow_inf=True)
-        if far <= near:
-            raise InvalidValue(f"{label}: far limit {format_distance(far)} must be beyond the near limit "
-                               f"{format_distance(near)}")
-        kind, values["plan_near_mm"], values["plan_far_mm"] = "range", near, far
+    if range_given or near is not None or far is not None:
+        kind, front, back = "range", None, None
     elif front is not None or back is not None:
-        if front is None or back is None:
-            raise InvalidValue(f"{label}: a subject-depth plan needs both the depth in front and behind")
-        for what, value in (("depth in front", front), ("depth behind", back)):
-            if not (isinstance(value, (int, float)) and math.isfinite(value) and value >= 0):
-                raise InvalidValue(f"{label}: {what} {value!r} mm must be a finite distance, 0 or more")
-        if front + back <= 0:
-            raise InvalidValue(f"{label}: the subject depth must not be zero in front and behind")
-        kind, values["plan_front_mm"], values["plan_back_mm"] = "depth", float(front), float(back)
-    shoot.plan_kind = kind
-    for field, value in values.items():
-        setattr(shoot, field, value)
+        kind = "depth"
+    for column, value in plan_values(label, kind, near, far, front, back).items():
+        setattr(shoot, column, value)
 
 
 def _set_details(shoot, *, root_folder, planned_focal_mm, planned_f_number, planned_focus_mm, coc_policy, notes) -> None:
-    """Validate and set everything but the plan and the name."""
-    focal_mm, f_number, focus_mm = planned_focal_mm, planned_f_number, planned_focus_mm
-    label = f"shoot {shoot.name!r}"
+    """Validate (``rules.shoot_settings``) and set everything but the plan and the name."""
     folder = optional_text(str(root_folder) if root_folder is not None else None)
+    settings = shoot_settings(f"shoot {shoot.name!r}", planned_focal_mm=planned_focal_mm,
+                              planned_f_number=planned_f_number, planned_focus_mm=planned_focus_mm,
+                              coc_policy_text=coc_policy)
     shoot.root_folder = str(Path(folder).expanduser().resolve()) if folder else None
-    shoot.planned_focal_mm = positive(focal_mm, f"{label}: planned focal length", "mm")
-    shoot.planned_f_number = positive(f_number, f"{label}: planned f-number")
-    shoot.planned_focus_mm = positive(focus_mm, f"{label}: planned focus distance", "mm", allow_inf=True)
-    policy = optional_text(coc_policy)
-    shoot.coc_policy = validate_coc_policy(policy) if policy else None
+    for column, value in settings.items():
+        setattr(shoot, column, value)
     shoot.notes = optional_text(notes)

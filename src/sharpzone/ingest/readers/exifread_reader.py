@@ -42,7 +42,7 @@ from sharpzone.ingest.records import FileReadError, os_error_reason
 # The IFDs whose tags describe the main image; thumbnails, maker notes and interoperability
 # data are left out. Later groups win when a name repeats.
 _KEPT_IFDS = ("Image", "GPS", "EXIF")
-_INFINITE_NUMERATOR = 0xFFFFFFFF
+from sharpzone.vocabulary import SUBJECT_DISTANCE_INFINITY as _INFINITE_NUMERATOR  # noqa: E402
 # A tag number no reader knows: what a looping pointer entry becomes in the private copy.
 _BLANK_TAG = 0xFFFF
 

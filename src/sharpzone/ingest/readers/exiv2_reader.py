@@ -35,7 +35,7 @@ _TEXT_TYPES = (_ASCII, 0x10000, 0x10001, 0x10002, 0x10003)
 # A tag we look up never holds more values than this; more is damage, not information.
 _MAX_VALUES = 64
 _MAX_TEXT_BYTES = 1024
-_INFINITE_NUMERATOR = 0xFFFFFFFF
+from sharpzone.vocabulary import SUBJECT_DISTANCE_INFINITY as _INFINITE_NUMERATOR  # noqa: E402
 # Containers whose main image is not the sensor data (libexiv2 MIME types).
 _NOT_RAW_TYPES = frozenset({"image/jpeg", "image/png", "image/webp", "image/tiff", "image/heic", "image/heif",
                             "image/avif", "image/jxl"})
@@ -175,7 +175,7 @@ def _plain_value(datum) -> TagValue:
         for index in range(count):
             numerator, denominator = datum.toRational(index)
             if type_id == _UNSIGNED_RATIONAL:
-                numerator, denominator = numerator & 0xFFFFFFFF, denominator & 0xFFFFFFFF
+                numerator, denominator = numerator % (1 << 32), denominator % (1 << 32)
                 if numerator == _INFINITE_NUMERATOR:
                     values.append(math.inf)
                     continue

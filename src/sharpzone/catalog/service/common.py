@@ -1,60 +1,19 @@
-"""Checks and look-ups shared by the service functions."""
+"""Look-ups and steps shared by the service functions (public: ingest uses ``find_by_name``).
+
+The value checks live in ``sharpzone.catalog.rules`` and are re-exported here."""
 
 from __future__ import annotations
 
-import math
 from typing import TypeVar
 
 from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session
 
-from sharpzone.catalog.models import NAME_LENGTH, Frame
+from sharpzone.catalog.models import Frame
+from sharpzone.catalog.rules import clean_name, optional_text, positive, positive_int  # noqa: F401 - re-exported
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 
 Row = TypeVar("Row")
-
-
-def clean_name(name: str | None, what: str) -> str:
-    """``name`` stripped; refuses an empty or over-long name with ``InvalidValue``."""
-    cleaned = (name or "").strip()
-    if not cleaned:
-        raise InvalidValue(f"{what} name must not be empty")
-    if len(cleaned) > NAME_LENGTH:
-        raise InvalidValue(f"{what} name {cleaned[:40]!r}… is longer than {NAME_LENGTH} characters")
-    return cleaned
-
-
-def optional_text(value: str | None) -> str | None:
-    """Stripped text, or ``None`` for a missing or blank value (blank never reaches the
-    database in a nullable column, so exports can write ``None`` as an empty field)."""
-    if value is None:
-        return None
-    stripped = str(value).strip()
-    return stripped or None
-
-
-def positive(value: float | int | None, what: str, unit: str = "", *, allow_inf: bool = False) -> float | None:
-    """``value`` as a float when it is a positive number; ``None`` passes through."""
-    if value is None:
-        return None
-    shown = f"{value!r}{(' ' + unit) if unit else ''}"
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise InvalidValue(f"{what} {shown} is not a number") from None
-    if math.isnan(number) or number <= 0 or (math.isinf(number) and not allow_inf):
-        expected = "a positive number or inf" if allow_inf else "a positive finite number"
-        raise InvalidValue(f"{what} {shown} must be {expected}")
-    return number
-
-
-def positive_int(value: int | None, what: str) -> int | None:
-    """``value`` as an int when it is a positive whole number; ``None`` passes through."""
-    if value is None:
-        return None
-    if isinstance(value, bool) or not float(value).is_integer() or value <= 0:
-        raise InvalidValue(f"{what} {value!r} must be a positive whole number")
-    return int(value)
 
 
 def equal_ignoring_case(column, value: str):
