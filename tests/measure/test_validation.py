@@ -1,6 +1,6 @@
 """The blur measurement validated against known blurs applied to sharp pictures from a
 general-purpose library's sample data (scikit-image's bundled pictures: objects, scenes and
-textures, no people). Each test prints its table (run with ``-s`` to see it; docs/blur.md
+textures, no people). Each test prints its table (run with ``-s`` to see it; docs/measured-blur.md
 quotes the figures).
 
 The truth is the kernel applied, a uniform disk of known diameter (geometric optics' blur
@@ -77,7 +77,7 @@ def test_fine_textures_read_low_at_large_blur_a_stated_limit(disk_table):
     assert (textures["error_vs_combined"].abs() <= 0.30).all()
     large = disk_table[(disk_table["kind"] == "texture") & (disk_table["disk_px"] == 12)]
     # Fine texture (brick, gravel, grass) blurred by 12 px has no edges left to measure:
-    # the reading stays below the truth, which docs/blur.md states as a limit.
+    # the reading stays below the truth, which docs/measured-blur.md states as a limit.
     assert (large["error_vs_combined"] < 0).all()
 
 

@@ -14,7 +14,7 @@ Verdict codes (words in ``report.verdicts.describe_flag``):
 ``not-measurable``  too few edges at the focus point (a clear sky, a plain wall)
 
 The limit is the CoC in preview pixels, but never below ``PREVIEW_FLOOR_PX``: a small JPEG
-preview of a sharp frame itself reads as a blur of about that much (docs/blur.md), so a CoC
+preview of a sharp frame itself reads as a blur of about that much (docs/measured-blur.md), so a CoC
 finer than the preview can show is judged at the preview's own limit. A frame without a
 recorded focus point is judged at the centre of the picture (the default AF point of most
 cameras; common practice), and the verdict says so. This is an estimate from a small

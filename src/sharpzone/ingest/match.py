@@ -21,7 +21,6 @@ the user confirms or corrects them later (``sharpzone body edit``/``lens edit``)
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -35,10 +34,6 @@ if TYPE_CHECKING:
 
 # How far a measured sensor size may be from a catalogued format and still be taken for it.
 FORMAT_TOLERANCE = 0.08
-
-_NUMBER = r"(\d+(?:[.,]\d+)?)"
-_FOCAL_IN_NAME = re.compile(_NUMBER + r"(?:\s*-\s*" + _NUMBER + r")?\s*mm", re.IGNORECASE)
-_APERTURE_IN_NAME = re.compile(r"\b(?:f\s*/?|1\s*:\s*)\s*" + _NUMBER + r"(?:\s*-\s*" + _NUMBER + r")?", re.IGNORECASE)
 
 
 def body_name(make: str | None, model: str | None) -> str:
@@ -101,20 +96,11 @@ def _focal_plane_size(record: CaptureRecord) -> tuple[float, float] | None:
 
 def lens_from_name(name: str) -> tuple[float | None, float | None, float | None, float | None]:
     """(focal min, focal max, widest aperture at the short end, at the long end) as far as a
-    lens name says them ("18-55mm F3.5-5.6", "50mm f/1.8", "1:2.8"); ``None`` where it does not."""
-    focal = _FOCAL_IN_NAME.search(name)
-    aperture = _APERTURE_IN_NAME.search(name)
+    lens name says them ("18-55mm F3.5-5.6", "50mm f/1.8", "1:2.8"); ``None`` where it does
+    not. The reading itself is the field table's (``fields.lens_spec_from_name``)."""
+    from sharpzone.ingest.fields import lens_spec_from_name
 
-    def number(text):
-        return float(text.replace(",", ".")) if text else None
-
-    low = number(focal.group(1)) if focal else None
-    high = number(focal.group(2)) if focal and focal.group(2) else low
-    wide = number(aperture.group(1)) if aperture else None
-    tele = number(aperture.group(2)) if aperture and aperture.group(2) else wide
-    if low is not None and high is not None and high < low:
-        low, high = high, low
-    return low, high, wide, tele
+    return lens_spec_from_name(name) or (None, None, None, None)
 
 
 def _spec_name(spec: tuple) -> str | None:

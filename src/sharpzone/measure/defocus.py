@@ -35,14 +35,14 @@ import numpy as np
 METHOD = "zhuo-sim-2011-edge-reblur"
 METHOD_VERSION = 1
 # The re-blur σ0 in pixels (the paper re-blurs with a σ0 of about one pixel; 1.5 gave the
-# smallest error over 2–12 px disks on the validation images, see docs/blur.md).
+# smallest error over 2–12 px disks on the validation images, see docs/measured-blur.md).
 REBLUR_SIGMA_PX = 1.5
 # Edges kept in a region: at least this share of the region's strongest edge.
 STRONG_EDGE_SHARE = 0.5
 # A region's blur is this percentile of its strong edges' estimates, not the median: a
 # neighbouring edge can only lower an edge's estimate (it steepens the re-blurred copy's
 # loss), so the estimates of natural pictures are biased low and the upper part of their
-# spread is the better figure (chosen on the validation images, see docs/blur.md).
+# spread is the better figure (chosen on the validation images, see docs/measured-blur.md).
 BLUR_PERCENTILE = 80
 # An edge must step by at least this many grey levels (of 255) per pixel to count: below
 # it, sensor noise and JPEG blocks dominate.

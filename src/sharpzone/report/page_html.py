@@ -161,7 +161,9 @@ def _verdict_counts(frames) -> dict[str, int]:
     from collections import Counter
 
     counts = Counter(flag for flags in frames["flags"] for flag in flags)
-    return {"frames": len(frames), "passed": sum(1 for flags in frames["flags"] if not flags), **counts}
+    passed = int((frames["outcome"].to_numpy(dtype=object) == "passed").sum()) if "outcome" in frames else \
+        sum(1 for flags in frames["flags"] if not flags)
+    return {"frames": len(frames), "passed": passed, **counts}
 
 
 def _summary(data: ReportData) -> str:
@@ -177,14 +179,17 @@ def _summary(data: ReportData) -> str:
             f'<td class="num">{listed[verdict]}</td></tr>')
     lens_rows = "".join(
         f'<tr><td>{_text(item["lens"])}</td><td class="num">{item["frames"]}</td>'
-        f'<td class="num">{item["flagged"]}</td><td class="num">{item["share_flagged"]:.0%}</td></tr>'
+        f'<td class="num">{item["flagged"]}</td>'
+        f'<td class="num">{"—" if item["share_flagged"] is None else format(item["share_flagged"], ".0%")}</td></tr>'
         for item in check.summary_by_lens())
     return ('<div class="summary">'
             '<table><caption>By verdict</caption><thead><tr><th>Verdict</th><th class="num">Frames with it</th>'
             f'<th class="num">Listed under it</th></tr></thead><tbody>{"".join(verdict_rows)}</tbody></table>'
             '<table><caption>By lens</caption><thead><tr><th>Lens</th><th class="num">Frames</th>'
-            '<th class="num">With a verdict</th><th class="num">Share</th></tr></thead>'
-            f'<tbody>{lens_rows}</tbody></table></div>')
+            '<th class="num">Flagged</th><th class="num">Share flagged</th></tr></thead>'
+            f'<tbody>{lens_rows}</tbody></table>'
+            '<p class="note">Share flagged: of the frames that could be judged (passed, flagged or '
+            'uncertain), as in <code>check</code> and <code>stats</code>.</p></div>')
 
 
 def _legend(scale: DistanceScale, ticks: list[float], imperial: bool) -> str:
