@@ -48,7 +48,8 @@ def test_demo_check_names_the_planted_mistakes(demo_run):
     assert "out-of-reach" in rings["VHB_0301.JPG"]
     portraits = _flags(folder / "reports" / "check-couple-portraits.json")
     # Focused at infinity in a portrait plan: the camera missed the subject (issue 11 part 4).
-    assert portraits["VHB_0204.JPG"] == ["focus-misplaced"]
+    # The pixels agree: the background is sharp, the subject is not.
+    assert portraits["VHB_0204.JPG"] == ["focus-misplaced", "focus-missed"]
 
 
 def test_demo_check_names_the_missed_focus_and_the_shaken_frame_from_the_pixels(demo_run):
