@@ -159,6 +159,16 @@ class FittedTable:
         return f"Not shown at this width: {', '.join(self.dropped)} (--wide shows every column)."
 
 
+def _renderable(cell):
+    """A cell as rich can draw it: text stays text; a missing value (None, NaN) is "—"; any
+    other value (a number a column forgot to format) is its plain, inert string."""
+    if isinstance(cell, (str, Text)):
+        return cell
+    if cell is None or (isinstance(cell, float) and cell != cell):
+        return "—"
+    return inert(str(cell))
+
+
 def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: bool = False,
               **table_options) -> FittedTable:
     """A rich table of ``rows`` that fits ``console``'s width (see ``Column``); with ``wide``
@@ -166,7 +176,7 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
     from rich.measure import Measurement
 
     columns = [column for column in columns if column.shown is None or column.shown(rows)]
-    cells = {id(column): [column.cell(row) for row in rows] for column in columns}
+    cells = {id(column): [_renderable(column.cell(row)) for row in rows] for column in columns}
 
     def build(selection) -> Table:
         table = Table(**_TABLE_STYLE, **table_options)

@@ -228,7 +228,7 @@ def frame_columns(imperial: bool) -> list[Column]:
         Column("Lens", lambda row: row.get("lens") or "—", wrap=True, priority=3),
         Column("Focal", lambda row: _focal_text(_number(row["focal_mm"])), "right"),
         Column("Aperture", lambda row: format_f_number(_number(row["f_number"])), "right"),
-        Column("Focus", lambda row: _focus_with_bracket(row, imperial), "right"),
+        Column("Focus", lambda row: _focus_with_bracket(row, imperial, "\n"), "right"),
         Column("Near", zone(0), "right"),
         Column("Far", zone(1), "right"),
         Column("Depth", dist("total_mm"), "right", priority=4),
@@ -262,19 +262,23 @@ BLUR_CAUTION = ("Blur is an estimate from a small preview (edge re-blur method o
                 "you decide what to reject — nothing is deleted or written to an image file.")
 
 
-def _focus_with_bracket(row, imperial: bool) -> str:
-    """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"."""
+def _focus_with_bracket(row, imperial: bool, separator: str = " ") -> str:
+    """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"
+    (``separator`` "\n" puts the bracket on a line of its own, for a narrow table). A bracket
+    narrower than the printed precision is not shown."""
     focus = _number(row["focus_mm"])
     text = format_distance(focus, imperial=imperial)
     nearest, farthest = _bracket_end(row, "focus_near_mm"), _bracket_end(row, "focus_far_mm")
     if focus is None or nearest is None or farthest is None or not farthest > nearest * (1 + 1e-9):
         return text
     low, high = format_distance(nearest, imperial=imperial), format_distance(farthest, imperial=imperial)
+    if low == high:
+        return text
     unit = text.rsplit(" ", 1)[-1] if " " in text else ""
     # "2.90 m (2.80–3.10)": a metric unit once; feet and inches stay whole.
     if unit in ("mm", "cm", "m", "km") and low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low[: -len(unit) - 1], high[: -len(unit) - 1]
-    return f"{text} ({low}–{high})"
+    return f"{text}{separator}({low}–{high})"
 
 
 _zone_text = format_zone  # one rounding rule for near – far, in units
@@ -316,7 +320,10 @@ def _setting_text(row, imperial: bool) -> str:
 
 
 def _zone_lines(row, imperial: bool) -> str:
-    near, far = _zone_text(_number(row["near_mm"]), _number(row["far_mm"]), imperial).split(" – ")
+    near_mm, far_mm = _number(row["near_mm"]), _number(row["far_mm"])
+    if near_mm is None and far_mm is None:
+        return "—"
+    near, far = _zone_text(near_mm, far_mm, imperial).split(" – ")
     return f"{near} –\n{far}"
 
 

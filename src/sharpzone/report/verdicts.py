@@ -75,7 +75,15 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
     if flag in BLUR_WORDS:
         return BLUR_WORDS[flag](row, dist)
     if flag == "settings-unknown":
-        return "focal length, f-number or sensor format unknown — cannot judge; confirm the body and lens"
+        missing = row.get("settings_missing")
+        body = row.get("body")
+        if isinstance(missing, str) and "format" in missing and isinstance(body, str) and body:
+            from shlex import quote
+
+            return (f"{missing} — cannot judge; set it once and every frame of this body is judged: "
+                    f"sharpzone body edit {quote(body)} --format FORMAT (see 'sharpzone format list')")
+        what = missing if isinstance(missing, str) and missing else "focal length, f-number or sensor format unknown"
+        return f"{what} — cannot judge; confirm the body and lens"
     if flag == "no-requirement":
         return "nothing says what had to be sharp — set the shoot's plan or give --near/--far or --front/--back"
     required = f"{dist(row['required_near_mm'])}–{dist(row['required_far_mm'])}"
