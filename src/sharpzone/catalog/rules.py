@@ -49,19 +49,21 @@ def optional_text(value: str | None) -> str | None:
     return stripped or None
 
 
-def _number(value, what: str, shown: str) -> float:
+def _number(value, what: str, shown: str | None = None) -> float:
     if isinstance(value, bool):
-        raise InvalidValue(f"{what} {shown} is not a number")
+        raise InvalidValue(f"{what} {repr(value) if shown is None else shown} is not a number")
     try:
         return float(value)
     except (TypeError, ValueError):
-        raise InvalidValue(f"{what} {shown} is not a number") from None
+        raise InvalidValue(f"{what} {repr(value) if shown is None else shown} is not a number") from None
 
 
 def positive(value: float | int | None, what: str, unit: str = "", *, allow_inf: bool = False) -> float | None:
     """``value`` as a float when it is a positive number; ``None`` passes through."""
     if value is None:
         return None
+    if type(value) in (float, int) and value > 0 and (value != math.inf or allow_inf):
+        return float(value)  # the common case, checked without building a message
     shown = f"{value!r}{(' ' + unit) if unit else ''}"
     number = _number(value, what, shown)
     if math.isnan(number) or number <= 0 or (math.isinf(number) and not allow_inf):
@@ -85,7 +87,7 @@ def fraction(value: float | None, what: str) -> float | None:
     """``value`` when it is a fraction of the image, 0 to 1; ``None`` passes through."""
     if value is None:
         return None
-    number = _number(value, what, repr(value))
+    number = _number(value, what)
     if not (0.0 <= number <= 1.0):
         raise InvalidValue(f"{what} {value!r} must be a fraction of the image from 0 to 1")
     return number
@@ -95,7 +97,7 @@ def f_number(value: float | None, what: str) -> float | None:
     """``value`` as an f-number: finite and at least ``MIN_F_NUMBER``; ``None`` passes through."""
     if value is None:
         return None
-    number = _number(value, what, repr(value))
+    number = _number(value, what)
     if not (math.isfinite(number) and number >= MIN_F_NUMBER):
         raise InvalidValue(f"{what} {value!r} is not a valid f-number: expected f/{MIN_F_NUMBER:g} or more")
     return number

@@ -15,6 +15,8 @@ whenever the rows carry their own ids.
 
 from __future__ import annotations
 
+import datetime as dt
+
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -244,8 +246,6 @@ def _storage_value(value):
     """A value as the drivers take it below SQLAlchemy (sqlite3's executemany, psycopg's
     COPY): datetimes as wall-clock text in SQLAlchemy's storage form, so rows written this
     way read back like any other."""
-    import datetime as dt
-
     if isinstance(value, dt.datetime):
         return value.replace(tzinfo=None).isoformat(sep=" ", timespec="microseconds")
     return value
