@@ -57,20 +57,28 @@ def _register_commands() -> None:
     # Each command module adds its commands or sub-groups to ``app``; imports stay light
     # (heavy libraries are imported inside the commands that need them).
     from sharpzone.cli import (
+        body_commands,
         catalog_commands,
         demo_commands,
+        format_commands,
         frames_commands,
         ingest_commands,
+        lens_commands,
         measure_commands,
         optics_commands,
         report_commands,
         sheet_commands,
+        shoot_commands,
     )
 
     optics_commands.register(app)
     ingest_commands.register(app)
     measure_commands.register(app)
     frames_commands.register(app)
+    format_commands.register(app)
+    body_commands.register(app)
+    lens_commands.register(app)
+    shoot_commands.register(app)
     catalog_commands.register(app)
     sheet_commands.register(app)
     report_commands.register(app)
