@@ -50,8 +50,16 @@ def sqlite_url(path: str | os.PathLike) -> str:
     return f"sqlite:///{Path(path).expanduser().resolve()}"
 
 
+# ``sqlite:///<path>`` with nothing to decode: its file is read without importing SQLAlchemy
+# (``dof`` asks whether the catalogue exists before it needs any database code).
+_PLAIN_SQLITE = re.compile(r"sqlite:///([^?#%]+)")
+
+
 def sqlite_path(url: str) -> Path | None:
     """The file behind a SQLite URL, or ``None`` for other databases and in-memory SQLite."""
+    plain = _PLAIN_SQLITE.fullmatch(str(url))
+    if plain and plain.group(1) != ":memory:" and not plain.group(1).startswith("file:"):
+        return Path(plain.group(1))
     from sqlalchemy.engine import make_url
     from sqlalchemy.exc import ArgumentError
 

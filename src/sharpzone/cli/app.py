@@ -9,17 +9,6 @@ import typer
 from sharpzone.cli.main import SharpzoneGroup
 from sharpzone.cli.state import CliState
 
-app = typer.Typer(
-    cls=SharpzoneGroup,
-    name="sharpzone",
-    help="Which frames of a shoot held the subject sharp, why not, and what would have worked.",
-    invoke_without_command=True,
-    add_completion=False,
-    pretty_exceptions_enable=False,
-    rich_markup_mode=None,
-    context_settings={"help_option_names": ["-h", "--help"]},
-)
-
 
 def _show_version(value: bool) -> None:
     if value:
@@ -29,7 +18,6 @@ def _show_version(value: bool) -> None:
         raise typer.Exit(0)
 
 
-@app.callback()
 def main(
     ctx: typer.Context,
     catalog: Annotated[
@@ -53,28 +41,44 @@ def main(
         raise typer.Exit(0)
 
 
-def _register_commands() -> None:
-    # Each command module adds its commands or sub-groups to ``app``; imports stay light
-    # (heavy libraries are imported inside the commands that need them).
-    from sharpzone.cli import (
-        catalog_commands,
-        demo_commands,
-        frames_commands,
-        ingest_commands,
-        measure_commands,
-        optics_commands,
-        report_commands,
-        sheet_commands,
+# Each command module adds its commands or sub-groups to an app: which module holds which
+# top-level command, in the order ``sharpzone --help`` lists them. Imports stay light (heavy
+# libraries are imported inside the commands that need them).
+COMMAND_MODULES = {
+    "dof": "optics_commands", "stack": "optics_commands", "ingest": "ingest_commands",
+    "measure": "measure_commands", "frames": "frames_commands", "check": "frames_commands",
+    "stats": "frames_commands", "format": "format_commands", "body": "body_commands", "lens": "lens_commands",
+    "shoot": "shoot_commands", "catalog": "catalog_commands", "sheet": "sheet_commands",
+    "report": "report_commands", "demo": "demo_commands",
+}
+
+
+def make_app(command: str | None = None) -> typer.Typer:
+    """The sharpzone application: every command, or only the modules that ``command`` (a
+    top-level command name) needs, so one command starts without building all the others."""
+    import importlib
+
+    application = typer.Typer(
+        cls=SharpzoneGroup,
+        name="sharpzone",
+        help="Which frames of a shoot held the subject sharp, why not, and what would have worked.",
+        invoke_without_command=True,
+        add_completion=False,
+        pretty_exceptions_enable=False,
+        rich_markup_mode=None,
+        context_settings={"help_option_names": ["-h", "--help"]},
     )
-
-    optics_commands.register(app)
-    ingest_commands.register(app)
-    measure_commands.register(app)
-    frames_commands.register(app)
-    catalog_commands.register(app)
-    sheet_commands.register(app)
-    report_commands.register(app)
-    demo_commands.register(app)
+    application.callback()(main)
+    wanted = [COMMAND_MODULES[command]] if command in COMMAND_MODULES else COMMAND_MODULES.values()
+    for module in dict.fromkeys(wanted):
+        importlib.import_module(f"sharpzone.cli.{module}").register(application)
+    return application
 
 
-_register_commands()
+def __getattr__(name: str):
+    # ``app``, the whole application, is made on first use (tests, tools/command_reference.py);
+    # the console script makes only the part a command needs (``sharpzone.cli.main.run``).
+    if name == "app":
+        globals()["app"] = application = make_app()
+        return application
+    raise AttributeError(name)

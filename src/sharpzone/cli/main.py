@@ -60,8 +60,10 @@ class SharpzoneGroup(TyperGroup):
     def __init__(self, *args, **kwargs) -> None:
         super().__init__(*args, **kwargs)
         from sharpzone.cli.help import polish
+        from sharpzone.cli.plain_values import use_plain_values
 
         polish(self)
+        use_plain_values(self)
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):  # noqa: D102
         argv = list(sys.argv[1:] if args is None else args)
@@ -110,8 +112,24 @@ class SharpzoneGroup(TyperGroup):
         return code
 
 
-def run() -> None:
-    """Console-script entry point (``sharpzone``)."""
-    from sharpzone.cli.app import app
+def _command_named(argv: list[str]) -> str | None:
+    """The top-level command ``argv`` runs, when the global options before it are plain
+    (``--catalog``, ``--debug``); ``None`` for anything else (help, version, a typo)."""
+    index = 0
+    while index < len(argv):
+        arg = argv[index]
+        if arg == "--catalog":
+            index += 2
+        elif arg.startswith("--catalog=") or arg == "--debug":
+            index += 1
+        else:
+            return None if arg.startswith("-") else arg
+    return None
 
-    app()
+
+def run() -> None:
+    """Console-script entry point (``sharpzone``): builds only the command being run (all of
+    them for the top-level help or a name it does not know)."""
+    from sharpzone.cli.app import make_app
+
+    make_app(_command_named(sys.argv[1:]))()

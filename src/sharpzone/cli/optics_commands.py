@@ -7,6 +7,7 @@ from typing import Annotated, Optional
 
 import typer
 
+from sharpzone.cli.option_groups import OptionGroup, uses
 from sharpzone.cli.options import (
     CocOpt,
     CocPolicyOpt,
@@ -38,9 +39,42 @@ def register(app: typer.Typer) -> None:
     app.command("stack")(stack)
 
 
-def _common(coc: str | None, reference: str) -> tuple[float | None, str]:
+@dataclass(frozen=True)
+class _LensOptions:
+    """The lens options as given (text, ``None`` when not given)."""
+
+    focal: str | None
+    lens: str | None
+    max_magnification: str | None
+    close_focus: str | None
+
+
+_LENS = OptionGroup("lens_options", (
+    ("focal", FocalOpt), ("lens", LensOpt), ("max_magnification", MaxMagOpt), ("close_focus", CloseFocusOpt),
+), _LensOptions)
+
+
+@dataclass(frozen=True)
+class _Blur:
+    """The blur options parsed: sensor format name, a fixed CoC (mm), a CoC policy (text),
+    where distances are measured from, and the pupil magnification as given."""
+
+    sensor: str | None
+    coc_mm: float | None
+    coc_policy: str | None
+    reference: str
+    pupil: float | None
+
+
+def _blur(sensor=None, coc=None, coc_policy=None, reference="sensor", pupil=None) -> _Blur:
     coc_mm = length_option(coc, "--coc") if coc is not None else None
-    return coc_mm, choice_option(reference, "--reference", ("sensor", "lens"))
+    return _Blur(sensor, coc_mm, coc_policy, choice_option(reference, "--reference", ("sensor", "lens")), pupil)
+
+
+_BLUR = OptionGroup("blur", (
+    ("sensor", SensorOpt), ("coc", CocOpt), ("coc_policy", CocPolicyOpt), ("reference", ReferenceOpt, "sensor"),
+    ("pupil", PupilOpt),
+), _blur)
 
 
 @dataclass(frozen=True)
@@ -51,9 +85,9 @@ class _Lens:
     pupil: float
 
 
-def _lens(ctx, focal: str | None, lens: str | None, max_magnification: str | None, close_focus: str | None,
-          pupil: float | None) -> _Lens:
+def _lens(ctx, given: _LensOptions, pupil: float | None) -> _Lens:
     """Focal length and focusing from the options, a catalogued lens filling the gaps."""
+    focal, lens, max_magnification, close_focus = given.focal, given.lens, given.max_magnification, given.close_focus
     from sharpzone.errors import InvalidValue
     from sharpzone.optics.macro import parse_magnification
 
@@ -80,31 +114,24 @@ def _lens(ctx, focal: str | None, lens: str | None, max_magnification: str | Non
     return _Lens(focal_mm, close_mm if magnification is not None else None, magnification, pupil_value)
 
 
+@uses(_LENS, _BLUR)
 def dof(
     ctx: typer.Context,
     aperture: ApertureOpt,
     distance: Annotated[str, typer.Option("--distance", "-d", help=f"Focus distance: {DISTANCE_HELP}.")],
-    focal: FocalOpt = None,
-    lens: LensOpt = None,
-    max_magnification: MaxMagOpt = None,
-    close_focus: CloseFocusOpt = None,
-    sensor: SensorOpt = None,
-    coc: CocOpt = None,
-    coc_policy: CocPolicyOpt = None,
-    reference: ReferenceOpt = "sensor",
-    pupil: PupilOpt = None,
+    lens_options,
+    blur,
     imperial: ImperialOpt = False,
     json: JsonOpt = False,
 ) -> None:
     """The sharp zone of one setting: near and far limits, depth of field, hyperfocal distance."""
     from sharpzone.analysis.setting import evaluate_setting, format_lookup
 
-    coc_mm, reference = _common(coc, reference)
-    chosen = _lens(ctx, focal, lens, max_magnification, close_focus, pupil)
+    chosen = _lens(ctx, lens_options, blur.pupil)
     report = evaluate_setting(
         chosen.focal_mm, f_number_option(aperture, "--aperture"),
-        distance_option(distance, "--distance"), sensor=sensor, coc_mm=coc_mm, coc_policy=coc_policy,
-        reference=reference, pupil_magnification=chosen.pupil, close_focus_mm=chosen.close_focus_mm,
+        distance_option(distance, "--distance"), sensor=blur.sensor, coc_mm=blur.coc_mm, coc_policy=blur.coc_policy,
+        reference=blur.reference, pupil_magnification=chosen.pupil, close_focus_mm=chosen.close_focus_mm,
         max_magnification=chosen.max_magnification, lookup=format_lookup(catalog_location(ctx)),
     )
     if json:
@@ -117,38 +144,32 @@ def dof(
         render_setting(report, imperial=imperial)
 
 
+@uses(_LENS, _BLUR)
 def stack(
     ctx: typer.Context,
+    *,
     aperture: ApertureOpt,
     near: Annotated[str, typer.Option("--near", help=f"Nearest point that must be sharp: {DISTANCE_HELP}.")],
     far: Annotated[str, typer.Option("--far", help=f"Farthest point that must be sharp: {DISTANCE_HELP}.")],
-    focal: FocalOpt = None,
-    lens: LensOpt = None,
-    max_magnification: MaxMagOpt = None,
-    close_focus: CloseFocusOpt = None,
+    lens_options,
     overlap: Annotated[float, typer.Option("--overlap", help="Share of each frame's depth, in dioptres, that "
                                            f"neighbouring frames repeat ({OVERLAP_HELP}).")] = DEFAULT_STACK_OVERLAP,
-    sensor: SensorOpt = None,
-    coc: CocOpt = None,
-    coc_policy: CocPolicyOpt = None,
-    reference: ReferenceOpt = "sensor",
-    pupil: PupilOpt = None,
+    blur,
     imperial: ImperialOpt = False,
     json: JsonOpt = False,
 ) -> None:
     """A focus-stack plan: how many frames, focused where, hold a near–far range sharp."""
     from sharpzone.analysis.setting import format_lookup, plan_stack
 
-    coc_mm, reference = _common(coc, reference)
     try:
         check_overlap(overlap)
     except InvalidValue as error:
         raise error.with_option("--overlap") from None
-    chosen = _lens(ctx, focal, lens, max_magnification, close_focus, pupil)
+    chosen = _lens(ctx, lens_options, blur.pupil)
     report = plan_stack(
         chosen.focal_mm, f_number_option(aperture, "--aperture"),
-        distance_option(near, "--near"), distance_option(far, "--far"), sensor=sensor, coc_mm=coc_mm,
-        coc_policy=coc_policy, reference=reference, pupil_magnification=chosen.pupil, overlap=overlap,
+        distance_option(near, "--near"), distance_option(far, "--far"), sensor=blur.sensor, coc_mm=blur.coc_mm,
+        coc_policy=blur.coc_policy, reference=blur.reference, pupil_magnification=chosen.pupil, overlap=overlap,
         close_focus_mm=chosen.close_focus_mm, max_magnification=chosen.max_magnification,
         lookup=format_lookup(catalog_location(ctx)),
     )

@@ -1,0 +1,152 @@
+"""What the catalogue's noun groups (``format``, ``body``, ``lens``, ``shoot``) share: their
+``list`` and ``show`` commands, the options every group takes, and small option parsers.
+
+Each group's module names its own service functions and renderer fields in a ``Noun``; the
+service and the renderers are imported only when a command runs (they pull in SQLAlchemy).
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Annotated, Optional
+
+import typer
+
+from sharpzone.cli.options import ImperialOpt, WideOpt
+from sharpzone.cli.state import catalog_session, echo_json
+from sharpzone.errors import InvalidValue
+
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (lengths in mm, distances in metres, infinity as \"inf\").")]
+NewNameOpt = Annotated[Optional[str], typer.Option("--name", help="A new name.")]
+ReassignOpt = Annotated[Optional[str], typer.Option("--reassign-to", help="Move the frames that use it to this one first.")]
+
+
+def say(text: str) -> None:
+    """Print one line of text that may carry names from files or users (never markup)."""
+    from sharpzone.report.inert import inert
+
+    typer.echo(inert(text))
+
+
+def service():
+    """``sharpzone.catalog.service``, imported when a command runs."""
+    from sharpzone.catalog import service as module
+
+    return module
+
+
+def tables():
+    """``sharpzone.report.catalog_tables``, imported when a command runs."""
+    from sharpzone.report import catalog_tables
+
+    return catalog_tables
+
+
+@dataclass(frozen=True)
+class Noun:
+    """One catalogue noun as its ``list`` and ``show`` commands need it: how to read its rows
+    (service functions, given a session), which renderer fields show them, and words for people."""
+
+    name: str
+    list_rows: Callable
+    get_row: Callable
+    fields: Callable
+    plural_title: str
+    empty: str
+    argument_help: str
+    list_help: str
+    show_help: str
+    has_distances: bool
+
+
+def show_row(row, noun: Noun, *, as_json: bool = False, imperial: bool = False, title: str | None = None) -> None:
+    """One row of ``noun`` as JSON or as a record table."""
+    fields = noun.fields()
+    if as_json:
+        echo_json(tables().row_json(row, fields))
+    else:
+        tables().render_record(row, fields, title=title or f"{noun.name.capitalize()} {row.name}", imperial=imperial)
+
+
+def _run_list(ctx: typer.Context, noun: Noun, as_json: bool, imperial: bool, wide: bool = False) -> None:
+    with catalog_session(ctx) as session:
+        rows = noun.list_rows(session)
+    fields = noun.fields()
+    if as_json:
+        echo_json([tables().row_json(row, fields) for row in rows])
+    else:
+        tables().render_rows(rows, fields, title=noun.plural_title, empty=noun.empty, imperial=imperial, wide=wide)
+
+
+def _run_show(ctx: typer.Context, noun: Noun, name: str, as_json: bool, imperial: bool) -> None:
+    with catalog_session(ctx) as session:
+        row = noun.get_row(session, name)
+    show_row(row, noun, as_json=as_json, imperial=imperial)
+
+
+def noun_group(noun: Noun, help: str) -> typer.Typer:
+    """A command group for ``noun`` with its ``list`` and ``show`` commands (``--imperial``
+    where distances show); the group's module adds the commands that write."""
+    group = typer.Typer(help=help, no_args_is_help=True)
+
+    if noun.has_distances:
+        def list_command(ctx: typer.Context, json: JsonOpt = False, imperial: ImperialOpt = False,
+                         wide: WideOpt = False) -> None:
+            _run_list(ctx, noun, json, imperial, wide)
+
+        def show_command(
+            ctx: typer.Context, name: str = typer.Argument(help=noun.argument_help), json: JsonOpt = False,
+            imperial: ImperialOpt = False,
+        ) -> None:
+            _run_show(ctx, noun, name, json, imperial)
+    else:
+        def list_command(ctx: typer.Context, json: JsonOpt = False, wide: WideOpt = False) -> None:
+            _run_list(ctx, noun, json, False, wide)
+
+        def show_command(ctx: typer.Context, name: str = typer.Argument(help=noun.argument_help), json: JsonOpt = False) -> None:
+            _run_show(ctx, noun, name, json, False)
+
+    group.command("list", help=noun.list_help)(list_command)
+    group.command("show", help=noun.show_help)(show_command)
+    return group
+
+
+def removed_line(what: str, name: str, moved: int, reassign_to: str | None) -> None:
+    """The one line after removing a body or lens whose frames may have moved to another."""
+    say(f"Removed {what} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+
+
+# ---- option parsers ---------------------------------------------------------------------
+
+_RANGE = re.compile(r"^\s*([^-–]+?)\s*(?:[-–]\s*(.+?))?\s*$")
+
+
+def range_option(value: str, option: str, parse) -> tuple[float, float]:
+    """``24-70`` → (24, 70); ``50`` → (50, 50); each end parsed by ``parse(text, option)``."""
+    match = _RANGE.match(value)
+    if not match:
+        raise InvalidValue(option=option, what="value", value=value, expected="one value or two joined by '-'")
+    low = parse(match.group(1), option)
+    high = parse(match.group(2), option) if match.group(2) else low
+    if high < low:
+        raise InvalidValue(option=option, what="value", value=value, problem="runs backwards",
+                           expected="the smaller number first",
+                           hint=f"did you mean {match.group(2)}-{match.group(1)}?")
+    return low, high
+
+
+def number_option(value: str | None, option: str) -> float | None:
+    """A plain number option (``None`` passes through)."""
+    if value is None:
+        return None
+    try:
+        return float(value)
+    except ValueError:
+        raise InvalidValue(option=f"--{option}", what="value", value=value, problem="is not a number") from None
+
+
+def maybe(parse, value: str | None, option: str):
+    """``parse(value, option)``, or ``None`` for an option not given."""
+    return None if value is None else parse(value, option)
