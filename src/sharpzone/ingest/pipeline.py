@@ -8,6 +8,7 @@ size and modification time — are not reopened). Image files are only ever open
 
 from __future__ import annotations
 
+import contextlib
 import itertools
 import math
 import os
@@ -213,11 +214,40 @@ def _known_by_inode(session: Session, rows: list[dict]) -> dict[tuple[int, int],
             if ids.get((device, inode)) != path}
 
 
+@contextlib.contextmanager
+def _signals_held():
+    """Ctrl-C and SIGTERM wait until the block is over (then act as usual), so a batch that
+    the database committed is always counted in what the interrupted run says it saved."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    pending: list[int] = []
+    previous = {number: signal.signal(number, lambda received, frame: pending.append(received))
+                for number in (signal.SIGINT, signal.SIGTERM)}
+    try:
+        yield
+    finally:
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+        if signal.SIGINT in pending:
+            raise KeyboardInterrupt
+        if signal.SIGTERM in pending:
+            raise _Stop()
+
+
 def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
                    target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
                    found: set[str] | None = None) -> None:
     """Write one batch of read results in one transaction (retried once if a concurrent run
-    registered the same body, lens or shoot first)."""
+    registered the same body, lens or shoot first); an interrupt waits for it (see
+    ``_signals_held``)."""
+    with _signals_held():
+        _write_batch(catalog, batch, target, stored, matcher_factory, summary, found)
+
+
+def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
+                 target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
+                 found: set[str] | None) -> None:
     from sqlalchemy import delete, update
 
     from sharpzone.catalog.models import Frame, IngestProblem
