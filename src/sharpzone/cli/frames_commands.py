@@ -37,6 +37,7 @@ FarOpt = Annotated[Text, typer.Option("--far", help="Required range ends here (a
 FrontOpt = Annotated[Text, typer.Option("--front", help="Required depth in front of each frame's focus point.")]
 BackOpt = Annotated[Text, typer.Option("--back", help="Required depth behind each frame's focus point.")]
 CsvOpt = Annotated[bool, typer.Option("--csv", help="Print CSV instead of a table.")]
+JsonlOpt = Annotated[bool, typer.Option("--jsonl", help="Print one JSON object a line (the machine interface's objects).")]
 AllOpt = Annotated[bool, typer.Option("--all", help="Detail every flagged frame (default: the worst 20, after the summary).")]
 
 
@@ -71,24 +72,37 @@ def frames(
     date_from: FromOpt = None, date_to: ToOpt = None, f_min: FMinOpt = None, f_max: FMaxOpt = None,
     focal_min: FocalMinOpt = None, focal_max: FocalMaxOpt = None, verdict: VerdictOpt = None,
     coc_policy: CocPolicyOpt = None, near: NearOpt = None, far: FarOpt = None, front: FrontOpt = None,
-    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, csv: CsvOpt = False,
-    wide: WideOpt = False,
+    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, jsonl: JsonlOpt = False,
+    csv: CsvOpt = False, wide: WideOpt = False,
 ) -> None:
     """Every frame's sharp zone: near and far limits, hyperfocal distance, CoC used."""
-    from sharpzone.analysis.frames import frames_with_zones
+    from sharpzone.analysis.frames import frames_with_zones, iter_checked
 
     where = _filter(shoot, body, lens, date_from, date_to, f_min, f_max, focal_min, focal_max, verdict)
     requirement = _requirement(near, far, front, back)
     with catalog_session(ctx) as session:
+        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
+            chunks = iter_checked(session, where, coc_policy=coc_policy, requirement=requirement)
+            return _stream(chunks, json=json, jsonl=jsonl, checked=False)
         result = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
     from sharpzone.report import frames_render
 
+    frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+
+
+def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
+    """Write machine output as each chunk of frames is computed."""
+    from sharpzone.report import frames_render
+
+    records = frames_render.check_records if checked else frames_render.frames_records
     if json:
-        echo_json(frames_render.rows_json(result.frames))
-    elif csv:
-        typer.echo(frames_render.frames_csv(result.frames), nl=False)
+        pieces = frames_render.stream_json(chunks, records)
+    elif jsonl:
+        pieces = frames_render.stream_jsonl(chunks, records)
     else:
-        frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+        pieces = frames_render.stream_csv(chunks)
+    for piece in pieces:
+        typer.echo(piece, nl=False)
 
 
 def check(
@@ -96,22 +110,22 @@ def check(
     date_from: FromOpt = None, date_to: ToOpt = None, f_min: FMinOpt = None, f_max: FMaxOpt = None,
     focal_min: FocalMinOpt = None, focal_max: FocalMaxOpt = None, verdict: VerdictOpt = None,
     coc_policy: CocPolicyOpt = None, near: NearOpt = None, far: FarOpt = None, front: FrontOpt = None,
-    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, wide: WideOpt = False,
-    all_frames: AllOpt = False,
+    back: BackOpt = None, imperial: ImperialOpt = False, json: JsonOpt = False, jsonl: JsonlOpt = False,
+    csv: CsvOpt = False, wide: WideOpt = False, all_frames: AllOpt = False,
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
-    from sharpzone.analysis.frames import check_shoot
+    from sharpzone.analysis.frames import check_shoot, iter_check_shoot
 
     where = _filter(shoot, body, lens, date_from, date_to, f_min, f_max, focal_min, focal_max, verdict)
     requirement = _requirement(near, far, front, back)
     with catalog_session(ctx) as session:
+        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
+            chunks = iter_check_shoot(session, where, requirement=requirement, coc_policy=coc_policy)
+            return _stream(chunks, json=json, jsonl=jsonl, checked=True)
         result = check_shoot(session, where, requirement=requirement, coc_policy=coc_policy)
     from sharpzone.report import frames_render
 
-    if json:
-        echo_json(frames_render.rows_json(result.frames, frames_render.check_json))
-    else:
-        frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
+    frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
 
 
 def stats(
