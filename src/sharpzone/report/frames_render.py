@@ -108,12 +108,24 @@ def _whole(frames: pd.DataFrame, name: str, positive: bool = False) -> list:
 def _texts(frames: pd.DataFrame, name: str, strings_only: bool = False) -> list:
     """A column as JSON values: unknown (NaN, None) → ``None``; with ``strings_only``
     anything but text → ``None``."""
+    import pandas as pd
+
     if name not in frames:
         return [None] * len(frames)
-    values = frames[name].tolist()
     if strings_only:
-        return [value if isinstance(value, str) else None for value in values]
-    return [None if value is None or value != value else value for value in values]
+        return [value if isinstance(value, str) else None for value in frames[name].tolist()]
+    values = frames[name].to_numpy(dtype=object)
+    unknown = pd.isna(values)
+    if unknown.any():
+        values = values.copy()
+        values[unknown] = None
+    return values.tolist()
+
+
+def _records(frames: pd.DataFrame, names=None) -> list[dict[str, Any]]:
+    """Rows as plain dicts, a column at a time (``DataFrame.to_dict`` boxes every value)."""
+    names = list(frames.columns) if names is None else names
+    return _objects(tuple(names), [frames[name].tolist() for name in names])
 
 
 def _timestamps(frames: pd.DataFrame, name: str) -> list:
@@ -149,12 +161,16 @@ def _bracket(frames: pd.DataFrame, name: str) -> list:
 def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """The frames in the machine interface, one object each, built a column at a time
     (metres for ``_m``, mm for ``_mm``, ``"inf"`` for infinity, ``None`` for unknown)."""
+    return _objects(_FRAME_KEYS, _frame_columns(frames))
+
+
+def _frame_columns(frames: pd.DataFrame) -> list[list]:
     count = len(frames)
     measured = frames.index[frames["blur_analysed_long_px"].notna()] if "blur_analysed_long_px" in frames else []
     blur: list = [None] * count
     if len(measured):
         positions = frames.index.get_indexer(measured)
-        for position, row in zip(positions, frames.iloc[positions].to_dict("records")):
+        for position, row in zip(positions, _records(frames.iloc[positions])):
             blur[position] = plain(blur_json(row))
     columns = [
         _texts(frames, "path"), _texts(frames, "shoot"), _texts(frames, "body"), _texts(frames, "lens"),
@@ -168,7 +184,7 @@ def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
         _numbers(frames, "effective_f_number"), _numbers(frames, "airy_disk_mm"), blur,
         [list(flags) for flags in frames["flags"].tolist()],
     ]
-    return _objects(_FRAME_KEYS, columns)
+    return columns
 
 
 def blur_json(row) -> dict[str, Any] | None:
@@ -226,7 +242,7 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     remedies: list = [[] for _ in range(count)]
     noted = [position for position, flags in enumerate(flag_lists) if len(flags)]
     if noted:
-        for position, row in zip(noted, frames.iloc[noted].to_dict("records")):
+        for position, row in zip(noted, _records(frames.iloc[noted])):
             remedies[position] = [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]]
     remedy = [value or None for value in _texts(frames, "remedy")]
     columns = [
@@ -236,7 +252,7 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
         _numbers(frames, "single_frame_f_number"), remedy, _numbers(frames, "holds_share"),
         _texts(frames, "outcome"), remedies,
     ]
-    return [{**frame, **extra} for frame, extra in zip(frames_records(frames), _objects(_CHECK_KEYS, columns))]
+    return _objects(_FRAME_KEYS + _CHECK_KEYS, _frame_columns(frames) + columns)
 
 
 def rows_json(frames: pd.DataFrame, item=frame_json) -> list[dict[str, Any]]:
@@ -278,36 +294,34 @@ def _csv_cell(value: Any) -> Any:
     return safe_cell(value)
 
 
-def _encoder():
-    import json
+def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
+    """The objects as JSON text joined by ``separator``: compact, UTF-8 (orjson; every
+    value is already plain: no NaN, infinity as ``"inf"``)."""
+    import orjson
 
-    # One encoder for every object: the C encoder (no ``indent``), UTF-8 text, no NaN.
-    return json.JSONEncoder(ensure_ascii=False, allow_nan=False, default=plain).encode
+    return separator.join([orjson.dumps(item, default=plain).decode() for item in objects])
 
 
 def stream_json(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
     """The ``--json`` document, a piece per chunk of frames: a list of objects
-    (``records`` is ``frames_records`` or ``check_records``), one object a line, each
-    line indented by two spaces; ``[]`` when no frame matches."""
-    encode = _encoder()
+    (``records`` is ``frames_records`` or ``check_records``), one compact object a line,
+    each line indented by two spaces; ``[]`` when no frame matches."""
     started = False
     for frames in chunks:
         objects = records(frames)
         if not objects:
             continue
-        text = ",\n  ".join(map(encode, objects))
-        yield (",\n  " if started else "[\n  ") + text
+        yield (",\n  " if started else "[\n  ") + _encoded(objects, ",\n  ")
         started = True
     yield "\n]\n" if started else "[]\n"
 
 
 def stream_jsonl(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
     """``--jsonl``: the objects of ``stream_json``, one a line, nothing around them."""
-    encode = _encoder()
     for frames in chunks:
         objects = records(frames)
         if objects:
-            yield "\n".join(map(encode, objects)) + "\n"
+            yield _encoded(objects, "\n") + "\n"
 
 
 def _short_path(path: str) -> str:
