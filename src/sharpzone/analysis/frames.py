@@ -47,8 +47,9 @@ class FrameFilter:
 
 
 # Frames fetched and computed at a time by the streaming readers: memory follows this, not
-# the size of the catalogue.
-CHUNK_ROWS = 50_000
+# the size of the catalogue. Measured on check --json over 100,000 frames: 50,000 rows a
+# chunk 6.1 s and 830 MB, 20,000 5.6 s and 464 MB, 10,000 5.3 s and 300 MB.
+CHUNK_ROWS = 10_000
 
 _NUMERIC = ("focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm",
             "format_height_mm", "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification",
