@@ -76,7 +76,7 @@ def test_json_bundle_is_documented_shape(filled_catalog, tmp_path):
         export_catalog(session, bundle)
     document = json.loads(bundle.read_text(encoding="utf-8"))
     assert (document["format"], document["format_version"], document["schema_revision"]) == (
-        "sharpzone-catalogue-bundle", 1, "0004")
+        "sharpzone-catalogue-bundle", 1, "0005")
     assert list(document["tables"]) == [model.__tablename__ for model in TABLES_IN_DEPENDENCY_ORDER]
     body = next(row for row in document["tables"]["body"] if row["name"] == "Korvath MF")
     assert body["format"] == "test-44x33" and "format_id" not in body and "id" not in body

@@ -19,9 +19,9 @@ from sharpzone.seed import shipped_formats
 
 
 def test_revisions_form_one_line_from_0001_to_head():
-    assert migrate.known_revisions() == ["0001", "0002", "0003", "0004"]
-    assert migrate.head_revision() == "0004"
-    assert migrate.next_revision_id() == "0005"
+    assert migrate.known_revisions() == ["0001", "0002", "0003", "0004", "0005"]
+    assert migrate.head_revision() == "0005"
+    assert migrate.next_revision_id() == "0006"
 
 
 def test_quick_head_and_stamp_readers_agree_with_alembic(catalog_url):
@@ -41,24 +41,25 @@ def test_migrations_are_found_inside_the_package():
     folder = migrate.migrations_folder()
     assert (folder / "env.py").is_file()
     assert (folder / "script.py.mako").is_file()
-    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:4] == [
+    assert sorted(p.name for p in (folder / "versions").glob("*.py"))[:5] == [
         "0001_initial_schema.py",
         "0002_pupils_warnings_problems.py",
         "0003_focus_brackets_and_measured_blur.py",
         "0004_database_checks.py",
+        "0005_index_frame_captured_at.py",
     ]
 
 
 def test_empty_database_is_created_at_head_with_the_shipped_formats(catalog_url):
     result = migrate.prepare_catalog(catalog_url)
-    assert result.created and result.revision == "0004"
+    assert result.created and result.revision == "0005"
     engine = create_engine(catalog_url)
     with engine.connect() as connection:
-        assert migrate.current_revision(connection) == "0004"
+        assert migrate.current_revision(connection) == "0005"
         names = set(connection.scalars(select(SensorFormatRow.name)))
     engine.dispose()
     assert names == {shipped.format.name for shipped in shipped_formats()}
-    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0004")
+    assert migrate.prepare_catalog(catalog_url) == migrate.PreparedCatalog(revision="0005")
 
 
 @pytest.mark.parametrize("path", ["revisions", "created"])
@@ -173,7 +174,7 @@ def test_catalogue_newer_than_the_program_is_refused(tmp_path):
     connection.execute("UPDATE alembic_version SET version_num = '0099'")
     connection.commit()
     connection.close()
-    with pytest.raises(CatalogError, match=r"unknown schema revision '0099': this program knows 0001 to 0004"):
+    with pytest.raises(CatalogError, match=r"unknown schema revision '0099': this program knows 0001 to 0005"):
         with open_catalog(url):
             pass
     assert not list(tmp_path.glob("*.bak-*"))
@@ -206,9 +207,9 @@ def test_revision_helper_drafts_an_empty_revision_when_models_match(tmp_path, mo
     shutil.copytree(migrate.migrations_folder(), copy, ignore=shutil.ignore_patterns("__pycache__"))
     monkeypatch.setattr(migrate, "migrations_folder", lambda: copy)
     path = migrate.new_revision("nothing changed")
-    assert path.parent == copy / "versions" and path.name.startswith("0005_")
+    assert path.parent == copy / "versions" and path.name.startswith("0006_")
     draft = path.read_text(encoding="utf-8")
-    assert "revision = '0005'" in draft and "down_revision = '0004'" in draft
+    assert "revision = '0006'" in draft and "down_revision = '0005'" in draft
     assert "op." not in draft.split("def upgrade() -> None:")[1].split("def downgrade")[0]
 
 
@@ -246,7 +247,7 @@ def test_0004_keeps_every_row_and_the_body_identity_index(catalog_url):
     migrate.upgrade(catalog_url, "0003")
     _fill_revision_0003(catalog_url)
     result = migrate.prepare_catalog(catalog_url)
-    assert (result.upgraded_from, result.revision) == ("0003", "0004")
+    assert (result.upgraded_from, result.revision) == ("0003", "0005")
     with open_catalog(catalog_url) as catalog, catalog.session_scope() as session:
         frame = session.scalars(select(Frame)).one()
         assert (frame.focus_source, frame.focus_mm, frame.focus_near_mm, frame.focus_point_y) == ("makernote", 3000, 2500, 0.25)

@@ -264,6 +264,6 @@ def test_shoot_with_frames_is_removed_only_with_them(catalog_session, make_shoot
 def test_catalog_info_counts_rows(catalog_session, make_frame):
     make_frame()
     info = service.catalog_info(catalog_session)
-    assert info.revision == info.newest_revision == "0004"
+    assert info.revision == info.newest_revision == "0005"
     assert info.row_counts["frame"] == 1 and info.row_counts["lens"] == 1
     assert info.row_counts["sensor_format"] >= 20

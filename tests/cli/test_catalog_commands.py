@@ -144,7 +144,7 @@ def test_shoot_plan_round_trip_in_metres(cli):
 def test_catalog_info_export_and_import(cli, tmp_path):
     cli("lens", "add", "Altamira 35", "--focal", "35", "--aperture", "2", "--exif-name", "ALT 35")
     info = json.loads(cli("catalog", "info", "--json").stdout)
-    assert info["revision"] == info["newest_revision"] == "0004"
+    assert info["revision"] == info["newest_revision"] == "0005"
     assert info["row_counts"]["lens"] == 1 and info["path"] == str(cli.path)
     assert "Schema revision" in cli("catalog", "info").stdout
 

@@ -29,7 +29,6 @@ import numpy as np
 
 if TYPE_CHECKING:
     import pandas as pd
-    from sqlalchemy.orm import Session
 
 BLUR_FLAGS = ("focus-missed", "soft-all-over", "sharp-at-focus", "not-measurable")
 # Verdicts that are good news: a frame carrying only these has passed.
@@ -59,21 +58,22 @@ def count_problems(flags) -> int:
     return sum(1 for flag in flags if flag not in NOTE_FLAGS)
 
 
-def join_blur(session: Session, frames: pd.DataFrame) -> pd.DataFrame:
-    """``frames`` (with ``frame_id``) plus the stored blur measurement columns (``blur_*``,
-    NaN where a frame was never measured) and what the verdicts need from the frame."""
-    import pandas as pd
-    from sqlalchemy import select
-
+def blur_select() -> list:
+    """The labelled columns of the blur measurement and of what its verdicts read from the
+    frame, for a query that joins ``frame_blur`` (outer, so unmeasured frames stay)."""
     from sharpzone.catalog.models import Frame, FrameBlur
 
     stored = [getattr(FrameBlur, name).label(label) for name, label in _STORED.items()]
-    own = [getattr(Frame, name).label(label) for name, label in _FRAME.items()]
-    result = session.execute(select(FrameBlur.frame_id, *stored, *own).join(Frame, Frame.id == FrameBlur.frame_id))
-    table = pd.DataFrame(result.all(), columns=["frame_id", *_STORED.values(), *_FRAME.values()]).set_index("frame_id")
-    ids = pd.to_numeric(frames["frame_id"], errors="coerce")
-    for column in table.columns:
-        values = ids.map(table[column])
+    return stored + [getattr(Frame, name).label(label) for name, label in _FRAME.items()]
+
+
+def blur_types(frames: pd.DataFrame) -> pd.DataFrame:
+    """The blur columns as the verdicts read them: numbers (NaN where never measured), the
+    method as text."""
+    import pandas as pd
+
+    for column in (*_STORED.values(), *_FRAME.values()):
+        values = frames[column]
         frames[column] = values.astype(object) if column == "blur_method" else pd.to_numeric(values, errors="coerce")
     return frames
 

@@ -7,13 +7,14 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.blur_checks import join_blur
 from sharpzone.analysis.checks import FLAGS, Requirement, check_frames, flagged_share
 from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.coc import parse_coc_policy
 
 if TYPE_CHECKING:
+    from collections.abc import Iterator
+
     import pandas as pd
     from sqlalchemy.orm import Session
 
@@ -45,13 +46,24 @@ class FrameFilter:
                 raise InvalidValue(f"{what} range {low}–{high} is empty: the first must not exceed the second")
 
 
-def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.DataFrame:
-    """Frames matching ``where`` (all but the verdict, which needs the zones) as a DataFrame
-    with the columns ``analysis.zones`` and ``analysis.checks`` read; lengths in mm."""
-    import pandas as pd
+# Frames fetched and computed at a time by the streaming readers: memory follows this, not
+# the size of the catalogue. Measured on check --json over 100,000 frames: 50,000 rows a
+# chunk 6.1 s and 830 MB, 20,000 5.6 s and 464 MB, 10,000 5.3 s and 300 MB.
+CHUNK_ROWS = 10_000
+
+_NUMERIC = ("focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm",
+            "format_height_mm", "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification",
+            "lens_min_aperture", "lens_close_focus_mm", "lens_max_magnification", "plan_near_mm", "plan_far_mm",
+            "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number", "planned_focus_mm")
+
+
+def _frames_statement(session: Session, where: FrameFilter):
+    """The one query of the frames matching ``where`` (all but the verdict), every filter
+    in SQL, in capture order, with the blur measurement outer-joined."""
     from sqlalchemy import select
 
-    from sharpzone.catalog.models import Frame
+    from sharpzone.analysis.blur_checks import blur_select
+    from sharpzone.catalog.models import Frame, FrameBlur
     from sharpzone.catalog.service import get_body, get_lens, get_shoot
 
     # Frames carry ids; shoots, bodies (with formats) and lenses are few and are fetched on
@@ -61,9 +73,10 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
             Frame.id.label("frame_id"), Frame.path, Frame.shoot_id, Frame.body_id, Frame.lens_id, Frame.focal_mm,
             Frame.f_number, Frame.exposure_s, Frame.iso, Frame.focus_mm, Frame.focus_source, Frame.captured_at,
             Frame.utc_offset_minutes, Frame.focus_near_mm, Frame.focus_far_mm, Frame.focus_key,
-            Frame.subject_distance_range,
+            Frame.subject_distance_range, *blur_select(),
         )
-        .order_by(Frame.captured_at, Frame.path)
+        .outerjoin(FrameBlur, FrameBlur.frame_id == Frame.id)
+        .order_by(Frame.captured_at, Frame.path, Frame.id)
     )
     # Named things are looked up first so a misspelt name is an error, not an empty list.
     if where.shoot:
@@ -85,31 +98,72 @@ def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.Data
         statement = statement.where(Frame.focal_mm >= where.focal_min_mm)
     if where.focal_max_mm is not None:
         statement = statement.where(Frame.focal_mm <= where.focal_max_mm)
-    # Rows come straight from the driver's cursor: SQLAlchemy's per-value result processing
-    # costs more than the query itself at 100,000 frames. Types are fixed up per column below.
-    result = session.connection().execute(statement)
+    return statement
+
+
+def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
+                chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
+    """The frames matching ``where`` (all but the verdict) in capture order, as DataFrames of
+    at most ``chunk_rows`` rows (``None``: one DataFrame of all), with the columns
+    ``analysis.zones`` and ``analysis.checks`` read; lengths in mm.
+
+    One query with the filters in SQL; its rows are read from the driver's cursor a chunk
+    at a time (a server-side cursor on PostgreSQL), so memory follows the chunk, not the
+    catalogue. Yields at least one (perhaps empty) DataFrame."""
+    statement = _frames_statement(session, where)
+    small = _small_tables(session)
+    connection = session.connection()
+    # SQLite's cursor already steps through the result as it is fetched; PostgreSQL's
+    # client-side cursor would hold every row, so there a server-side cursor is asked for
+    # (whose first rows SQLAlchemy buffers, so it is read through the result).
+    server_side = chunk_rows is not None and connection.dialect.supports_server_side_cursors
+    if server_side:
+        connection = connection.execution_options(stream_results=True)
+    result = connection.execute(statement)
     names = list(result.keys())
-    rows = result.cursor.fetchall()
-    result.close()
+    # Otherwise rows come straight from the driver's cursor: SQLAlchemy's per-value result
+    # processing costs more than the query itself at 100,000 frames. Types are fixed up per
+    # column below.
+    source = result if server_side else result.cursor
+    try:
+        first = True
+        while True:
+            rows = source.fetchall() if chunk_rows is None else source.fetchmany(chunk_rows)
+            if not rows and not first:
+                return
+            first = False
+            yield _frames_table(names, rows, small)
+            if chunk_rows is None or len(rows) < chunk_rows:
+                return
+    finally:
+        result.close()
+
+
+def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.DataFrame:
+    """Frames matching ``where`` (all but the verdict, which needs the zones) as one
+    DataFrame with the columns ``analysis.zones`` and ``analysis.checks`` read; lengths in mm."""
+    return next(iter_frames(session, where, chunk_rows=None))
+
+
+def _frames_table(names: list[str], rows: list[tuple], small) -> pd.DataFrame:
+    import pandas as pd
+
+    from sharpzone.analysis.blur_checks import blur_types
+
     columns = list(zip(*rows)) if rows else [() for _ in names]
     frame = pd.DataFrame({name: pd.Series(values, dtype=object) for name, values in zip(names, columns)})
     frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
-    frame = _join_small_tables(session, frame)
-    frame = join_blur(session, frame)
-    numeric = ["focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "focus_far_mm", "format_width_mm", "format_height_mm",
-               "format_coc_divisor", "pixel_width", "pixel_height", "pupil_magnification", "lens_min_aperture",
-               "lens_close_focus_mm", "lens_max_magnification", "plan_near_mm",
-               "plan_far_mm", "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number",
-               "planned_focus_mm"]
-    for column in numeric:
+    frame = _join_small_tables(frame, small)
+    frame = blur_types(frame)
+    for column in _NUMERIC:
         frame[column] = pd.to_numeric(frame[column], errors="coerce").astype(float)
     for column in ("iso", "utc_offset_minutes", "frame_id"):
         frame[column] = pd.to_numeric(frame[column], errors="coerce")
     return frame
 
 
-def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
-    """Add shoot, body/format and lens columns to the frames by their ids."""
+def _small_tables(session: Session):
+    """Shoots, bodies (with formats) and lenses by id: few rows, fetched once."""
     import pandas as pd
     from sqlalchemy import select
 
@@ -133,10 +187,17 @@ def _join_small_tables(session: Session, frame: pd.DataFrame) -> pd.DataFrame:
         Lens.id.label("lens_id"), Lens.name.label("lens"), Lens.pupil_magnification,
         Lens.min_aperture.label("lens_min_aperture"), Lens.close_focus_mm.label("lens_close_focus_mm"),
         Lens.max_magnification.label("lens_max_magnification")), "lens_id")
-    for key, small in (("shoot_id", shoots), ("body_id", bodies), ("lens_id", lenses)):
+    return (("shoot_id", shoots), ("body_id", bodies), ("lens_id", lenses))
+
+
+def _join_small_tables(frame: pd.DataFrame, small) -> pd.DataFrame:
+    """Add shoot, body/format and lens columns to the frames by their ids."""
+    import pandas as pd
+
+    for key, table in small:
         ids = pd.to_numeric(frame[key], errors="coerce")
-        for column in small.columns:
-            frame[column] = ids.map(small[column]).astype(object)
+        for column in table.columns:
+            frame[column] = ids.map(table[column]).astype(object)
     return frame
 
 
@@ -202,10 +263,47 @@ def frames_with_zones(session: Session, where: FrameFilter = FrameFilter(), *, c
     ``coc_policy`` (text form) overrides each shoot's policy; ``requirement`` overrides each
     shoot's plan. Everything is computed now from the stored inputs.
     """
+    frames = next(iter_checked(session, where, coc_policy=coc_policy, requirement=requirement, chunk_rows=None))
+    return CheckResult(frames, requirement, coc_policy)
+
+
+def iter_checked(session: Session, where: FrameFilter = FrameFilter(), *, coc_policy: str | None = None,
+                 requirement: Requirement | None = None, chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
+    """``frames_with_zones`` a chunk at a time (see ``iter_frames``): the frames of
+    ``CheckResult.frames`` in the same order, as DataFrames of at most ``chunk_rows`` rows,
+    for output that is written as it is computed. Yields at least one (perhaps empty)."""
     policy = parse_coc_policy(coc_policy) if coc_policy else None
-    zones = add_zones(load_frames(session, where), policy)
-    checked = check_frames(zones, requirement)
-    return CheckResult(_keep_verdict(checked, where.verdict), requirement, coc_policy)
+    for frames in iter_frames(session, where, chunk_rows=chunk_rows):
+        yield _keep_verdict(check_frames(add_zones(frames, policy), requirement), where.verdict)
+
+
+def require_plan(session: Session, where: FrameFilter, requirement: Requirement | None) -> None:
+    """Refuse with a clear message when neither ``requirement`` nor any matching frame's
+    shoot plan says what had to be sharp (asked of the database, before any frame is read)."""
+    from sqlalchemy import select
+
+    from sharpzone.catalog.models import Shoot
+
+    if requirement is not None:
+        return
+    matching = _frames_statement(session, where).order_by(None).subquery()
+    any_frame = session.execute(select(matching.c.frame_id).limit(1)).first()
+    planned = session.execute(select(matching.c.frame_id).where(matching.c.shoot_id.in_(
+        select(Shoot.id).where(Shoot.plan_kind.is_not(None)))).limit(1)).first()
+    if any_frame is not None and planned is None:
+        shoot = f"shoot {where.shoot!r} has" if where.shoot else "these shoots have"
+        raise InvalidValue(
+            f"{shoot} no plan, so nothing says what had to be sharp",
+            hint="give --near/--far or --front/--back, or set a plan with 'sharpzone shoot edit'",
+        )
+
+
+def iter_check_shoot(session: Session, where: FrameFilter = FrameFilter(), *, requirement: Requirement | None = None,
+                     coc_policy: str | None = None, chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
+    """``check_shoot`` a chunk at a time (for ``check --json/--jsonl``): refuses a shoot
+    without a plan before the first frame is read, then yields as ``iter_checked``."""
+    require_plan(session, where, requirement)
+    return iter_checked(session, where, coc_policy=coc_policy, requirement=requirement, chunk_rows=chunk_rows)
 
 
 def check_shoot(session: Session, where: FrameFilter = FrameFilter(), *, requirement: Requirement | None = None,
@@ -215,12 +313,5 @@ def check_shoot(session: Session, where: FrameFilter = FrameFilter(), *, require
     Refuses with a clear message when neither the command nor any matching shoot's plan says
     what had to be sharp.
     """
-    result = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
-    frames = result.frames
-    if requirement is None and len(frames) and frames["plan_kind"].isna().all():
-        shoot = f"shoot {where.shoot!r} has" if where.shoot else "these shoots have"
-        raise InvalidValue(
-            f"{shoot} no plan, so nothing says what had to be sharp",
-            hint="give --near/--far or --front/--back, or set a plan with 'sharpzone shoot edit'",
-        )
-    return result
+    require_plan(session, where, requirement)
+    return frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)

@@ -257,7 +257,8 @@ class Frame(Base):
     path: Mapped[str] = mapped_column(Text, unique=True)
     file_size: Mapped[int] = mapped_column(BigInteger)
     file_mtime_ns: Mapped[int] = mapped_column(BigInteger)
-    captured_at: Mapped[Optional[dt.datetime]] = mapped_column(WallClockDateTime)
+    # Indexed: check and frames over a date range read only those frames (docs/stream.md).
+    captured_at: Mapped[Optional[dt.datetime]] = mapped_column(WallClockDateTime, index=True)
     utc_offset_minutes: Mapped[Optional[int]] = mapped_column(Integer)
     body_id: Mapped[Optional[int]] = mapped_column(ForeignKey("body.id"), index=True)
     lens_id: Mapped[Optional[int]] = mapped_column(ForeignKey("lens.id"), index=True)

@@ -12,6 +12,7 @@ from sharpzone.cli.options import ImperialOpt, JsonOpt, WideOpt
 from sharpzone.cli.state import catalog_session, echo_json
 
 CsvOpt = Annotated[bool, typer.Option("--csv", help="Print CSV instead of a table.")]
+JsonlOpt = Annotated[bool, typer.Option("--jsonl", help="Print one JSON object a line (the machine interface's objects).")]
 AllOpt = Annotated[bool, typer.Option("--all", help="Detail every flagged frame (default: the worst 20, after the summary).")]
 
 
@@ -23,40 +24,53 @@ def register(app: typer.Typer) -> None:
 
 @uses(FILTERS_WITH_VERDICT, JUDGING)
 def frames(
-    ctx: typer.Context, where, judging, imperial: ImperialOpt = False, json: JsonOpt = False, csv: CsvOpt = False,
-    wide: WideOpt = False,
+    ctx: typer.Context, where, judging, imperial: ImperialOpt = False, json: JsonOpt = False, jsonl: JsonlOpt = False,
+    csv: CsvOpt = False, wide: WideOpt = False,
 ) -> None:
     """Every frame's sharp zone: near and far limits, hyperfocal distance, CoC used."""
-    from sharpzone.analysis.frames import frames_with_zones
+    from sharpzone.analysis.frames import frames_with_zones, iter_checked
 
     with catalog_session(ctx) as session:
+        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
+            chunks = iter_checked(session, where, coc_policy=judging.coc_policy, requirement=judging.requirement)
+            return _stream(chunks, json=json, jsonl=jsonl, checked=False)
         result = frames_with_zones(session, where, coc_policy=judging.coc_policy, requirement=judging.requirement)
     from sharpzone.report import frames_render
 
+    frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+
+
+def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
+    """Write machine output as each chunk of frames is computed."""
+    from sharpzone.report import frames_render
+
+    records = frames_render.check_records if checked else frames_render.frames_records
     if json:
-        echo_json(frames_render.rows_json(result.frames))
-    elif csv:
-        typer.echo(frames_render.frames_csv(result.frames), nl=False)
+        pieces = frames_render.stream_json(chunks, records)
+    elif jsonl:
+        pieces = frames_render.stream_jsonl(chunks, records)
     else:
-        frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+        pieces = frames_render.stream_csv(chunks)
+    for piece in pieces:
+        typer.echo(piece, nl=False)
 
 
 @uses(FILTERS_WITH_VERDICT, JUDGING)
 def check(
-    ctx: typer.Context, where, judging, imperial: ImperialOpt = False, json: JsonOpt = False, wide: WideOpt = False,
-    all_frames: AllOpt = False,
+    ctx: typer.Context, where, judging, imperial: ImperialOpt = False, json: JsonOpt = False, jsonl: JsonlOpt = False,
+    csv: CsvOpt = False, wide: WideOpt = False, all_frames: AllOpt = False,
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
-    from sharpzone.analysis.frames import check_shoot
+    from sharpzone.analysis.frames import check_shoot, iter_check_shoot
 
     with catalog_session(ctx) as session:
+        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
+            chunks = iter_check_shoot(session, where, requirement=judging.requirement, coc_policy=judging.coc_policy)
+            return _stream(chunks, json=json, jsonl=jsonl, checked=True)
         result = check_shoot(session, where, requirement=judging.requirement, coc_policy=judging.coc_policy)
     from sharpzone.report import frames_render
 
-    if json:
-        echo_json(frames_render.rows_json(result.frames, frames_render.check_json))
-    else:
-        frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
+    frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
 
 
 @uses(FILTERS, JUDGING)

@@ -16,11 +16,13 @@ from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
 from sharpzone.report.spreadsheet import safe_cell
-from sharpzone.report.jsonout import metres
+from sharpzone.report.jsonout import metres, plain
 from sharpzone.report.verdicts import blur_size, describe_flag
 from sharpzone.units import format_distance, format_f_number, format_length_mm, format_zone
 
 if TYPE_CHECKING:
+    from collections.abc import Iterable, Iterator
+
     import pandas as pd
 
     from sharpzone.analysis.frames import CheckResult
@@ -62,39 +64,127 @@ def _bracket_end(row, name: str) -> float | None:
 
 
 def frame_json(row) -> dict[str, Any]:
-    """One frame in the machine interface (metres for ``_m``, mm for ``_mm``)."""
-    captured = row.get("captured_at")
-    offset = _number(row.get("utc_offset_minutes"))
-    return {
-        "path": row["path"],
-        "shoot": row.get("shoot"),
-        "body": row.get("body"),
-        "lens": row.get("lens"),
-        "focal_mm": _number(row["focal_mm"]),
-        "f_number": _number(row["f_number"]),
-        "exposure_s": _number(row.get("exposure_s")),
-        "iso": _number(row.get("iso")),
-        "captured_at": None if captured is None or captured != captured else captured.isoformat(),
-        "utc_offset_minutes": int(offset) if offset is not None else None,
-        "focus_m": metres(_number(row["focus_mm"])),
-        "focus_near_m": metres(_bracket_end(row, "focus_near_mm")),
-        "focus_far_m": metres(_bracket_end(row, "focus_far_mm")),
-        "focus_key": row.get("focus_key") if isinstance(row.get("focus_key"), str) else None,
-        "focus_source": row.get("focus_source"),
-        "format": row.get("format_name"),
-        "coc_mm": _number(row["coc_mm"]),
-        "coc_policy": row["coc_policy"],
-        "coc_from": row["coc_from"],
-        "near_m": metres(_number(row["near_mm"])),
-        "far_m": metres(_number(row["far_mm"])),
-        "hyperfocal_m": metres(_number(row["hyperfocal_mm"])),
-        "total_m": metres(_number(row["total_mm"])),
-        "magnification": _number(row["magnification"]),
-        "effective_f_number": _number(row["effective_f_number"]),
-        "airy_disk_mm": _number(row["airy_disk_mm"]),
-        "blur": blur_json(row),
-        "flags": list(row["flags"]),
-    }
+    """One frame in the machine interface (metres for ``_m``, mm for ``_mm``); ``row`` a
+    mapping of a frames row (see ``frames_records``, which this is one row of)."""
+    import pandas as pd
+
+    return frames_records(pd.DataFrame([dict(row)]))[0]
+
+
+def _numbers(frames: pd.DataFrame, name: str, scale: float = 1.0, inf: str | None = None) -> list:
+    """A column as JSON values: floats, ``None`` for unknown, ``"inf"``/``"-inf"`` for
+    infinity (``inf`` overrides both, as distances are ``"inf"`` either way)."""
+    import numpy as np
+    import pandas as pd
+
+    if name not in frames:
+        return [None] * len(frames)
+    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    if scale != 1.0:
+        values = values / scale
+    out = values.astype(object)
+    out[np.isposinf(values)] = inf or "inf"
+    out[np.isneginf(values)] = inf or "-inf"
+    out[np.isnan(values)] = None
+    return out.tolist()
+
+
+def _metres(frames: pd.DataFrame, name: str) -> list:
+    return _numbers(frames, name, 1000.0, inf="inf")
+
+
+def _whole(frames: pd.DataFrame, name: str, positive: bool = False) -> list:
+    """A column as whole numbers, ``None`` for unknown (and for ≤ 0 when ``positive``)."""
+    import numpy as np
+    import pandas as pd
+
+    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    known = np.isfinite(values) & (values > 0 if positive else True)
+    out = np.trunc(np.where(known, values, 0)).astype(np.int64).astype(object)
+    out[~known] = None
+    return out.tolist()
+
+
+def _texts(frames: pd.DataFrame, name: str, strings_only: bool = False) -> list:
+    """A column as JSON values: unknown (NaN, None) → ``None``; with ``strings_only``
+    anything but text → ``None``."""
+    import pandas as pd
+
+    if name not in frames:
+        return [None] * len(frames)
+    if strings_only:
+        return [value if isinstance(value, str) else None for value in frames[name].tolist()]
+    values = frames[name].to_numpy(dtype=object)
+    unknown = pd.isna(values)
+    if unknown.any():
+        values = values.copy()
+        values[unknown] = None
+    return values.tolist()
+
+
+def _records(frames: pd.DataFrame, names=None) -> list[dict[str, Any]]:
+    """Rows as plain dicts, a column at a time (``DataFrame.to_dict`` boxes every value)."""
+    names = list(frames.columns) if names is None else names
+    return _objects(tuple(names), [frames[name].tolist() for name in names])
+
+
+def _timestamps(frames: pd.DataFrame, name: str) -> list:
+    """ISO 8601 local times (``datetime.isoformat``: seconds, microseconds only when set)."""
+    import numpy as np
+
+    stamps = frames[name].to_numpy(dtype="datetime64[us]")
+    known = ~np.isnat(stamps)
+    whole = (stamps.astype(np.int64) % 1_000_000) == 0
+    text = np.where(whole, np.datetime_as_string(stamps, unit="s"), np.datetime_as_string(stamps, unit="us"))
+    out = text.astype(object)
+    out[~known] = None
+    return out.tolist()
+
+
+def _objects(keys: tuple[str, ...], columns: list[list]) -> list[dict[str, Any]]:
+    return [dict(zip(keys, values)) for values in zip(*columns)]
+
+
+_FRAME_KEYS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "exposure_s", "iso", "captured_at",
+               "utc_offset_minutes", "focus_m", "focus_near_m", "focus_far_m", "focus_key", "focus_source",
+               "format", "coc_mm", "coc_policy", "coc_from", "near_m", "far_m", "hyperfocal_m", "total_m",
+               "magnification", "effective_f_number", "airy_disk_mm", "blur", "flags")
+
+
+def _bracket(frames: pd.DataFrame, name: str) -> list:
+    """One end of the focus bracket (m); the nominal distance where none is stored (exact)."""
+    ends = _metres(frames, name) if name in frames else [None] * len(frames)
+    nominal = _metres(frames, "focus_mm")
+    return [n if e is None else e for e, n in zip(ends, nominal)]
+
+
+def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
+    """The frames in the machine interface, one object each, built a column at a time
+    (metres for ``_m``, mm for ``_mm``, ``"inf"`` for infinity, ``None`` for unknown)."""
+    return _objects(_FRAME_KEYS, _frame_columns(frames))
+
+
+def _frame_columns(frames: pd.DataFrame) -> list[list]:
+    count = len(frames)
+    measured = frames.index[frames["blur_analysed_long_px"].notna()] if "blur_analysed_long_px" in frames else []
+    blur: list = [None] * count
+    if len(measured):
+        positions = frames.index.get_indexer(measured)
+        for position, row in zip(positions, _records(frames.iloc[positions])):
+            blur[position] = plain(blur_json(row))
+    columns = [
+        _texts(frames, "path"), _texts(frames, "shoot"), _texts(frames, "body"), _texts(frames, "lens"),
+        _numbers(frames, "focal_mm"), _numbers(frames, "f_number"), _numbers(frames, "exposure_s"),
+        _numbers(frames, "iso"), _timestamps(frames, "captured_at"), _whole(frames, "utc_offset_minutes"),
+        _metres(frames, "focus_mm"), _bracket(frames, "focus_near_mm"), _bracket(frames, "focus_far_mm"),
+        _texts(frames, "focus_key", strings_only=True), _texts(frames, "focus_source"),
+        _texts(frames, "format_name"), _numbers(frames, "coc_mm"), _texts(frames, "coc_policy"),
+        _texts(frames, "coc_from"), _metres(frames, "near_mm"), _metres(frames, "far_mm"),
+        _metres(frames, "hyperfocal_mm"), _metres(frames, "total_mm"), _numbers(frames, "magnification"),
+        _numbers(frames, "effective_f_number"), _numbers(frames, "airy_disk_mm"), blur,
+        [list(flags) for flags in frames["flags"].tolist()],
+    ]
+    return columns
 
 
 def blur_json(row) -> dict[str, Any] | None:
@@ -131,28 +221,43 @@ _BLUR_NUMBERS = {
 
 
 def check_json(row) -> dict[str, Any]:
-    """One checked frame: the frame's object plus the requirement and remedies."""
-    data = frame_json(row)
-    stack = _number(row["stack_frames"])
-    data.update({
-        "required_near_m": metres(_number(row["required_near_mm"])),
-        "required_far_m": metres(_number(row["required_far_mm"])),
-        "needed_f_number": _number(row["needed_f_number"]),
-        "better_focus_m": metres(_number(row["better_focus_mm"])),
-        "better_f_number": _number(row["better_f_number"]),
-        "stack_frames": int(stack) if stack is not None and stack > 0 else None,
-        "stack_f_number": _number(row.get("stack_f_number")),
-        "single_frame_f_number": _number(row.get("single_frame_f_number")),
-        "remedy": row.get("remedy") or None,
-        "holds_share": _number(row.get("holds_share")),
-        "outcome": row.get("outcome"),
-        "remedies": [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]],
-    })
-    return data
+    """One checked frame: the frame's object plus the requirement and remedies (one row of
+    ``check_records``)."""
+    import pandas as pd
+
+    return check_records(pd.DataFrame([dict(row)]))[0]
+
+
+_CHECK_KEYS = ("required_near_m", "required_far_m", "needed_f_number", "better_focus_m", "better_f_number",
+               "stack_frames", "stack_f_number", "single_frame_f_number", "remedy", "holds_share", "outcome",
+               "remedies")
+
+
+def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
+    """Checked frames in the machine interface: each frame's object (``frames_records``)
+    plus the requirement and remedies, built a column at a time; the remedies' words only
+    for frames with a verdict."""
+    count = len(frames)
+    flag_lists = frames["flags"].tolist()
+    remedies: list = [[] for _ in range(count)]
+    noted = [position for position, flags in enumerate(flag_lists) if len(flags)]
+    if noted:
+        for position, row in zip(noted, _records(frames.iloc[noted])):
+            remedies[position] = [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]]
+    remedy = [value or None for value in _texts(frames, "remedy")]
+    columns = [
+        _metres(frames, "required_near_mm"), _metres(frames, "required_far_mm"), _numbers(frames, "needed_f_number"),
+        _metres(frames, "better_focus_mm"), _numbers(frames, "better_f_number"),
+        _whole(frames, "stack_frames", positive=True), _numbers(frames, "stack_f_number"),
+        _numbers(frames, "single_frame_f_number"), remedy, _numbers(frames, "holds_share"),
+        _texts(frames, "outcome"), remedies,
+    ]
+    return _objects(_FRAME_KEYS + _CHECK_KEYS, _frame_columns(frames) + columns)
 
 
 def rows_json(frames: pd.DataFrame, item=frame_json) -> list[dict[str, Any]]:
-    return [item(row) for row in frames.to_dict("records")]
+    """Every row in the machine interface: ``item`` is ``frame_json`` or ``check_json``."""
+    return (check_records if item is check_json else frames_records)(frames)
 
 
 CSV_COLUMNS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "focus_m", "focus_source", "coc_mm",
@@ -161,20 +266,62 @@ CSV_COLUMNS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "focus_m
 
 def frames_csv(frames: pd.DataFrame) -> str:
     """Frames as CSV text: distances in metres, ``inf`` for infinity, flags joined by ``;``."""
+    return "".join(stream_csv([frames]))
+
+
+def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
+    """CSV text of ``frames_csv``, a piece per chunk of frames (the header first)."""
     import csv
 
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
-    for row in rows_json(frames):
-        values = []
-        for column in CSV_COLUMNS:
-            value = row.get(column)
-            if column == "flags":
-                value = ";".join(value)
-            values.append("" if value is None else safe_cell(value))
-        writer.writerow(values)
-    return buffer.getvalue()
+    for frames in chunks:
+        records = frames_records(frames)
+        writer.writerows([_csv_cell(row[column]) for column in CSV_COLUMNS] for row in records)
+        yield buffer.getvalue()
+        buffer.seek(0)
+        buffer.truncate()
+    if buffer.tell():
+        yield buffer.getvalue()
+
+
+def _csv_cell(value: Any) -> Any:
+    if value is None:
+        return ""
+    if isinstance(value, list):
+        value = ";".join(value)
+    return safe_cell(value)
+
+
+def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
+    """The objects as JSON text joined by ``separator``: compact, UTF-8 (orjson; every
+    value is already plain: no NaN, infinity as ``"inf"``)."""
+    import orjson
+
+    return separator.join([orjson.dumps(item, default=plain).decode() for item in objects])
+
+
+def stream_json(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
+    """The ``--json`` document, a piece per chunk of frames: a list of objects
+    (``records`` is ``frames_records`` or ``check_records``), one compact object a line,
+    each line indented by two spaces; ``[]`` when no frame matches."""
+    started = False
+    for frames in chunks:
+        objects = records(frames)
+        if not objects:
+            continue
+        yield (",\n  " if started else "[\n  ") + _encoded(objects, ",\n  ")
+        started = True
+    yield "\n]\n" if started else "[]\n"
+
+
+def stream_jsonl(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
+    """``--jsonl``: the objects of ``stream_json``, one a line, nothing around them."""
+    for frames in chunks:
+        objects = records(frames)
+        if objects:
+            yield _encoded(objects, "\n") + "\n"
 
 
 def _short_path(path: str) -> str:

@@ -1,0 +1,92 @@
+"""Machine output written a chunk at a time: the same frames, in the same order, whatever the
+chunk size; ``--json`` a list of objects and ``--jsonl`` one object a line, both read back by
+Python's own ``json`` module (RFC 8259 parser, the reference for "valid JSON" here)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+
+from typer.testing import CliRunner
+
+from sharpzone.cli.app import app
+from tests.cli.test_frames_commands import shoot_catalog  # noqa: F401  (the five-frame shoot)
+
+runner = CliRunner()
+
+
+def run(url, *args):
+    return runner.invoke(app, ["--catalog", url, *args])
+
+
+def test_chunks_give_the_frames_of_one_pass_in_the_same_order(shoot_catalog, monkeypatch):  # noqa: F811
+    from sharpzone.analysis.frames import FrameFilter, check_shoot, iter_check_shoot
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.report.frames_render import check_records
+
+    with session_scope(shoot_catalog) as session:
+        whole = check_records(check_shoot(session, FrameFilter()).frames)
+        chunks = list(iter_check_shoot(session, FrameFilter(), chunk_rows=2))
+        pieces = [item for chunk in chunks for item in check_records(chunk)]
+    assert [len(chunk) for chunk in chunks] == [2, 2, 1]
+    assert pieces == whole
+    assert [item["path"].rsplit("/", 1)[1] for item in whole] == [
+        "held.jpg", "wide.jpg", "misfocused.jpg", "unknown.jpg", "infinity.jpg"]  # capture order
+
+
+def test_streamed_json_is_one_document_whatever_the_chunk(shoot_catalog, monkeypatch):  # noqa: F811
+    import sharpzone.analysis.frames as frames_module
+
+    whole = run(shoot_catalog, "check", "--json")
+    monkeypatch.setattr(frames_module, "CHUNK_ROWS", 2)
+    monkeypatch.setattr(frames_module.iter_checked, "__kwdefaults__",
+                        {**frames_module.iter_checked.__kwdefaults__, "chunk_rows": 2})
+    chunked = run(shoot_catalog, "check", "--json")
+    assert whole.exit_code == 0 and chunked.exit_code == 0, whole.output + chunked.output
+    assert chunked.stdout == whole.stdout
+    document = json.loads(whole.stdout)
+    assert isinstance(document, list) and len(document) == 5
+    by_name = {item["path"].rsplit("/", 1)[1]: item for item in document}
+    assert by_name["infinity.jpg"]["far_m"] == "inf" and by_name["infinity.jpg"]["focus_m"] == "inf"
+    assert by_name["unknown.jpg"]["focus_m"] is None
+    # One object a line, indented by two spaces, between the brackets.
+    lines = whole.stdout.splitlines()
+    assert lines[0] == "[" and lines[-1] == "]" and all(line.startswith("  {") for line in lines[1:-1])
+
+
+def test_jsonl_is_the_json_objects_one_a_line(shoot_catalog):  # noqa: F811
+    for command in ("frames", "check"):
+        listed = json.loads(run(shoot_catalog, command, "--json").stdout)
+        lines = run(shoot_catalog, command, "--jsonl").stdout.splitlines()
+        assert [json.loads(line) for line in lines] == listed
+
+
+def test_csv_streams_the_same_rows_as_the_frames_json(shoot_catalog):  # noqa: F811
+    listed = json.loads(run(shoot_catalog, "frames", "--json").stdout)
+    for command in ("frames", "check"):
+        rows = list(csv.DictReader(io.StringIO(run(shoot_catalog, command, "--csv").stdout)))
+        assert [row["path"] for row in rows] == [item["path"] for item in listed]
+        assert [row["far_m"] for row in rows] == ["" if item["far_m"] is None else str(item["far_m"])
+                                                  for item in listed]
+
+
+def test_nothing_matching_is_an_empty_list(shoot_catalog):  # noqa: F811
+    assert run(shoot_catalog, "frames", "--json", "--f-min", "16").stdout == "[]\n"
+    assert run(shoot_catalog, "check", "--jsonl", "--f-min", "16").stdout == ""
+    assert run(shoot_catalog, "frames", "--csv", "--f-min", "16").stdout.splitlines()[0].startswith("path,")
+
+
+def test_check_json_refuses_a_shoot_without_plan_before_writing(catalog_url):
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_shoot
+
+    with session_scope(catalog_url) as session:
+        shoot = add_shoot(session, "Unplanned")
+        session.add(Frame(path="/shoots/x.jpg", file_size=1, file_mtime_ns=1, shoot=shoot, focal_mm=50.0,
+                          f_number=8.0, focus_mm=3000.0, focus_source="exif"))
+    result = run(catalog_url, "check", "--shoot", "Unplanned", "--json")
+    assert result.exit_code != 0
+    assert result.stdout == ""
+    assert "no plan" in result.output
