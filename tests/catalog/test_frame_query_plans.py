@@ -1,5 +1,5 @@
 """The frames query of ``frames``/``check``/``stats`` reads a shoot or a date range through an
-index, not the whole ``frame`` table (docs/stream.md): the plans as the database itself
+index, not the whole ``frame`` table (docs/streamed-output.md): the plans as the database itself
 reports them (PostgreSQL ``EXPLAIN``, SQLite ``EXPLAIN QUERY PLAN``; both documented in the
 servers' manuals). PostgreSQL is told ``SET enable_seqscan = off`` so that a small table
 shows the plan it would choose for a large one; SQLite prefers an index without statistics."""

@@ -257,7 +257,7 @@ class Frame(Base):
     path: Mapped[str] = mapped_column(Text, unique=True)
     file_size: Mapped[int] = mapped_column(BigInteger)
     file_mtime_ns: Mapped[int] = mapped_column(BigInteger)
-    # Indexed: check and frames over a date range read only those frames (docs/stream.md).
+    # Indexed: check and frames over a date range read only those frames (docs/streamed-output.md).
     captured_at: Mapped[Optional[dt.datetime]] = mapped_column(WallClockDateTime, index=True)
     utc_offset_minutes: Mapped[Optional[int]] = mapped_column(Integer)
     body_id: Mapped[Optional[int]] = mapped_column(ForeignKey("body.id"), index=True)
