@@ -175,7 +175,7 @@ def _frame_columns(frames: pd.DataFrame) -> list[list]:
     columns = [
         _texts(frames, "path"), _texts(frames, "shoot"), _texts(frames, "body"), _texts(frames, "lens"),
         _numbers(frames, "focal_mm"), _numbers(frames, "f_number"), _numbers(frames, "exposure_s"),
-        _numbers(frames, "iso"), _timestamps(frames, "captured_at"), _whole(frames, "utc_offset_minutes"),
+        _whole(frames, "iso"), _timestamps(frames, "captured_at"), _whole(frames, "utc_offset_minutes"),
         _metres(frames, "focus_mm"), _bracket(frames, "focus_near_mm"), _bracket(frames, "focus_far_mm"),
         _texts(frames, "focus_key", strings_only=True), _texts(frames, "focus_source"),
         _texts(frames, "format_name"), _numbers(frames, "coc_mm"), _texts(frames, "coc_policy"),
