@@ -140,6 +140,12 @@ def _inches_text(inches: float, decimals: int) -> str:
     return f"{whole}½" if inches - whole >= 0.25 else f"{whole}"
 
 
+def format_focal_length(focal_mm: float | None) -> str:
+    """A focal length as lenses are marked: ``35 mm``, ``4.5 mm``, ``85 mm`` (three figures
+    at most, no trailing zeros); ``—`` when unknown."""
+    return "—" if focal_mm is None else f"{focal_mm:.3g} mm"
+
+
 def format_length_mm(value_mm: float | None, *, digits: int = 3) -> str:
     """Format a small optical length (focal length, CoC, Airy disk) in millimetres."""
     if value_mm is None:

@@ -18,7 +18,7 @@ from sharpzone.report.inert import inert
 from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.report.jsonout import metres, plain
 from sharpzone.report.verdicts import blur_size, describe_flag
-from sharpzone.units import format_distance, format_f_number, format_length_mm, format_zone
+from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
 
 if TYPE_CHECKING:
     from collections.abc import Iterable, Iterator
@@ -347,9 +347,7 @@ def _blur_at_focus(row) -> str:
     return blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc")))
 
 
-def _focal_text(focal_mm: float | None) -> str:
-    """A focal length as lenses mark it: ``35 mm``, ``4.5 mm``."""
-    return "—" if focal_mm is None else f"{focal_mm:.3g} mm"
+_focal_text = format_focal_length  # as lenses are marked: 35 mm, 4.5 mm
 
 
 def _closeup(row) -> bool:

@@ -23,7 +23,7 @@ from sharpzone.analysis.report_page import PASSED, primary_verdict, verdict_kind
 from sharpzone.errors import InvalidValue, SharpzoneError
 from sharpzone.report.frames_render import _plans_line, _zone_text
 from sharpzone.report.verdicts import describe_flag, flag_word, format_exposure
-from sharpzone.units import format_distance, format_f_number, format_length_mm, format_round_distance
+from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_round_distance
 
 if TYPE_CHECKING:
     from sharpzone.analysis.report_page import DistanceScale, ReportData
@@ -284,7 +284,7 @@ def _picture(thumbnail, path: str) -> str:
 
 
 def _setting(row: dict, imperial: bool) -> str:
-    parts = [format_length_mm(_number(row.get("focal_mm"))), format_f_number(_number(row.get("f_number")))]
+    parts = [format_focal_length(_number(row.get("focal_mm"))), format_f_number(_number(row.get("f_number")))]
     exposure = _number(row.get("exposure_s"))
     if exposure:
         parts.append(format_exposure(exposure))
