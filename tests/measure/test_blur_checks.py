@@ -9,7 +9,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from sharpzone.analysis.blur_checks import FOCUS_MARGIN, PREVIEW_FLOOR_PX, blur_flags, count_problems, where_in_frame
+from sharpzone.analysis.blur_checks import FOCUS_MARGIN, PREVIEW_FLOOR_PX, blur_flags, where_in_frame
+from sharpzone.analysis.checks import count_problems
 from sharpzone.report.verdicts import describe_flag
 
 COC_FULL_FRAME = math.hypot(36, 24) / 1500  # diagonal / 1500 (common practice)

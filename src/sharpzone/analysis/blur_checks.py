@@ -27,12 +27,12 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from sharpzone.optics.formats import FULL_FRAME_DIAGONAL_MM  # for the 35 mm equivalent focal length
+
 if TYPE_CHECKING:
     import pandas as pd
 
 BLUR_FLAGS = ("focus-missed", "soft-all-over", "sharp-at-focus", "not-measurable")
-# Verdicts that are good news: a frame carrying only these has passed.
-NOTE_FLAGS = frozenset({"sharp-at-focus"})
 # The focus point must be this many times the limit to call a miss (borderline frames get
 # no blur verdict rather than a wrong one).
 FOCUS_MARGIN = 1.5
@@ -40,8 +40,6 @@ FOCUS_MARGIN = 1.5
 # analysed picture): measured on the validation images with camera-like noise and JPEG
 # compression (tests/measure/test_validation.py), rounded up.
 PREVIEW_FLOOR_PX = 3.0
-# The diagonal of the 36 × 24 mm format, for the 35 mm equivalent focal length.
-FULL_FRAME_DIAGONAL_MM = 43.2666
 
 _STORED = {
     "method": "blur_method", "method_version": "blur_method_version", "analysed_long_px": "blur_analysed_long_px",
@@ -52,10 +50,6 @@ _STORED = {
 }
 _FRAME = {"focal_35mm_mm": "focal_35mm_mm", "focus_point_x": "focus_point_x"}
 
-
-def count_problems(flags) -> int:
-    """How many of a frame's verdicts are problems (``sharp-at-focus`` is not one)."""
-    return sum(1 for flag in flags if flag not in NOTE_FLAGS)
 
 
 def blur_select() -> list:

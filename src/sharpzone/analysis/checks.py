@@ -183,6 +183,12 @@ def outcomes_from_flags(flag_matrix: np.ndarray, codes: tuple[str, ...]) -> np.n
                      ["flagged", "uncertain", "unjudged"], default="passed").astype(object)
 
 
+def count_problems(flags) -> int:
+    """How many of a frame's verdicts are problems: every kind but the good news
+    (``FLAG_KINDS`` "note" and "sharp", e.g. ``sharp-at-focus``)."""
+    return sum(1 for flag in flags if FLAG_KINDS.get(flag, "missed") not in ("note", "sharp"))
+
+
 def flagged_share(outcomes) -> float | None:
     """Flagged frames over judged frames (passed, flagged or uncertain); ``None`` when none
     was judged. The one definition behind every share flagged."""

@@ -38,7 +38,7 @@ def format_lookup(catalog_location: str | None = None) -> FormatLookup:
         from sharpzone.catalog.engine import session_scope
         from sharpzone.catalog.service import get_format
 
-        with session_scope(url) as session:
+        with session_scope(url, write=False) as session:  # a look-up: never creates or changes one
             return get_format(session, name).to_core()
 
     return lookup
@@ -63,7 +63,7 @@ def catalog_lens_optics(name: str, catalog_location: str | None = None) -> LensO
     from sharpzone.catalog.location import resolve_catalog_url
     from sharpzone.catalog.service import get_lens
 
-    with session_scope(resolve_catalog_url(catalog_location)) as session:
+    with session_scope(resolve_catalog_url(catalog_location), write=False) as session:  # read only
         row = get_lens(session, name)  # by name or EXIF alias
         prime = row.focal_min_mm if row.focal_min_mm == row.focal_max_mm else None
         return LensOptics(row.name, prime, row.focal_max_mm, row.close_focus_mm, row.max_magnification, row.pupil_magnification or 1.0)

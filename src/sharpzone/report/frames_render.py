@@ -11,7 +11,8 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from sharpzone.analysis.blur_checks import BLUR_FLAGS, count_problems
+from sharpzone.analysis.blur_checks import BLUR_FLAGS
+from sharpzone.analysis.checks import count_problems
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
@@ -334,7 +335,7 @@ def _flag_style(flag: str) -> str:
 
 def _flags_text(flags: list[str], separator: str = " ") -> Text:
     parts = [styled(flag, _flag_style(flag)) for flag in flags]
-    if not count_problems(flags):  # no verdict, or only good news (sharp-at-focus)
+    if not count_problems(flags):  # no verdict, or only notes and good news
         parts.insert(0, styled("passed", PASSED_STYLE))
     return Text(separator).join(parts)
 
