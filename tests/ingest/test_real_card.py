@@ -105,6 +105,9 @@ def test_a_body_given_its_format_after_ingest_is_judged_without_a_new_ingest(car
     assert waiting, summary
     assert all(item["command"] == f"sharpzone body edit '{item['body']}' --format FORMAT"
                for item in summary["needs_format"])
+    # A rerun over the unchanged card reads no file, and still says what is waiting.
+    again = runner.invoke(app, ["--catalog", catalog, "ingest", str(card), "--shoot", "Quay", "--json"])
+    assert sorted(item["body"] for item in json.loads(again.stdout)["needs_format"]) == sorted(waiting)
     before = _frames(catalog)
     unjudged = [name for name, item in before.items() if item["body"] in waiting]
     assert unjudged and all(before[name]["near_m"] is None for name in unjudged)

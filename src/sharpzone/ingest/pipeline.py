@@ -337,16 +337,19 @@ def _update_user_distances(catalog: Catalog, changes: list[tuple[str, float]]) -
                 focus_key=USER_DISTANCES_KEY))
 
 
-def _still_without_format(catalog: Catalog, names: list[str]) -> list[str]:
-    """Those of the bodies ``names`` that still have no sensor format (a later frame may
-    have told it), in the order given."""
-    from sqlalchemy import select
+def _still_without_format(catalog: Catalog, names: list[str], shoot_id: int | None) -> list[str]:
+    """The bodies that still have no sensor format: those of ``names`` (met in this run; a
+    later frame may have told it) in the order given, then any other body of the shoot's
+    frames, so a rerun over unchanged files still says what keeps its frames unjudged."""
+    from sqlalchemy import or_, select
 
-    from sharpzone.catalog.models import Body
+    from sharpzone.catalog.models import Body, Frame
 
+    in_shoot = Body.id.in_(select(Frame.body_id).where(Frame.shoot_id == shoot_id)) if shoot_id is not None else None
+    wanted = Body.name.in_(names) if in_shoot is None else or_(Body.name.in_(names), in_shoot)
     with catalog.session_scope() as session:
-        missing = set(session.scalars(select(Body.name).where(Body.name.in_(names), Body.format_id.is_(None))))
-    return [name for name in names if name in missing]
+        missing = sorted(session.scalars(select(Body.name).where(wanted, Body.format_id.is_(None))))
+    return [name for name in names if name in missing] + [name for name in missing if name not in names]
 
 
 def _move_frames(catalog: Catalog, paths: list[str], target: _Target) -> None:
@@ -502,8 +505,8 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
         summary.unchanged -= len(plan.distance_changes)
         summary.updated += len(plan.distance_changes)
     _file_elsewhere(catalog, plan, target, summary, shoot_names)
-    if summary.needs_format:
-        summary.needs_format = _still_without_format(catalog, summary.needs_format)
+    if summary.needs_format or target.id is not None:
+        summary.needs_format = _still_without_format(catalog, summary.needs_format, target.id)
 
     found = plan.found
     found.update(printable_path(problem.path) for problem in plan.scan_problems)
