@@ -338,33 +338,13 @@ def _thumbnail(item: tuple[str, int, int]) -> tuple[str, Thumbnail]:
     from sharpzone.ingest.records import FileReadError
 
     try:
-        image = load_preview(path, long_side_px).image
-        if max(image.size) < long_side_px * 0.9:
-            # Only a small embedded thumbnail (cameras write 160 × 120): the image itself,
-            # where Pillow decodes it, gives a sharper picture.
-            image = _decoded_directly(path, long_side_px) or image
-        image = _upright(image, path)
+        image = _upright(load_preview(path, long_side_px).image, path)
         data, image = _jpeg_within(image, max_bytes)
     except FileReadError as error:
         return path, Thumbnail(None, problem=error.reason)
     except Exception as error:  # noqa: BLE001 - a hostile file must not stop the page
         return path, Thumbnail(None, problem=f"cannot make a picture ({type(error).__name__})")
     return path, Thumbnail(data, image.size[0], image.size[1])
-
-
-def _decoded_directly(path: str, long_side_px: int):
-    from PIL import Image
-
-    try:
-        with Image.open(path) as opened:
-            if opened.format != "JPEG" or max(opened.size) <= long_side_px:
-                return None
-            opened.draft("RGB", (long_side_px, long_side_px))
-            image = opened.convert("RGB")
-        image.thumbnail((long_side_px, long_side_px), Image.Resampling.LANCZOS)
-        return image
-    except Exception:  # noqa: BLE001 - fall back to the preview we have
-        return None
 
 
 # EXIF Orientation (CIPA DC-008 tag 0x0112) → the Pillow transpose that makes the picture upright.

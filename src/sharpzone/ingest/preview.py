@@ -20,6 +20,8 @@ MAX_DECODED_PIXELS = 120_000_000
 # Previews bigger than this many bytes are not metadata but damage.
 _MAX_PREVIEW_BYTES = 64 << 20
 _DIRECT_EXTENSIONS = frozenset({".jpg", ".jpeg", ".jpe", ".png", ".tif", ".tiff", ".webp"})
+# The kinds whose decoder can skip detail (draft mode), so decoding the file itself is cheap.
+_DRAFT_EXTENSIONS = frozenset({".jpg", ".jpeg", ".jpe"})
 
 
 @dataclass(frozen=True)
@@ -40,18 +42,23 @@ def load_preview(path: str | os.PathLike, long_side_px: int) -> Preview:
     """The frame at ``path`` decoded with its long side at most ``long_side_px`` pixels.
 
     Tries the embedded previews first (the smallest that is at least ``long_side_px`` on its
-    long side, else the largest), then the file itself for the kinds Pillow decodes.
+    long side, else the largest), then the file itself for the kinds Pillow decodes. A JPEG
+    whose only previews are smaller than asked (cameras write a 160 × 120 thumbnail) is
+    decoded itself in draft mode, which gives the sharper picture at little cost.
     Raises ``FileReadError`` with a short reason when neither gives a picture.
     """
     from PIL import Image
 
     Image.MAX_IMAGE_PIXELS = MAX_DECODED_PIXELS
     path = os.fspath(path)
-    data, source = _embedded_preview(path, long_side_px)
+    data, source, preview_long = _embedded_preview(path, long_side_px)
+    extension = os.path.splitext(path)[1].lower()
+    if data is not None and preview_long < long_side_px * 0.9 and extension in _DRAFT_EXTENSIONS:
+        data = None  # too small a preview: the JPEG itself, decoded at reduced size
     try:
         if data is not None:
             image = Image.open(io.BytesIO(data))
-        elif os.path.splitext(path)[1].lower() in _DIRECT_EXTENSIONS:
+        elif extension in _DIRECT_EXTENSIONS:
             image = Image.open(path)
             source = "the image itself"
         else:
@@ -70,12 +77,13 @@ def load_preview(path: str | os.PathLike, long_side_px: int) -> Preview:
     return Preview(image=image, source=source)
 
 
-def _embedded_preview(path: str, long_side_px: int) -> tuple[bytes | None, str]:
-    """The bytes of the embedded preview that best fits, or (None, '') when there is none."""
+def _embedded_preview(path: str, long_side_px: int) -> tuple[bytes | None, str, int]:
+    """The bytes of the embedded preview that best fits, where it came from and its long
+    side in pixels, or (None, '', 0) when there is none."""
     try:
         import exiv2
     except ImportError:  # the metadata reader is optional for this step: fall back to Pillow
-        return None, ""
+        return None, "", 0
     from sharpzone.ingest.exiv2_quiet import silence_exiv2
 
     silence_exiv2()
@@ -85,10 +93,11 @@ def _embedded_preview(path: str, long_side_px: int) -> tuple[bytes | None, str]:
         manager = exiv2.PreviewManager(image)
         candidates = [p for p in manager.getPreviewProperties() if 0 < p.size_ <= _MAX_PREVIEW_BYTES]
         if not candidates:
-            return None, ""
+            return None, "", 0
         big_enough = [p for p in candidates if max(p.width_, p.height_) >= long_side_px]
         chosen = min(big_enough, key=lambda p: p.size_) if big_enough else max(candidates, key=lambda p: p.size_)
         preview = manager.getPreviewImage(chosen)
-        return bytes(preview.copy()), f"embedded preview {chosen.width_}×{chosen.height_}"
+        return (bytes(preview.copy()), f"embedded preview {chosen.width_}×{chosen.height_}",
+                max(chosen.width_, chosen.height_))
     except exiv2.Exiv2Error:
-        return None, ""
+        return None, "", 0
