@@ -301,3 +301,17 @@ def test_bad_requests_get_one_clear_line(shoot, tmp_path, monkeypatch, args, mes
     result = runner.invoke(app, ["--catalog", shoot.catalog_url, "report", *args])
     assert result.exit_code in (1, 2) and message in result.stderr, result.output
     assert not (tmp_path / "page.html").exists()
+
+
+def test_a_depth_plan_frame_focused_at_infinity_names_no_infinite_zone_as_needed():
+    """A subject depth around a focus at ∞ is no zone to show: the page says what was needed
+    instead of "needed ∞ – ∞" (the check's own remedy says to focus on the subject)."""
+    from sharpzone.report.page_html import _zone_words
+
+    inf = float("inf")
+    words = _zone_words({"near_mm": 12_000.0, "far_mm": inf, "required_near_mm": inf, "required_far_mm": inf},
+                        imperial=False)
+    assert "needed a subject in focus" in words and "∞ – ∞" not in words and "∞–∞" not in words
+    finite = _zone_words({"near_mm": 2_400.0, "far_mm": 4_100.0, "required_near_mm": 2_500.0,
+                          "required_far_mm": 4_000.0}, imperial=False)
+    assert finite == "sharp 2.40 m – 4.10 m · needed 2.50 m – 4.00 m"

@@ -335,7 +335,11 @@ def _zone_words(row: dict, imperial: bool) -> str:
     parts = [f"sharp {_zone_text(near, far, imperial)}" if near is not None else "sharp zone unknown"]
     need_near, need_far = _number(row.get("required_near_mm")), _number(row.get("required_far_mm"))
     if need_near is not None and need_far is not None:
-        parts.append(f"needed {_zone_text(need_near, need_far, imperial)}")
+        if math.isinf(need_near):
+            # A depth around the subject, from a focus at infinity: no distance to show.
+            parts.append("needed a subject in focus, not ∞")
+        else:
+            parts.append(f"needed {_zone_text(need_near, need_far, imperial)}")
     return _text(" · ".join(parts))
 
 
