@@ -53,6 +53,23 @@ def merged(row, **changes) -> dict:
     return {field: getattr(row, field) if value is None else value for field, value in changes.items()}
 
 
+def saved(session: Session, row: Row, apply, arguments: dict) -> Row:
+    """``row`` after ``apply(session, row, **changes)`` has validated and set its new state
+    (``None`` in ``changes`` keeps a field: a new row has none yet), added when new, flushed.
+
+    ``arguments`` are the calling ``add_*`` or ``edit_*`` function's own, its ``locals()``
+    taken first thing, so that each field is written once, in that function's signature: the
+    session is left out, and an edit's ``new_name`` stands for ``name`` (the row looked up)."""
+    changes = {field: value for field, value in arguments.items() if field != "session"}
+    if "new_name" in changes:
+        changes["name"] = changes.pop("new_name")
+    apply(session, row, **changes)
+    if row not in session:
+        session.add(row)
+    session.flush()
+    return row
+
+
 def count_of(session: Session, column, value) -> int:
     """How many rows have ``column == value``."""
     return session.scalar(select(func.count()).where(column == value)) or 0
