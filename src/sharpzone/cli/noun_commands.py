@@ -70,6 +70,14 @@ def show_row(row, noun: Noun, *, as_json: bool = False, imperial: bool = False, 
         tables().render_record(row, fields, title=title or f"{noun.name.capitalize()} {row.name}", imperial=imperial)
 
 
+def show_saved(ctx: typer.Context, noun: Noun, verb: str, write: Callable) -> None:
+    """Run ``write(session)`` (an add or edit service call) in one unit of work and show the
+    row it returns, titled e.g. 'Added body K7'."""
+    with catalog_session(ctx) as session:
+        row = write(session)
+    show_row(row, noun, title=f"{verb} {noun.name} {row.name}")
+
+
 def _run_list(ctx: typer.Context, noun: Noun, as_json: bool, imperial: bool, wide: bool = False) -> None:
     with catalog_session(ctx) as session:
         rows = noun.list_rows(session)
@@ -86,9 +94,10 @@ def _run_show(ctx: typer.Context, noun: Noun, name: str, as_json: bool, imperial
     show_row(row, noun, as_json=as_json, imperial=imperial)
 
 
-def noun_group(noun: Noun, help: str) -> typer.Typer:
+def noun_group(noun: Noun, help: str) -> tuple[typer.Typer, Callable[[typer.Typer], None]]:
     """A command group for ``noun`` with its ``list`` and ``show`` commands (``--imperial``
-    where distances show); the group's module adds the commands that write."""
+    where distances show), and the ``register(app)`` that adds it to the application under
+    the noun's name; the group's module adds the commands that write."""
     group = typer.Typer(help=help, no_args_is_help=True)
 
     if noun.has_distances:
@@ -110,12 +119,19 @@ def noun_group(noun: Noun, help: str) -> typer.Typer:
 
     group.command("list", help=noun.list_help)(list_command)
     group.command("show", help=noun.show_help)(show_command)
-    return group
+
+    def register(app: typer.Typer) -> None:
+        app.add_typer(group, name=noun.name)
+
+    return group, register
 
 
-def removed_line(what: str, name: str, moved: int, reassign_to: str | None) -> None:
-    """The one line after removing a body or lens whose frames may have moved to another."""
-    say(f"Removed {what} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+def remove_reassigning(ctx: typer.Context, noun: Noun, name: str, reassign_to: str | None, remove: Callable) -> None:
+    """Run ``remove(session)`` (a body's or lens's removal; it returns how many frames moved
+    to ``reassign_to``) in one unit of work and say so in one line."""
+    with catalog_session(ctx) as session:
+        moved = remove(session)
+    say(f"Removed {noun.name} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
 
 
 # ---- option parsers ---------------------------------------------------------------------
@@ -145,6 +161,11 @@ def number_option(value: str | None, option: str) -> float | None:
         return float(value)
     except ValueError:
         raise InvalidValue(option=f"--{option}", what="value", value=value, problem="is not a number") from None
+
+
+def given(values: dict) -> dict:
+    """The options given (not ``None``), so that the service's own defaults stand for the rest."""
+    return {key: value for key, value in values.items() if value is not None}
 
 
 def maybe(parse, value: str | None, option: str):
