@@ -353,14 +353,11 @@ def sheet_from_catalog(
     sensor: str | None = None,
     coc_mm: float | None = None,
     coc_policy: str | None = None,
-    focal_lengths: Sequence[float] | None = None,
-    stops: str = "full",
-    distances: Sequence[float] | None = None,
-    reference: str = "sensor",
-    imperial: bool = False,
+    **sheet_options,
 ) -> Sheet:
     """The sheet of the catalogued lens ``lens_name`` (name or EXIF alias) for the format of
-    ``body`` or the format called ``sensor`` (default 36x24); see ``build_sheet``."""
+    ``body`` or the format called ``sensor`` (default 36x24); ``sheet_options`` are
+    ``build_sheet``'s (``focal_lengths``, ``stops``, ``distances``, ``reference``, ``imperial``)."""
     from sharpzone.catalog.service import get_body, get_format, get_lens
 
     if body and sensor:
@@ -378,5 +375,4 @@ def sheet_from_catalog(
         fmt = get_format(session, sensor or DEFAULT_SENSOR).to_core()
     coc = choose_coc(sensor=fmt.name, coc_mm=coc_mm, coc_policy=coc_policy, pixel_pitch_mm=pixel_pitch_mm,
                      lookup=lambda _name: fmt)
-    return build_sheet(lens, coc, focal_lengths=focal_lengths, stops=stops, distances=distances,
-                       reference=reference, imperial=imperial)
+    return build_sheet(lens, coc, **sheet_options)
