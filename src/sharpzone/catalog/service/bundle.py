@@ -277,13 +277,6 @@ def _atomic_file(target: Path):
 # ---- reading ----------------------------------------------------------------------------
 
 
-def read_bundle(source: str | os.PathLike) -> dict[str, list[dict]]:
-    """The tables of a bundle file (``.json`` or ``.zip``), values still in bundle form
-    (all rows in memory: for looking at small bundles; import streams instead)."""
-    with _bundle_stream(Path(source)) as (_form, tables):
-        return {table: list(rows) for table, rows in tables}
-
-
 @contextlib.contextmanager
 def _bundle_stream(path: Path):
     """``(form, tables)``: tables an iterator of ``(table name, iterator of rows)`` read
@@ -502,7 +495,7 @@ def import_catalog(session: Session, source: str | os.PathLike, *, replace: bool
 
 def import_tables(session: Session, tables: dict[str, Iterable[dict]] | Iterable[tuple[str, Iterable[dict]]], *,
                   replace: bool = False, form: str = "json") -> ImportResult:
-    """Import bundle-form ``tables`` (as ``read_bundle`` or ``bundle_tables`` give them, or
+    """Import bundle-form ``tables`` (as ``bundle_tables`` gives them, or
     an iterator of ``(table, rows)``), in dependency order; ``form`` says how values are
     written (``"json"``: typed; ``"csv"``: text).
 

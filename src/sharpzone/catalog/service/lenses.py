@@ -6,7 +6,7 @@ f-numbers at the short and long end, ``min_aperture`` the largest (e.g. 22).
 
 from __future__ import annotations
 
-from sqlalchemy import func, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Lens, LensAlias
@@ -120,12 +120,6 @@ def remove_lens_alias(session: Session, exif_name: str) -> Lens:
     lens.aliases.remove(alias)
     session.flush()
     return lens
-
-
-def lens_frame_counts(session: Session) -> dict[int, int]:
-    """How many frames each lens id has (lenses without frames are absent)."""
-    rows = session.execute(select(Frame.lens_id, func.count()).where(Frame.lens_id.is_not(None)).group_by(Frame.lens_id))
-    return {lens_id: count for lens_id, count in rows}
 
 
 def _apply(session, lens, *, max_magnification=None, **changes) -> None:

@@ -93,14 +93,6 @@ def remove_shoot(session: Session, name: str, *, with_frames: bool = False) -> i
     return frames
 
 
-def validate_coc_policy(text: str) -> str:
-    """The canonical text of a circle-of-confusion policy (``InvalidValue`` if the optics
-    core does not understand it), as stored in ``Shoot.coc_policy``."""
-    from sharpzone.optics.coc import parse_coc_policy
-
-    return parse_coc_policy(text).spec
-
-
 def _apply(session, shoot, *, name, near_mm, far_mm, front_mm, back_mm, clear_plan=False, **details) -> None:
     """Validate and set the new state of ``shoot`` (``None`` keeps a field: a new shoot has
     none yet): its name, its plan (one limit of the plan's kind keeps the other; switching
