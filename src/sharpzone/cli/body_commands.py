@@ -7,7 +7,18 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.noun_commands import NewNameOpt, Noun, ReassignOpt, noun_group, remove_reassigning, service, show_saved, tables
+from sharpzone.cli.noun_commands import (
+    NewNameOpt,
+    Noun,
+    ReassignOpt,
+    UnconfirmedOpt,
+    confirmed_option,
+    noun_group,
+    remove_reassigning,
+    service,
+    show_saved,
+    tables,
+)
 from sharpzone.cli.option_groups import OptionGroup, uses
 from sharpzone.errors import InvalidValue
 
@@ -23,6 +34,7 @@ MakeOpt = Annotated[Optional[str], typer.Option("--make", help="EXIF Make exactl
 ModelOpt = Annotated[Optional[str], typer.Option("--model", help="EXIF Model exactly as the camera writes it.")]
 SerialOpt = Annotated[Optional[str], typer.Option("--serial", help="EXIF body serial number, to tell two bodies of one model apart ('' clears it).")]
 FormatOpt = Annotated[Optional[str], typer.Option("--format", help="Sensor format name or alias (see 'sharpzone format list').")]
+ConfirmedOpt = confirmed_option("body")
 PixelsOpt = Annotated[Optional[str], typer.Option("--pixels", help="Full image size in pixels, e.g. 6000x4000.")]
 
 
@@ -52,7 +64,7 @@ def body_add(
     ctx: typer.Context,
     name: Annotated[str, typer.Argument(help="Our name for the body, unique.")],
     fields: dict,
-    unconfirmed: Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")] = False,
+    unconfirmed: UnconfirmedOpt = False,
 ) -> None:
     """Add a camera body (--make, --model and --format are required)."""
     if None in (fields["exif_make"], fields["exif_model"], fields["format_name"]):
@@ -69,7 +81,7 @@ def body_edit(
     new_name: NewNameOpt = None,
     *,
     fields: dict,
-    confirmed: Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help="Mark the body as checked (or not).", show_default=False)] = None,
+    confirmed: ConfirmedOpt = None,
 ) -> None:
     """Change a camera body; its frames follow."""
     show_saved(ctx, NOUN, "Changed",

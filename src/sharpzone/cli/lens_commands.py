@@ -11,6 +11,8 @@ from sharpzone.cli.noun_commands import (
     NewNameOpt,
     Noun,
     ReassignOpt,
+    UnconfirmedOpt,
+    confirmed_option,
     given,
     maybe,
     noun_group,
@@ -41,6 +43,7 @@ ApertureRangeOpt = Annotated[Optional[str], typer.Option("--aperture", help="Wid
 MinApertureOpt = Annotated[Optional[str], typer.Option("--min-aperture", help="Smallest aperture (largest f-number), e.g. 22.")]
 CloseFocusOpt = Annotated[Optional[str], typer.Option("--close-focus", help=f"Closest focus distance from the sensor: {DISTANCE_HELP}.")]
 PupilOpt = Annotated[Optional[str], typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter; 1 for a symmetric lens).")]
+ConfirmedOpt = confirmed_option("lens")
 MaxMagnificationOpt = Annotated[Optional[str], typer.Option(
     "--max-magnification", help="Image scale reached at the close-focus distance, from the lens's "
     "specification: 1:1, 1:2, 0.25x or 0.5 (a zoom's at its long end; 0 clears it). Lets the "
@@ -90,7 +93,7 @@ def lens_add(
     name: Annotated[str, typer.Argument(help="Our name for the lens, unique.")],
     numbers: dict,
     exif_name: Annotated[Optional[list[str]], typer.Option("--exif-name", help="EXIF LensModel text that names this lens; repeat for more.")] = None,
-    unconfirmed: Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")] = False,
+    unconfirmed: UnconfirmedOpt = False,
 ) -> None:
     """Add a lens (--focal and --aperture are required)."""
     if numbers["focal_min_mm"] is None or numbers["max_aperture_wide"] is None:
@@ -108,7 +111,7 @@ def lens_edit(
     new_name: NewNameOpt = None,
     *,
     numbers: dict,
-    confirmed: Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help="Mark the lens as checked (or not).", show_default=False)] = None,
+    confirmed: ConfirmedOpt = None,
 ) -> None:
     """Change a lens; every frame taken with it follows."""
     show_saved(ctx, NOUN, "Changed",

@@ -21,6 +21,13 @@ from sharpzone.errors import InvalidValue
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (lengths in mm, distances in metres, infinity as \"inf\").")]
 NewNameOpt = Annotated[Optional[str], typer.Option("--name", help="A new name.")]
 ReassignOpt = Annotated[Optional[str], typer.Option("--reassign-to", help="Move the frames that use it to this one first.")]
+UnconfirmedOpt = Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")]
+
+
+def confirmed_option(what: str):
+    """``--confirmed/--unconfirmed`` of the edit command of ``what`` (a body or a lens)."""
+    return Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help=f"Mark the {what} as checked (or not).",
+                                                  show_default=False)]
 
 
 def say(text: str) -> None:
