@@ -10,11 +10,10 @@ import typer
 from sharpzone.cli.noun_commands import (
     NewNameOpt,
     Noun,
-    ReassignOpt,
     UnconfirmedOpt,
     confirmed_option,
     noun_group,
-    remove_reassigning,
+    reassigning_remove_command,
     service,
     show_saved,
     tables,
@@ -88,8 +87,5 @@ def body_edit(
                lambda session: service().edit_body(session, name, new_name=new_name, confirmed=confirmed, **fields))
 
 
-@body_app.command("remove")
-def body_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Body name.")], reassign_to: ReassignOpt = None) -> None:
-    """Remove a camera body; frames taken with it need --reassign-to."""
-    remove_reassigning(ctx, NOUN, name, reassign_to,
-                       lambda session: service().remove_body(session, name, reassign_to=reassign_to))
+reassigning_remove_command(body_app, NOUN, "Remove a camera body; frames taken with it need --reassign-to.",
+                           lambda session, name, to: service().remove_body(session, name, reassign_to=to))

@@ -10,7 +10,6 @@ import typer
 from sharpzone.cli.noun_commands import (
     NewNameOpt,
     Noun,
-    ReassignOpt,
     UnconfirmedOpt,
     confirmed_option,
     given,
@@ -18,7 +17,7 @@ from sharpzone.cli.noun_commands import (
     noun_group,
     number_option,
     range_option,
-    remove_reassigning,
+    reassigning_remove_command,
     say,
     service,
     show_saved,
@@ -118,11 +117,8 @@ def lens_edit(
                lambda session: service().edit_lens(session, name, new_name=new_name, confirmed=confirmed, **numbers))
 
 
-@lens_app.command("remove")
-def lens_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Lens name.")], reassign_to: ReassignOpt = None) -> None:
-    """Remove a lens and its EXIF names; frames taken with it need --reassign-to."""
-    remove_reassigning(ctx, NOUN, name, reassign_to,
-                       lambda session: service().remove_lens(session, name, reassign_to=reassign_to))
+reassigning_remove_command(lens_app, NOUN, "Remove a lens and its EXIF names; frames taken with it need --reassign-to.",
+                           lambda session, name, to: service().remove_lens(session, name, reassign_to=to))
 
 
 @lens_app.command("add-alias")

@@ -133,12 +133,18 @@ def noun_group(noun: Noun, help: str) -> tuple[typer.Typer, Callable[[typer.Type
     return group, register
 
 
-def remove_reassigning(ctx: typer.Context, noun: Noun, name: str, reassign_to: str | None, remove: Callable) -> None:
-    """Run ``remove(session)`` (a body's or lens's removal; it returns how many frames moved
-    to ``reassign_to``) in one unit of work and say so in one line."""
-    with catalog_session(ctx) as session:
-        moved = remove(session)
-    say(f"Removed {noun.name} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+def reassigning_remove_command(group: typer.Typer, noun: Noun, help: str, remove: Callable) -> None:
+    """Give ``group`` the ``remove`` command of a body or lens: its service function
+    ``remove(session, name, reassign_to)`` (returning how many frames moved) in one unit of
+    work, then one line saying where the frames went."""
+
+    def remove_command(ctx: typer.Context, name: str = typer.Argument(help=noun.argument_help),
+                       reassign_to: ReassignOpt = None) -> None:
+        with catalog_session(ctx) as session:
+            moved = remove(session, name, reassign_to)
+        say(f"Removed {noun.name} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+
+    group.command("remove", help=help)(remove_command)
 
 
 # ---- option parsers ---------------------------------------------------------------------
