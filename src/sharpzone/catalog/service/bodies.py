@@ -11,14 +11,12 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, Frame
+from sharpzone.catalog.rules import clean_name, optional_text, positive_int
 from sharpzone.catalog.service.common import (
-    clean_name,
     equal_ignoring_case,
     get_by_name,
     merged,
-    optional_text,
     remove_reassigning_frames,
-    positive_int,
     require_name_free,
     saved,
 )

@@ -1,6 +1,6 @@
 """Look-ups and steps shared by the service functions (public: ingest uses ``find_by_name``).
 
-The value checks live in ``sharpzone.catalog.rules`` and are re-exported here."""
+The value checks live in ``sharpzone.catalog.rules``."""
 
 from __future__ import annotations
 
@@ -10,7 +10,6 @@ from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame
-from sharpzone.catalog.rules import clean_name, optional_text, positive, positive_int  # noqa: F401 - re-exported
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 
 Row = TypeVar("Row")

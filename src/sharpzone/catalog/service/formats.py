@@ -12,7 +12,8 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, SensorFormatRow
-from sharpzone.catalog.service.common import clean_name, merged, plural, saved
+from sharpzone.catalog.rules import clean_name
+from sharpzone.catalog.service.common import merged, plural, saved
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 from sharpzone.optics.formats import SensorFormat
 from sharpzone.optics.limits import DIAGONAL_DIVISOR
