@@ -9,6 +9,7 @@ with 1/s + 1/v = 1/f (the Gaussian lens formula), so s = (D + √(D² − 4 f D)
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 # One-third stops as marked (encyclopedia article "F-number"; past f/22 the usual markings,
 # from memory); the exact value of the k-th is 2^(k/6) from f/1.
@@ -16,9 +17,25 @@ THIRD_STOPS = (1, 1.1, 1.2, 1.4, 1.6, 1.8, 2, 2.2, 2.5, 2.8, 3.2, 3.5, 4, 4.5, 5
                13, 14, 16, 18, 20, 22, 25, 29, 32, 36, 40, 45, 51, 57, 64)
 
 
+class MarkedStop(NamedTuple):
+    label: float
+    exact: float
+    value: float
+
+
 def stop_values():
     """(label, value to compute with) of each third stop: the smaller of label and exact."""
     return [(label, min(label, 2 ** (k / 6))) for k, label in enumerate(THIRD_STOPS)]
+
+
+def third_stop_wider(stop) -> MarkedStop | None:
+    """The third stop marked one step wider than ``stop`` (by its ``label``), or ``None`` at
+    f/1 and for a label outside ``THIRD_STOPS``."""
+    if stop.label not in THIRD_STOPS or stop.label == THIRD_STOPS[0]:
+        return None
+    k = THIRD_STOPS.index(stop.label) - 1
+    exact = 2 ** (k / 6)
+    return MarkedStop(THIRD_STOPS[k], exact, min(THIRD_STOPS[k], exact))
 
 
 def lens_distance(sensor_mm: float, f: float) -> float:

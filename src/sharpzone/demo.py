@@ -93,11 +93,11 @@ def _rational(value: float, denominator: int = 100):
 
 def _demo_jpeg(scenario: dict, lens: dict, frame: list, index: int) -> bytes:
     """A small JPEG with the EXIF a camera would write for this frame."""
-    from PIL import Image, ImageDraw
+    from PIL import Image
 
     from sharpzone.demo_scenes import SUBJECT, render_scene
 
-    file_name, _lens_name, focal, f_number, focus, exposure, iso, clock = frame[:8]
+    _file_name, _lens_name, focal, f_number, focus, exposure, iso, clock = frame[:8]
     scene = frame[8] if len(frame) > 8 else "sharp"
     image = Image.fromarray(render_scene(scene, seed=index))
     exif = Image.Exif()

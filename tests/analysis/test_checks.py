@@ -18,10 +18,17 @@ from sharpzone.analysis.stats import _group_stats
 from sharpzone.analysis.zones import add_zones
 from sharpzone.optics import plan_focus_stack
 from sharpzone.optics.coc import FixedCoc
-from sharpzone.optics.stops import next_wider, stop_series
+from sharpzone.optics.stops import stop_series
 from sharpzone.report.verdicts import describe_flag
 from tests.analysis.frames_factory import frames_frame
-from tests.independent_optics import holds_depth, holds_range, share_holding, stop_values, zone_from_sensor
+from tests.independent_optics import (
+    holds_depth,
+    holds_range,
+    share_holding,
+    stop_values,
+    third_stop_wider,
+    zone_from_sensor,
+)
 
 COC = FixedCoc(0.03)
 
@@ -71,7 +78,7 @@ def test_too_wide_open_and_its_remedy_holds():
     assert needed == expected
     stop = marked(needed)
     assert holds(50, stop.value, 3000, 2500, 4000)
-    wider = next_wider(stop)
+    wider = third_stop_wider(stop)
     assert not holds(50, wider.exact, 3000, 2500, 4000)
     assert "would have held it" in describe_flag("too-wide-open", row)
 
@@ -122,7 +129,7 @@ def test_a_workable_refocus_is_given_alone_not_beside_an_unreachable_f_number():
     better_focus, better = row["better_focus_mm"], marked(row["better_f_number"])
     assert better.label <= 16
     assert holds_range(50, better.value, 0.03, better_focus, 2500, 4000)
-    assert not holds_range(50, next_wider(better).exact, 0.03, better_focus, 2500, 4000)
+    assert not holds_range(50, third_stop_wider(better).exact, 0.03, better_focus, 2500, 4000)
     assert "f/16" not in describe_flag("focus-misplaced", row)
 
 
@@ -232,7 +239,7 @@ def test_a_frame_held_over_part_of_its_bracket_is_uncertain_with_the_share_and_a
     stop = marked(row["needed_f_number"])
     assert row["remedy"] == "stop-down"
     assert all(holds(50, stop.value, d, 2500, 4000) for d in bracket_ends(2800, 3300))
-    wider = next_wider(stop)
+    wider = third_stop_wider(stop)
     assert not all(holds(50, wider.value, d, 2500, 4000) for d in bracket_ends(2800, 3300))
     words = describe_flag("distance-uncertain", row)
     assert "2.80 m–3.30 m" in words and f"{row['holds_share']:.0%}" in words and "for any distance in it" in words
@@ -245,7 +252,7 @@ def test_a_frame_missed_over_its_whole_bracket_gets_the_ordinary_verdict_for_all
     stop = marked(row["needed_f_number"])
     assert all(holds(50, stop.value, d, 2500, 4000) for d in bracket_ends(2900, 3200))
     # (at the wider stop's conservative value: the smaller of label and exact)
-    assert not all(holds(50, next_wider(stop).value, d, 2500, 4000) for d in bracket_ends(2900, 3200))
+    assert not all(holds(50, third_stop_wider(stop).value, d, 2500, 4000) for d in bracket_ends(2900, 3200))
     assert "for any distance in the camera's bracket" in describe_flag("too-wide-open", row)
 
 
@@ -272,7 +279,7 @@ def test_a_subject_depth_under_a_bracket_is_judged_at_its_nearest_end():
     stop = marked(row["needed_f_number"])
     ends = (3500, 3750, 4000, 4500, 5000)
     assert all(holds_depth(85, stop.value, 0.03, d, 100, 150) for d in ends)
-    assert not holds_depth(85, next_wider(stop).value, 0.03, 3500, 100, 150)
+    assert not holds_depth(85, third_stop_wider(stop).value, 0.03, 3500, 100, 150)
 
 
 def test_a_row_without_a_bracket_is_exact():

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
+import itertools
 import json
 import math
 import zipfile
@@ -13,8 +14,18 @@ from sharpzone.catalog.engine import open_catalog
 from sharpzone.catalog.location import sqlite_url
 from sharpzone.catalog.models import TABLES_IN_DEPENDENCY_ORDER, IngestProblem
 from sharpzone.catalog.service import export_catalog, import_catalog
-from sharpzone.catalog.service.bundle import bundle_fields, bundle_tables, import_tables
+from sharpzone.catalog.service.bundle import bundle_fields, import_tables
 from sharpzone.errors import Conflict, InvalidValue
+
+
+_OBSERVED = itertools.count()
+
+
+def _rows(session, tmp_path) -> dict[str, list[dict]]:
+    """Every row of the catalogue as its JSON bundle carries them: what the round trips compare."""
+    observed = tmp_path / f"observed-{next(_OBSERVED)}.json"
+    export_catalog(session, observed)
+    return json.loads(observed.read_text(encoding="utf-8"))["tables"]
 
 
 @pytest.fixture
@@ -47,7 +58,7 @@ def filled_catalog(catalog, make_format, make_body, make_lens, make_shoot, make_
 def test_round_trip_loses_nothing(filled_catalog, tmp_path, suffix):
     bundle = tmp_path / f"bundle{suffix}"
     with filled_catalog.session_scope() as session:
-        before = bundle_tables(session)
+        before = _rows(session, tmp_path)
         written = export_catalog(session, bundle)
     assert written["frame"] == 2 and written["lens_alias"] == 2 and written["ingest_problem"] == 1
 
@@ -55,7 +66,7 @@ def test_round_trip_loses_nothing(filled_catalog, tmp_path, suffix):
         with copy.session_scope() as session:
             result = import_catalog(session, bundle)
         with copy.session_scope() as session:
-            after = bundle_tables(session)
+            after = _rows(session, tmp_path)
     assert after == before
     assert result.added["frame"] == 2 and result.unchanged["sensor_format"] == len(before["sensor_format"]) - 1
     far_frame = next(row for row in after["frame"] if row["path"] == "/photos/quay/a,b.jpg")
@@ -126,7 +137,7 @@ def test_bundle_moves_a_catalogue_to_the_other_database(filled_catalog, tmp_path
     # A studio moving its SQLite catalogue onto a shared PostgreSQL server, and back.
     bundle = tmp_path / "move.zip"
     with filled_catalog.session_scope() as session:
-        before = bundle_tables(session)
+        before = _rows(session, tmp_path)
         export_catalog(session, bundle)
     on_sqlite = filled_catalog.engine.dialect.name == "sqlite"
     target = request.getfixturevalue("postgres_url") if on_sqlite else sqlite_url(tmp_path / "back.sqlite")
@@ -134,7 +145,7 @@ def test_bundle_moves_a_catalogue_to_the_other_database(filled_catalog, tmp_path
         with moved.session_scope() as session:
             import_catalog(session, bundle)
         with moved.session_scope() as session:
-            assert bundle_tables(session) == before
+            assert _rows(session, tmp_path) == before
             # ids were given by the target database: a new row still fits in
             session.add(IngestProblem(path="/photos/later.jpg", reason="unreadable"))
 
@@ -150,7 +161,7 @@ def test_a_large_bundle_imports_in_bulk_with_exact_counts(catalog, tmp_path):
         result = import_tables(session, {"frame": frames}, replace=True)
     assert (result.added["frame"], result.replaced["frame"], result.unchanged["frame"]) == (0, 1, 2999)
     with catalog.session_scope() as session:
-        stored = {row["path"]: row["focus_mm"] for row in bundle_tables(session)["frame"]}
+        stored = {row["path"]: row["focus_mm"] for row in _rows(session, tmp_path)["frame"]}
     assert len(stored) == 3000 and stored["/cards/00005.jpg"] == 1234.5 and stored["/cards/00001.jpg"] == "inf"
 
 
@@ -221,7 +232,7 @@ def test_import_applies_the_rules_of_the_commands_and_writes_nothing(tmp_path, f
                 import_catalog(session, bundle)
         assert "\n" not in str(refused.value)
         with copy.session_scope() as session:
-            assert all(not rows for name, rows in bundle_tables(session).items() if name != "sensor_format")
+            assert all(not rows for name, rows in _rows(session, tmp_path).items() if name != "sensor_format")
 
 
 def test_csv_bundle_booleans_are_true_or_false_only(tmp_path, filled_catalog):

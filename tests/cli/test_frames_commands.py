@@ -11,7 +11,8 @@ from typer.testing import CliRunner
 
 from sharpzone.cli.app import app
 from sharpzone.optics import sharp_zone
-from sharpzone.optics.stops import next_wider, round_up_to_stop
+from sharpzone.optics.stops import round_up_to_stop
+from tests.independent_optics import third_stop_wider
 
 runner = CliRunner()
 COC = math.hypot(36, 24) / 1500  # diagonal / 1500 (lens maker's newsletter, 2007)
@@ -57,7 +58,7 @@ def test_check_names_exactly_the_frames_that_missed(shoot_catalog):
     needed = round_up_to_stop(rows["wide.jpg"]["needed_f_number"])
     zone = sharp_zone(50, needed.value, COC, 3000)
     assert zone.near_mm <= 2500 and zone.far_mm >= 4000
-    wider = sharp_zone(50, next_wider(needed).exact, COC, 3000)
+    wider = sharp_zone(50, third_stop_wider(needed).exact, COC, 3000)
     assert wider.near_mm > 2500 or wider.far_mm < 4000
     better = rows["misfocused.jpg"]["better_focus_m"] * 1000
     zone = sharp_zone(50, 8.0, COC, better)

@@ -23,7 +23,7 @@ from sharpzone.optics import (
     sharp_zone,
     stack_frame_counts,
 )
-from sharpzone.optics.stops import next_wider
+from tests.independent_optics import third_stop_wider
 
 focals = st.floats(min_value=4, max_value=800)
 f_numbers = st.floats(min_value=0.7, max_value=64)
@@ -87,7 +87,7 @@ def test_needed_f_number_holds_and_a_third_stop_wider_does_not(focal, coc, near_
     assume(stop is not None)
     zone = sharp_zone(focal, stop.value, coc, focus, reference=reference)
     assert zone.near_mm <= near * (1 + 1e-9) and zone.far_mm >= far * (1 - 1e-9)
-    wider = next_wider(stop)
+    wider = third_stop_wider(stop)
     assume(wider is not None and wider.exact < needed * (1 - 1e-9))
     too_wide = sharp_zone(focal, wider.exact, coc, focus, reference=reference)
     assert too_wide.near_mm > near or too_wide.far_mm < far

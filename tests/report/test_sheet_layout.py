@@ -165,14 +165,14 @@ def _blank_edges(image, page_height_px: int) -> None:
 
 @pytest.mark.parametrize("stops, imperial, focal_lengths", [("full", False, [24, 105]), ("third", True, [105])])
 def test_png_of_a_zoom_holds_every_page_with_nothing_cut(stops, imperial, focal_lengths):
-    from sharpzone.report.sheet_chart import PNG_DPI, png_size_px, sheet_pages
+    from sharpzone.report.sheet_chart import PNG_DPI, sheet_pages
 
     sheet = _sheet(ZOOM, stops, imperial, focal_lengths=focal_lengths)
     image = _png(render_sheet(sheet, ".png", imperial=imperial))
     pages = len(sheet_pages(sheet, imperial=imperial))
     assert pages >= 2 * len(focal_lengths)  # pictures and table for each focal length, not only charts
     page_height = round(210 / 25.4 * PNG_DPI)
-    assert image.size == (round(297 / 25.4 * PNG_DPI), pages * page_height) == png_size_px(sheet, imperial=imperial)
+    assert image.size == (round(297 / 25.4 * PNG_DPI), pages * page_height)
     _blank_edges(image, page_height)
 
 

@@ -121,7 +121,6 @@ class SettingReport:
     airy_disk_mm: float
     diffraction_limited_f_number: float
     closeup_total_mm: float | None
-    light_loss_stops: float
     notes: tuple[str, ...] = field(default_factory=tuple)
 
     @property
@@ -181,8 +180,7 @@ def evaluate_setting(
     return SettingReport(
         focal_mm=float(focal_mm), f_number=float(f_number), focus_mm=float(focus_mm), reference=reference,
         coc=coc, zone=zone, pupil_magnification=float(pupil_magnification), airy_disk_mm=float(airy),
-        diffraction_limited_f_number=float(limit), closeup_total_mm=closeup_total,
-        light_loss_stops=float(stop_difference(f_number, zone.effective_f_number)), notes=tuple(notes),
+        diffraction_limited_f_number=float(limit), closeup_total_mm=closeup_total, notes=tuple(notes),
     )
 
 

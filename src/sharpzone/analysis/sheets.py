@@ -20,7 +20,7 @@ from sharpzone.analysis.setting import DEFAULT_SENSOR, CocChoice, choose_coc
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.diffraction import diffraction_limited_f_number
 from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance
-from sharpzone.optics.macro import effective_focal_mm, sharp_zone_focusing
+from sharpzone.optics.macro import sharp_zone_focusing
 from sharpzone.optics.stops import STEPS_PER_STOP, check_scale, stop_series
 from sharpzone.units import MM_PER_FOOT, MM_PER_INCH, format_distance
 
@@ -158,9 +158,8 @@ class FocalTable:
     curve_focus_mm: np.ndarray
     curve_near_mm: np.ndarray
     curve_far_mm: np.ndarray
-    # The focal length at each row (shorter close up when the lens's focal length follows
-    # its focus, ``optics.macro``; else the nominal one throughout) and that model, if used.
-    row_focal_mm: np.ndarray | None = None
+    # The close-focusing model the rows follow (``optics.macro``: the focal length shortens
+    # close up), if the lens has one.
     macro: object | None = None
 
 
@@ -340,7 +339,6 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
         curve_focus_mm=curve,
         curve_near_mm=near[rows + 1:],
         curve_far_mm=far[rows + 1:],
-        row_focal_mm=np.asarray(effective_focal_mm(macro, focal_mm, np.array(ladder))),
         macro=macro,
     )
 
@@ -353,14 +351,11 @@ def sheet_from_catalog(
     sensor: str | None = None,
     coc_mm: float | None = None,
     coc_policy: str | None = None,
-    focal_lengths: Sequence[float] | None = None,
-    stops: str = "full",
-    distances: Sequence[float] | None = None,
-    reference: str = "sensor",
-    imperial: bool = False,
+    **sheet_options,
 ) -> Sheet:
     """The sheet of the catalogued lens ``lens_name`` (name or EXIF alias) for the format of
-    ``body`` or the format called ``sensor`` (default 36x24); see ``build_sheet``."""
+    ``body`` or the format called ``sensor`` (default 36x24); ``sheet_options`` are
+    ``build_sheet``'s (``focal_lengths``, ``stops``, ``distances``, ``reference``, ``imperial``)."""
     from sharpzone.catalog.service import get_body, get_format, get_lens
 
     if body and sensor:
@@ -378,5 +373,4 @@ def sheet_from_catalog(
         fmt = get_format(session, sensor or DEFAULT_SENSOR).to_core()
     coc = choose_coc(sensor=fmt.name, coc_mm=coc_mm, coc_policy=coc_policy, pixel_pitch_mm=pixel_pitch_mm,
                      lookup=lambda _name: fmt)
-    return build_sheet(lens, coc, focal_lengths=focal_lengths, stops=stops, distances=distances,
-                       reference=reference, imperial=imperial)
+    return build_sheet(lens, coc, **sheet_options)

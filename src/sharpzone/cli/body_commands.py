@@ -7,8 +7,18 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.noun_commands import NewNameOpt, Noun, ReassignOpt, noun_group, removed_line, service, show_row, tables
-from sharpzone.cli.state import catalog_session
+from sharpzone.cli.noun_commands import (
+    NewNameOpt,
+    Noun,
+    UnconfirmedOpt,
+    confirmed_option,
+    noun_group,
+    reassigning_remove_command,
+    service,
+    show_saved,
+    tables,
+)
+from sharpzone.cli.option_groups import OptionGroup, uses
 from sharpzone.errors import InvalidValue
 
 NOUN = Noun(
@@ -16,17 +26,14 @@ NOUN = Noun(
     lambda: tables().BODY_FIELDS, "Camera bodies", "No camera bodies yet: add one with 'sharpzone body add'.",
     "Body name.", "List camera bodies with their EXIF names and sensor formats.", "Show one camera body.", False,
 )
-body_app = noun_group(NOUN, "Camera bodies: how EXIF names them and which sensor format they have.")
-
-
-def register(app: typer.Typer) -> None:
-    app.add_typer(body_app, name="body")
+body_app, register = noun_group(NOUN, "Camera bodies: how EXIF names them and which sensor format they have.")
 
 
 MakeOpt = Annotated[Optional[str], typer.Option("--make", help="EXIF Make exactly as the camera writes it.")]
 ModelOpt = Annotated[Optional[str], typer.Option("--model", help="EXIF Model exactly as the camera writes it.")]
 SerialOpt = Annotated[Optional[str], typer.Option("--serial", help="EXIF body serial number, to tell two bodies of one model apart ('' clears it).")]
 FormatOpt = Annotated[Optional[str], typer.Option("--format", help="Sensor format name or alias (see 'sharpzone format list').")]
+ConfirmedOpt = confirmed_option("body")
 PixelsOpt = Annotated[Optional[str], typer.Option("--pixels", help="Full image size in pixels, e.g. 6000x4000.")]
 
 
@@ -39,50 +46,46 @@ def _pixels_option(value: str | None) -> tuple[int | None, int | None]:
     return int(match.group(1)), int(match.group(2))
 
 
+def _body_fields(make=None, model=None, format=None, serial=None, pixels=None) -> dict:
+    width, height = _pixels_option(pixels)
+    return {"exif_make": make, "exif_model": model, "format_name": format, "serial": serial,
+            "pixel_width": width, "pixel_height": height}
+
+
+# What EXIF calls the body, its format and pixels, shared by add and edit, as the service's keyword arguments.
+_FIELDS = OptionGroup("fields", (("make", MakeOpt), ("model", ModelOpt), ("format", FormatOpt),
+                                 ("serial", SerialOpt), ("pixels", PixelsOpt)), _body_fields)
+
+
 @body_app.command("add")
+@uses(_FIELDS)
 def body_add(
     ctx: typer.Context,
     name: Annotated[str, typer.Argument(help="Our name for the body, unique.")],
-    make: MakeOpt = None,
-    model: ModelOpt = None,
-    format: FormatOpt = None,
-    serial: SerialOpt = None,
-    pixels: PixelsOpt = None,
-    unconfirmed: Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")] = False,
+    fields: dict,
+    unconfirmed: UnconfirmedOpt = False,
 ) -> None:
     """Add a camera body (--make, --model and --format are required)."""
-    if make is None or model is None or format is None:
+    if None in (fields["exif_make"], fields["exif_model"], fields["format_name"]):
         raise InvalidValue("body add needs --make, --model (as EXIF writes them) and --format")
-    width, height = _pixels_option(pixels)
-    with catalog_session(ctx) as session:
-        row = service().add_body(session, name, exif_make=make, exif_model=model, format_name=format, serial=serial,
-                                 pixel_width=width, pixel_height=height, confirmed=not unconfirmed)
-    show_row(row, NOUN, title=f"Added body {row.name}")
+    show_saved(ctx, NOUN, "Added",
+               lambda session: service().add_body(session, name, confirmed=not unconfirmed, **fields))
 
 
 @body_app.command("edit")
+@uses(_FIELDS)
 def body_edit(
     ctx: typer.Context,
     name: Annotated[str, typer.Argument(help="Body name.")],
     new_name: NewNameOpt = None,
-    make: MakeOpt = None,
-    model: ModelOpt = None,
-    format: FormatOpt = None,
-    serial: SerialOpt = None,
-    pixels: PixelsOpt = None,
-    confirmed: Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help="Mark the body as checked (or not).", show_default=False)] = None,
+    *,
+    fields: dict,
+    confirmed: ConfirmedOpt = None,
 ) -> None:
     """Change a camera body; its frames follow."""
-    width, height = _pixels_option(pixels)
-    with catalog_session(ctx) as session:
-        row = service().edit_body(session, name, new_name=new_name, exif_make=make, exif_model=model, serial=serial,
-                                  format_name=format, pixel_width=width, pixel_height=height, confirmed=confirmed)
-    show_row(row, NOUN, title=f"Changed body {row.name}")
+    show_saved(ctx, NOUN, "Changed",
+               lambda session: service().edit_body(session, name, new_name=new_name, confirmed=confirmed, **fields))
 
 
-@body_app.command("remove")
-def body_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Body name.")], reassign_to: ReassignOpt = None) -> None:
-    """Remove a camera body; frames taken with it need --reassign-to."""
-    with catalog_session(ctx) as session:
-        moved = service().remove_body(session, name, reassign_to=reassign_to)
-    removed_line("body", name, moved, reassign_to)
+reassigning_remove_command(body_app, NOUN, "Remove a camera body; frames taken with it need --reassign-to.",
+                           lambda session, name, to: service().remove_body(session, name, reassign_to=to))

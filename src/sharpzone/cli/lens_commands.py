@@ -10,22 +10,23 @@ import typer
 from sharpzone.cli.noun_commands import (
     NewNameOpt,
     Noun,
-    ReassignOpt,
+    UnconfirmedOpt,
+    confirmed_option,
+    given,
     maybe,
     noun_group,
     number_option,
     range_option,
-    removed_line,
+    reassigning_remove_command,
     say,
     service,
-    show_row,
+    show_saved,
     tables,
 )
 from sharpzone.cli.option_groups import OptionGroup, uses
 from sharpzone.cli.options import distance_option, f_number_option, length_option
 from sharpzone.cli.state import catalog_session
 from sharpzone.errors import InvalidValue
-from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
 from sharpzone.units import DISTANCE_HELP
 
 NOUN = Noun(
@@ -33,11 +34,7 @@ NOUN = Noun(
     lambda: tables().LENS_FIELDS, "Lenses", "No lenses yet: add one with 'sharpzone lens add'.", "Lens name.",
     "List lenses with focal range, apertures and EXIF names.", "Show one lens.", True,
 )
-lens_app = noun_group(NOUN, "Lenses: focal range, apertures, close focus, and the EXIF names that mean them.")
-
-
-def register(app: typer.Typer) -> None:
-    app.add_typer(lens_app, name="lens")
+lens_app, register = noun_group(NOUN, "Lenses: focal range, apertures, close focus, and the EXIF names that mean them.")
 
 
 FocalRangeOpt = Annotated[Optional[str], typer.Option("--focal", help="Focal length in mm: 50 for a prime, 24-70 for a zoom.")]
@@ -45,6 +42,7 @@ ApertureRangeOpt = Annotated[Optional[str], typer.Option("--aperture", help="Wid
 MinApertureOpt = Annotated[Optional[str], typer.Option("--min-aperture", help="Smallest aperture (largest f-number), e.g. 22.")]
 CloseFocusOpt = Annotated[Optional[str], typer.Option("--close-focus", help=f"Closest focus distance from the sensor: {DISTANCE_HELP}.")]
 PupilOpt = Annotated[Optional[str], typer.Option("--pupil", help="Pupil magnification (exit / entrance pupil diameter; 1 for a symmetric lens).")]
+ConfirmedOpt = confirmed_option("lens")
 MaxMagnificationOpt = Annotated[Optional[str], typer.Option(
     "--max-magnification", help="Image scale reached at the close-focus distance, from the lens's "
     "specification: 1:1, 1:2, 0.25x or 0.5 (a zoom's at its long end; 0 clears it). Lets the "
@@ -94,16 +92,14 @@ def lens_add(
     name: Annotated[str, typer.Argument(help="Our name for the lens, unique.")],
     numbers: dict,
     exif_name: Annotated[Optional[list[str]], typer.Option("--exif-name", help="EXIF LensModel text that names this lens; repeat for more.")] = None,
-    unconfirmed: Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")] = False,
+    unconfirmed: UnconfirmedOpt = False,
 ) -> None:
     """Add a lens (--focal and --aperture are required)."""
     if numbers["focal_min_mm"] is None or numbers["max_aperture_wide"] is None:
         raise InvalidValue("lens add needs --focal (e.g. 50 or 24-70) and --aperture (e.g. 2.8 or 3.5-5.6)")
-    defaults = {"min_aperture": ASSUMED_MIN_APERTURE, "pupil_magnification": 1.0}
-    numbers.update({key: value for key, value in defaults.items() if numbers[key] is None})
-    with catalog_session(ctx) as session:
-        row = service().add_lens(session, name, exif_names=exif_name or [], confirmed=not unconfirmed, **numbers)
-    show_row(row, NOUN, title=f"Added lens {row.name}")
+    show_saved(ctx, NOUN, "Added",
+               lambda session: service().add_lens(session, name, exif_names=exif_name or [],
+                                                  confirmed=not unconfirmed, **given(numbers)))
 
 
 @lens_app.command("edit")
@@ -114,20 +110,15 @@ def lens_edit(
     new_name: NewNameOpt = None,
     *,
     numbers: dict,
-    confirmed: Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help="Mark the lens as checked (or not).", show_default=False)] = None,
+    confirmed: ConfirmedOpt = None,
 ) -> None:
     """Change a lens; every frame taken with it follows."""
-    with catalog_session(ctx) as session:
-        row = service().edit_lens(session, name, new_name=new_name, confirmed=confirmed, **numbers)
-    show_row(row, NOUN, title=f"Changed lens {row.name}")
+    show_saved(ctx, NOUN, "Changed",
+               lambda session: service().edit_lens(session, name, new_name=new_name, confirmed=confirmed, **numbers))
 
 
-@lens_app.command("remove")
-def lens_remove(ctx: typer.Context, name: Annotated[str, typer.Argument(help="Lens name.")], reassign_to: ReassignOpt = None) -> None:
-    """Remove a lens and its EXIF names; frames taken with it need --reassign-to."""
-    with catalog_session(ctx) as session:
-        moved = service().remove_lens(session, name, reassign_to=reassign_to)
-    removed_line("lens", name, moved, reassign_to)
+reassigning_remove_command(lens_app, NOUN, "Remove a lens and its EXIF names; frames taken with it need --reassign-to.",
+                           lambda session, name, to: service().remove_lens(session, name, reassign_to=to))
 
 
 @lens_app.command("add-alias")

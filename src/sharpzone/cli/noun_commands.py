@@ -21,6 +21,13 @@ from sharpzone.errors import InvalidValue
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (lengths in mm, distances in metres, infinity as \"inf\").")]
 NewNameOpt = Annotated[Optional[str], typer.Option("--name", help="A new name.")]
 ReassignOpt = Annotated[Optional[str], typer.Option("--reassign-to", help="Move the frames that use it to this one first.")]
+UnconfirmedOpt = Annotated[bool, typer.Option("--unconfirmed", help="Mark it as still to be checked.")]
+
+
+def confirmed_option(what: str):
+    """``--confirmed/--unconfirmed`` of the edit command of ``what`` (a body or a lens)."""
+    return Annotated[Optional[bool], typer.Option("--confirmed/--unconfirmed", help=f"Mark the {what} as checked (or not).",
+                                                  show_default=False)]
 
 
 def say(text: str) -> None:
@@ -70,6 +77,14 @@ def show_row(row, noun: Noun, *, as_json: bool = False, imperial: bool = False, 
         tables().render_record(row, fields, title=title or f"{noun.name.capitalize()} {row.name}", imperial=imperial)
 
 
+def show_saved(ctx: typer.Context, noun: Noun, verb: str, write: Callable) -> None:
+    """Run ``write(session)`` (an add or edit service call) in one unit of work and show the
+    row it returns, titled e.g. 'Added body K7'."""
+    with catalog_session(ctx) as session:
+        row = write(session)
+    show_row(row, noun, title=f"{verb} {noun.name} {row.name}")
+
+
 def _run_list(ctx: typer.Context, noun: Noun, as_json: bool, imperial: bool, wide: bool = False) -> None:
     with catalog_session(ctx) as session:
         rows = noun.list_rows(session)
@@ -86,9 +101,10 @@ def _run_show(ctx: typer.Context, noun: Noun, name: str, as_json: bool, imperial
     show_row(row, noun, as_json=as_json, imperial=imperial)
 
 
-def noun_group(noun: Noun, help: str) -> typer.Typer:
+def noun_group(noun: Noun, help: str) -> tuple[typer.Typer, Callable[[typer.Typer], None]]:
     """A command group for ``noun`` with its ``list`` and ``show`` commands (``--imperial``
-    where distances show); the group's module adds the commands that write."""
+    where distances show), and the ``register(app)`` that adds it to the application under
+    the noun's name; the group's module adds the commands that write."""
     group = typer.Typer(help=help, no_args_is_help=True)
 
     if noun.has_distances:
@@ -110,12 +126,25 @@ def noun_group(noun: Noun, help: str) -> typer.Typer:
 
     group.command("list", help=noun.list_help)(list_command)
     group.command("show", help=noun.show_help)(show_command)
-    return group
+
+    def register(app: typer.Typer) -> None:
+        app.add_typer(group, name=noun.name)
+
+    return group, register
 
 
-def removed_line(what: str, name: str, moved: int, reassign_to: str | None) -> None:
-    """The one line after removing a body or lens whose frames may have moved to another."""
-    say(f"Removed {what} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+def reassigning_remove_command(group: typer.Typer, noun: Noun, help: str, remove: Callable) -> None:
+    """Give ``group`` the ``remove`` command of a body or lens: its service function
+    ``remove(session, name, reassign_to)`` (returning how many frames moved) in one unit of
+    work, then one line saying where the frames went."""
+
+    def remove_command(ctx: typer.Context, name: str = typer.Argument(help=noun.argument_help),
+                       reassign_to: ReassignOpt = None) -> None:
+        with catalog_session(ctx) as session:
+            moved = remove(session, name, reassign_to)
+        say(f"Removed {noun.name} {name}." + (f" {moved} frame(s) now use {reassign_to}." if moved else ""))
+
+    group.command("remove", help=help)(remove_command)
 
 
 # ---- option parsers ---------------------------------------------------------------------
@@ -145,6 +174,11 @@ def number_option(value: str | None, option: str) -> float | None:
         return float(value)
     except ValueError:
         raise InvalidValue(option=f"--{option}", what="value", value=value, problem="is not a number") from None
+
+
+def given(values: dict) -> dict:
+    """The options given (not ``None``), so that the service's own defaults stand for the rest."""
+    return {key: value for key, value in values.items() if value is not None}
 
 
 def maybe(parse, value: str | None, option: str):

@@ -6,7 +6,7 @@ from typing import Annotated, Optional
 
 import typer
 
-from sharpzone.cli.noun_commands import NewNameOpt, Noun, maybe, noun_group, say, service, show_row, tables
+from sharpzone.cli.noun_commands import NewNameOpt, Noun, maybe, noun_group, say, service, show_saved, tables
 from sharpzone.cli.option_groups import OptionGroup, uses
 from sharpzone.cli.options import distance_option, f_number_option, length_option
 from sharpzone.cli.state import catalog_session
@@ -17,11 +17,7 @@ NOUN = Noun(
     lambda: tables().SHOOT_FIELDS, "Shoots", "No shoots yet: add one with 'sharpzone shoot add'.", "Shoot name.",
     "List shoots, newest first, with their plans.", "Show one shoot and its plan.", True,
 )
-shoot_app = noun_group(NOUN, "Shoots and their plans: what had to be sharp.")
-
-
-def register(app: typer.Typer) -> None:
-    app.add_typer(shoot_app, name="shoot")
+shoot_app, register = noun_group(NOUN, "Shoots and their plans: what had to be sharp.")
 
 
 FolderOpt = Annotated[Optional[str], typer.Option("--folder", help="The shoot's root folder ('' clears it).")]
@@ -73,9 +69,7 @@ def shoot_add(
     settings: dict,
 ) -> None:
     """Add a shoot; plan an absolute range (--near/--far) or a subject depth (--front/--back)."""
-    with catalog_session(ctx) as session:
-        row = service().add_shoot(session, name, **limits, **settings)
-    show_row(row, NOUN, title=f"Added shoot {row.name}")
+    show_saved(ctx, NOUN, "Added", lambda session: service().add_shoot(session, name, **limits, **settings))
 
 
 @shoot_app.command("edit")
@@ -90,9 +84,8 @@ def shoot_edit(
     settings: dict,
 ) -> None:
     """Change a shoot or its plan; one limit of the same kind keeps the other."""
-    with catalog_session(ctx) as session:
-        row = service().edit_shoot(session, name, new_name=new_name, clear_plan=clear_plan, **limits, **settings)
-    show_row(row, NOUN, title=f"Changed shoot {row.name}")
+    show_saved(ctx, NOUN, "Changed",
+               lambda session: service().edit_shoot(session, name, new_name=new_name, clear_plan=clear_plan, **limits, **settings))
 
 
 @shoot_app.command("remove")

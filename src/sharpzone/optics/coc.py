@@ -36,6 +36,12 @@ POLICY_HELP = (
 )
 
 
+def _require_positive(label: str, value: float, unit: str = "", expected: str = "above 0") -> None:
+    """``InvalidValue`` unless ``value`` is a finite number above 0 (``unit`` shown after it)."""
+    if not (math.isfinite(value) and value > 0):
+        raise InvalidValue(f"{label} {value!r}{unit} is not valid: expected {expected}")
+
+
 class CocPolicy:
     """Base of the policies: ``coc_mm`` gives the value for a format, ``spec`` the text form."""
 
@@ -56,8 +62,8 @@ class DiagonalFraction(CocPolicy):
     divisor: float | None = None
 
     def __post_init__(self) -> None:
-        if self.divisor is not None and not (math.isfinite(self.divisor) and self.divisor > 0):
-            raise InvalidValue(f"CoC divisor {self.divisor!r} is not valid: expected a number above 0")
+        if self.divisor is not None:
+            _require_positive("CoC divisor", self.divisor, expected="a number above 0")
 
     @property
     def spec(self) -> str:  # type: ignore[override]
@@ -77,8 +83,7 @@ class FixedCoc(CocPolicy):
     value_mm: float
 
     def __post_init__(self) -> None:
-        if not (math.isfinite(self.value_mm) and self.value_mm > 0):
-            raise InvalidValue(f"circle of confusion {self.value_mm!r} mm is not valid: expected above 0 mm")
+        _require_positive("circle of confusion", self.value_mm, " mm", "above 0 mm")
 
     @property
     def spec(self) -> str:  # type: ignore[override]
@@ -107,8 +112,7 @@ class PrintIntent(CocPolicy):
     def __post_init__(self) -> None:
         for label, value in (("print width", self.print_width_mm), ("print height", self.print_height_mm),
                              ("viewing distance", self.viewing_mm)):
-            if not (math.isfinite(value) and value > 0):
-                raise InvalidValue(f"{label} {value!r} mm is not valid: expected above 0 mm")
+            _require_positive(label, value, " mm", "above 0 mm")
 
     @property
     def spec(self) -> str:  # type: ignore[override]
@@ -130,8 +134,7 @@ class PixelPitch(CocPolicy):
     multiplier: float = 2.0
 
     def __post_init__(self) -> None:
-        if not (math.isfinite(self.multiplier) and self.multiplier > 0):
-            raise InvalidValue(f"pixel multiplier {self.multiplier!r} is not valid: expected above 0")
+        _require_positive("pixel multiplier", self.multiplier)
 
     @property
     def spec(self) -> str:  # type: ignore[override]

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import numpy as np
-
 from sharpzone.optics._checks import all_scalar, as_array, require, scalar_or_array
 
 # Mid-spectrum green, where the eye is most sensitive: 550 nm (common practice).

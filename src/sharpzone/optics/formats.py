@@ -40,10 +40,6 @@ class SensorFormat:
         """How much smaller the diagonal is than 36 × 24 mm (1.0 for that frame)."""
         return FULL_FRAME_DIAGONAL_MM / self.diagonal_mm
 
-    @property
-    def aspect_ratio(self) -> float:
-        return max(self.width_mm, self.height_mm) / min(self.width_mm, self.height_mm)
-
 
 def pixel_pitch_mm(fmt: SensorFormat, pixel_width: int | None, pixel_height: int | None = None) -> float | None:
     """Distance between pixel centres (mm): the format's long side over the pixels along it.

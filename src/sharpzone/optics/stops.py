@@ -89,13 +89,6 @@ def stop_difference(from_f_number: float, to_f_number: float) -> float:
     return 2.0 * math.log2(to_f_number / from_f_number)
 
 
-def next_wider(stop: Stop, scale: str = "third") -> Stop | None:
-    """The marked stop one step wider than ``stop`` on ``scale`` (``None`` below f/0.5)."""
-    series = stop_series(scale, 0.5, 128.0)
-    wider = [s for s in series if s.exact < stop.exact * (1 - 1e-9)]
-    return wider[-1] if wider else None
-
-
 def round_up_to_stops(needed_f_numbers, scale: str = "third"):
     """Vectorised ``round_up_to_stop``: (labels, values) arrays; NaN where past f/128 or unknown.
 

@@ -63,12 +63,6 @@ LINE_STYLES = ("-", (0, (6, 2)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)), (0, (3, 1
 MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*", "h")
 
 
-def page_size_pt(paper: str = DEFAULT_PAPER) -> tuple[float, float]:
-    """Width and height of a landscape page in PostScript points."""
-    width, height = PAPERS[check_paper(paper)]
-    return width * 72, height * 72
-
-
 def render_pdf(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAPER) -> bytes:
     """The sheet as a PDF: per focal length a page of charts and facts, then its table."""
     from matplotlib import rc_context
@@ -84,7 +78,7 @@ def render_pdf(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAP
 
 
 def render_png(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAPER) -> bytes:
-    """The sheet as one PNG: the PDF's pages one under another, ``png_size_px`` in size."""
+    """The sheet as one PNG: the PDF's pages one under another (one page wide at ``PNG_DPI``)."""
     from PIL import Image
 
     pages = []
@@ -96,13 +90,6 @@ def render_png(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAP
     out = io.BytesIO()
     image.save(out, format="PNG", dpi=(PNG_DPI, PNG_DPI), optimize=True)
     return out.getvalue()
-
-
-def png_size_px(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAPER) -> tuple[int, int]:
-    """Width and height of ``render_png``'s image: one page wide, every page tall."""
-    width, height = PAPERS[check_paper(paper)]
-    pages = len(sheet_pages(sheet, imperial=imperial, paper=paper))
-    return round(width * PNG_DPI), pages * round(height * PNG_DPI)
 
 
 def sheet_pages(sheet: Sheet, *, imperial: bool = False, paper: str = DEFAULT_PAPER) -> list:

@@ -21,7 +21,6 @@ from sharpzone.catalog.service.lenses import (
     edit_lens,
     find_lens_for_exif,
     get_lens,
-    lens_frame_counts,
     list_lenses,
     remove_lens,
     remove_lens_alias,
@@ -33,15 +32,13 @@ from sharpzone.catalog.service.shoots import (
     list_shoots,
     remove_shoot,
     shoot_frame_count,
-    validate_coc_policy,
 )
 
 __all__ = [
     "add_body", "edit_body", "find_body_for_exif", "get_body", "list_bodies", "remove_body",
     "add_format", "edit_format", "find_format", "get_format", "list_formats", "remove_format",
-    "add_lens", "add_lens_alias", "edit_lens", "find_lens_for_exif", "get_lens", "lens_frame_counts",
+    "add_lens", "add_lens_alias", "edit_lens", "find_lens_for_exif", "get_lens",
     "list_lenses", "remove_lens", "remove_lens_alias",
     "add_shoot", "edit_shoot", "get_shoot", "list_shoots", "remove_shoot", "shoot_frame_count",
-    "validate_coc_policy",
     "CatalogInfo", "catalog_info", "export_catalog", "import_catalog",
 ]

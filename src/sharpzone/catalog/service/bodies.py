@@ -11,15 +11,14 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, Frame
+from sharpzone.catalog.rules import clean_name, optional_text, positive_int
 from sharpzone.catalog.service.common import (
-    clean_name,
     equal_ignoring_case,
     get_by_name,
     merged,
-    optional_text,
     remove_reassigning_frames,
-    positive_int,
     require_name_free,
+    saved,
 )
 from sharpzone.catalog.service.formats import get_format
 from sharpzone.errors import Conflict, InvalidValue
@@ -65,22 +64,7 @@ def add_body(
     sensor format (by name or alias; ``None`` while unknown: its frames are then not judged
     until it is set); pixel dimensions are the full image in pixels. One of make and model
     may be empty (some files name only one)."""
-    body = Body()
-    _apply(
-        session,
-        body,
-        name=name,
-        exif_make=exif_make,
-        exif_model=exif_model,
-        serial=serial,
-        format_name=format_name,
-        pixel_width=pixel_width,
-        pixel_height=pixel_height,
-        confirmed=confirmed,
-    )
-    session.add(body)
-    session.flush()
-    return body
+    return saved(session, Body(), _apply, locals())
 
 
 def edit_body(
@@ -97,24 +81,7 @@ def edit_body(
     confirmed: bool | None = None,
 ) -> Body:
     """Change the given fields of body ``name`` (``None`` keeps a field; ``serial=""`` clears it)."""
-    body = get_body(session, name)
-    _apply(
-        session,
-        body,
-        format_name=(body.sensor_format.name if body.sensor_format else None) if format_name is None else format_name,
-        **merged(
-            body,
-            name=new_name,
-            exif_make=exif_make,
-            exif_model=exif_model,
-            serial=serial,
-            pixel_width=pixel_width,
-            pixel_height=pixel_height,
-            confirmed=confirmed,
-        ),
-    )
-    session.flush()
-    return body
+    return saved(session, get_body(session, name), _apply, locals())
 
 
 def remove_body(session: Session, name: str, *, reassign_to: str | None = None) -> int:
@@ -123,18 +90,20 @@ def remove_body(session: Session, name: str, *, reassign_to: str | None = None) 
     return remove_reassigning_frames(session, Body, Frame.body_id, name, reassign_to, "body")
 
 
-def _apply(session, body, *, name, exif_make, exif_model, serial, format_name, pixel_width, pixel_height, confirmed) -> None:
-    """Validate the complete new state of ``body``, then set it."""
-    name = clean_name(name, "body")
-    make, model = optional_text(exif_make) or "", optional_text(exif_model) or ""
+def _apply(session, body, *, format_name, **changes) -> None:
+    """Validate the complete new state of ``body`` (``None`` keeps a field, ``format_name``
+    too), then set it."""
+    values = merged(body, **changes)
+    name = clean_name(values["name"], "body")
+    make, model = optional_text(values["exif_make"]) or "", optional_text(values["exif_model"]) or ""
     if not make and not model:
         raise InvalidValue(f"body {name!r}: EXIF make and model must not both be empty")
     make = clean_name(make, f"body {name!r}: EXIF make") if make else make
     model = clean_name(model, f"body {name!r}: EXIF model") if model else model
-    serial = optional_text(serial)
-    sensor_format = get_format(session, format_name, error=InvalidValue) if format_name is not None else None
-    pixel_width = positive_int(pixel_width, f"body {name!r}: pixel width")
-    pixel_height = positive_int(pixel_height, f"body {name!r}: pixel height")
+    serial = optional_text(values["serial"])
+    sensor_format = body.sensor_format if format_name is None else get_format(session, format_name, error=InvalidValue)
+    pixel_width = positive_int(values["pixel_width"], f"body {name!r}: pixel width")
+    pixel_height = positive_int(values["pixel_height"], f"body {name!r}: pixel height")
     require_name_free(session, Body, name, "body", keep=body)
     twin = find_body_for_exif(session, make, model, serial)
     if twin is not None and twin is not body and (twin.serial or None) == serial:
@@ -147,4 +116,4 @@ def _apply(session, body, *, name, exif_make, exif_model, serial, format_name, p
     body.sensor_format = sensor_format
     body.pixel_width = pixel_width
     body.pixel_height = pixel_height
-    body.confirmed = bool(confirmed)
+    body.confirmed = bool(values["confirmed"])

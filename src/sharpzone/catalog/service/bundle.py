@@ -170,11 +170,6 @@ def _table_rows(session: Session, model) -> Iterator[dict]:
                for f in fields}
 
 
-def bundle_tables(session: Session) -> dict[str, list[dict]]:
-    """Every row of every table as JSON-ready dicts (references by name, inf as "inf")."""
-    return {model.__tablename__: list(_table_rows(session, model)) for model in TABLES_IN_DEPENDENCY_ORDER}
-
-
 def export_catalog(session: Session, destination: str | os.PathLike) -> dict[str, int]:
     """Write the whole catalogue to ``destination`` (``.json`` or ``.zip`` of CSV files);
     returns rows written per table. The file appears complete or not at all: a failed
@@ -275,13 +270,6 @@ def _atomic_file(target: Path):
 
 
 # ---- reading ----------------------------------------------------------------------------
-
-
-def read_bundle(source: str | os.PathLike) -> dict[str, list[dict]]:
-    """The tables of a bundle file (``.json`` or ``.zip``), values still in bundle form
-    (all rows in memory: for looking at small bundles; import streams instead)."""
-    with _bundle_stream(Path(source)) as (_form, tables):
-        return {table: list(rows) for table, rows in tables}
 
 
 @contextlib.contextmanager
@@ -502,8 +490,8 @@ def import_catalog(session: Session, source: str | os.PathLike, *, replace: bool
 
 def import_tables(session: Session, tables: dict[str, Iterable[dict]] | Iterable[tuple[str, Iterable[dict]]], *,
                   replace: bool = False, form: str = "json") -> ImportResult:
-    """Import bundle-form ``tables`` (as ``read_bundle`` or ``bundle_tables`` give them, or
-    an iterator of ``(table, rows)``), in dependency order; ``form`` says how values are
+    """Import bundle-form ``tables`` (a dict of table name to rows, or an iterator of
+    ``(table, rows)``), in dependency order; ``form`` says how values are
     written (``"json"``: typed; ``"csv"``: text).
 
     Each row is checked with the catalogue's rules, then batches of rows are decided

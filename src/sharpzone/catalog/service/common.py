@@ -1,6 +1,6 @@
 """Look-ups and steps shared by the service functions (public: ingest uses ``find_by_name``).
 
-The value checks live in ``sharpzone.catalog.rules`` and are re-exported here."""
+The value checks live in ``sharpzone.catalog.rules``."""
 
 from __future__ import annotations
 
@@ -10,7 +10,6 @@ from sqlalchemy import func, select, update
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame
-from sharpzone.catalog.rules import clean_name, optional_text, positive, positive_int  # noqa: F401 - re-exported
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 
 Row = TypeVar("Row")
@@ -51,6 +50,23 @@ def require_name_free(session: Session, model: type[Row], name: str, what: str, 
 def merged(row, **changes) -> dict:
     """Each change, or ``row``'s current value of that field where the change is ``None``."""
     return {field: getattr(row, field) if value is None else value for field, value in changes.items()}
+
+
+def saved(session: Session, row: Row, apply, arguments: dict) -> Row:
+    """``row`` after ``apply(session, row, **changes)`` has validated and set its new state
+    (``None`` in ``changes`` keeps a field: a new row has none yet), added when new, flushed.
+
+    ``arguments`` are the calling ``add_*`` or ``edit_*`` function's own, its ``locals()``
+    taken first thing, so that each field is written once, in that function's signature: the
+    session is left out, and an edit's ``new_name`` stands for ``name`` (the row looked up)."""
+    changes = {field: value for field, value in arguments.items() if field != "session"}
+    if "new_name" in changes:
+        changes["name"] = changes.pop("new_name")
+    apply(session, row, **changes)
+    if row not in session:
+        session.add(row)
+    session.flush()
+    return row
 
 
 def count_of(session: Session, column, value) -> int:

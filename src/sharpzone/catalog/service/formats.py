@@ -12,7 +12,8 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, SensorFormatRow
-from sharpzone.catalog.service.common import clean_name, merged, plural
+from sharpzone.catalog.rules import clean_name
+from sharpzone.catalog.service.common import merged, plural, saved
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 from sharpzone.optics.formats import SensorFormat
 from sharpzone.optics.limits import DIAGONAL_DIVISOR
@@ -53,21 +54,7 @@ def add_format(
     source: str = "",
 ) -> SensorFormatRow:
     """Add a format of ``width_mm`` × ``height_mm``; CoC defaults to diagonal / ``coc_divisor``."""
-    row = SensorFormatRow()
-    _apply(
-        session,
-        row,
-        name=name,
-        width_mm=width_mm,
-        height_mm=height_mm,
-        coc_divisor=coc_divisor,
-        aliases=list(aliases),
-        description=description,
-        source=source,
-    )
-    session.add(row)
-    session.flush()
-    return row
+    return saved(session, SensorFormatRow(), _apply, locals())
 
 
 def edit_format(
@@ -84,23 +71,7 @@ def edit_format(
 ) -> SensorFormatRow:
     """Change the given fields of format ``name`` (``None`` keeps a field; ``aliases``
     replaces the whole list). Bodies of this format follow the change."""
-    row = get_format(session, name)
-    _apply(
-        session,
-        row,
-        aliases=row.alias_list if aliases is None else list(aliases),
-        **merged(
-            row,
-            name=new_name,
-            width_mm=width_mm,
-            height_mm=height_mm,
-            coc_divisor=coc_divisor,
-            description=description,
-            source=source,
-        ),
-    )
-    session.flush()
-    return row
+    return saved(session, get_format(session, name), _apply, locals())
 
 
 def remove_format(session: Session, name: str) -> None:
@@ -116,11 +87,15 @@ def remove_format(session: Session, name: str) -> None:
     session.flush()
 
 
-def _apply(session, row, *, name, width_mm, height_mm, coc_divisor, aliases, description, source) -> None:
-    """Validate the complete new state of ``row`` (through the optics ``SensorFormat``), then set it."""
-    name = clean_name(name, "format")
+def _apply(session, row, *, aliases, **changes) -> None:
+    """Validate the complete new state of ``row`` (``None`` keeps a field, ``aliases`` too;
+    through the optics ``SensorFormat``), then set it."""
+    values = merged(row, **changes)
+    aliases = row.alias_list if aliases is None else list(aliases)
+    name = clean_name(values["name"], "format")
     try:
-        core = SensorFormat(name=name, width_mm=float(width_mm), height_mm=float(height_mm), coc_divisor=float(coc_divisor))
+        core = SensorFormat(name=name, width_mm=float(values["width_mm"]), height_mm=float(values["height_mm"]),
+                            coc_divisor=float(values["coc_divisor"]))
     except (TypeError, ValueError) as error:
         if isinstance(error, InvalidValue):
             raise
@@ -143,5 +118,5 @@ def _apply(session, row, *, name, width_mm, height_mm, coc_divisor, aliases, des
     row.height_mm = core.height_mm
     row.coc_divisor = core.coc_divisor
     row.aliases = ";".join(cleaned_aliases)
-    row.description = (description or "").strip()
-    row.source = (source or "").strip()
+    row.description = (values["description"] or "").strip()
+    row.source = (values["source"] or "").strip()

@@ -6,12 +6,12 @@ f-numbers at the short and long end, ``min_aperture`` the largest (e.g. 22).
 
 from __future__ import annotations
 
-from sqlalchemy import func, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Lens, LensAlias
 from sharpzone.catalog.rules import clean_name, lens_values
-from sharpzone.catalog.service.common import get_by_name, merged, remove_reassigning_frames, require_name_free
+from sharpzone.catalog.service.common import get_by_name, merged, remove_reassigning_frames, require_name_free, saved
 from sharpzone.errors import Conflict, NotFound
 from sharpzone.limits import check_close_focus
 from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
@@ -61,25 +61,11 @@ def add_lens(
     ``max_magnification`` the image scale reached there (its specification: 1.0 or ``"1:1"``
     for a macro lens; a zoom's at its long end); ``exif_names`` are the EXIF LensModel
     strings that name it."""
-    lens = Lens(aliases=[])
-    _apply(
-        session,
-        lens,
-        name=name,
-        focal_min_mm=focal_min_mm,
-        focal_max_mm=focal_min_mm if focal_max_mm is None else focal_max_mm,
-        max_aperture_wide=max_aperture_wide,
-        max_aperture_tele=max_aperture_wide if max_aperture_tele is None else max_aperture_tele,
-        min_aperture=min_aperture,
-        close_focus_mm=close_focus_mm,
-        pupil_magnification=pupil_magnification,
-        max_magnification=max_magnification,
-        confirmed=confirmed,
-    )
-    session.add(lens)
+    fields = dict(locals())
+    del fields["exif_names"]
+    lens = saved(session, Lens(aliases=[]), _apply, fields)
     for exif_name in exif_names:
         add_lens_alias(session, lens.name, exif_name)
-    session.flush()
     return lens
 
 
@@ -100,26 +86,7 @@ def edit_lens(
 ) -> Lens:
     """Change the given fields of lens ``name`` (``None`` keeps a field; ``max_magnification``
     0 clears it). Frames taken with it follow the change, since zones are computed when asked for."""
-    lens = get_lens(session, name)
-    _apply(
-        session,
-        lens,
-        **merged(
-            lens,
-            name=new_name,
-            focal_min_mm=focal_min_mm,
-            focal_max_mm=focal_max_mm,
-            max_aperture_wide=max_aperture_wide,
-            max_aperture_tele=max_aperture_tele,
-            min_aperture=min_aperture,
-            close_focus_mm=close_focus_mm,
-            pupil_magnification=pupil_magnification,
-            max_magnification=max_magnification,
-            confirmed=confirmed,
-        ),
-    )
-    session.flush()
-    return lens
+    return saved(session, get_lens(session, name), _apply, locals())
 
 
 def remove_lens(session: Session, name: str, *, reassign_to: str | None = None) -> int:
@@ -155,22 +122,25 @@ def remove_lens_alias(session: Session, exif_name: str) -> Lens:
     return lens
 
 
-def lens_frame_counts(session: Session) -> dict[int, int]:
-    """How many frames each lens id has (lenses without frames are absent)."""
-    rows = session.execute(select(Frame.lens_id, func.count()).where(Frame.lens_id.is_not(None)).group_by(Frame.lens_id))
-    return {lens_id: count for lens_id, count in rows}
-
-
-def _apply(session, lens, *, confirmed, max_magnification=None, **fields) -> None:
-    """Validate the complete new state of ``lens`` (``fields`` checked by
-    ``rules.lens_values``; the close focus against the focal length by ``limits``, and the
-    close-focus pair by ``optics.macro``: a zoom's maximum magnification is its long
-    end's), then set it. A maximum magnification of 0 clears it."""
+def _apply(session, lens, *, max_magnification=None, **changes) -> None:
+    """Validate the complete new state of ``lens`` (``None`` keeps a field; a new prime's long
+    end is its focal length, a constant aperture's long end its short end's; the fields
+    checked by ``rules.lens_values``, the close focus against the focal length by
+    ``limits``, and the close-focus pair by ``optics.macro``: a zoom's maximum magnification
+    is its long end's), then set it. A maximum magnification of 0 clears it."""
+    fields = merged(lens, **changes)
+    confirmed = fields.pop("confirmed")
+    if fields["focal_max_mm"] is None:
+        fields["focal_max_mm"] = fields["focal_min_mm"]
+    if fields["max_aperture_tele"] is None:
+        fields["max_aperture_tele"] = fields["max_aperture_wide"]
     values = lens_values(**fields)
     label = f"lens {values['name']!r}"
     values["close_focus_mm"] = check_close_focus(values["close_focus_mm"], values["focal_max_mm"],
                                                  what=f"{label}: close-focus distance")
-    if max_magnification in (0, 0.0, "0", "none", ""):
+    if max_magnification is None:
+        max_magnification = lens.max_magnification
+    elif max_magnification in (0, 0.0, "0", "none", ""):
         max_magnification = None
     macro = check_macro_spec(values["focal_max_mm"], values["close_focus_mm"], max_magnification, what=label)
     values["max_magnification"] = macro.max_magnification if macro else None

@@ -15,7 +15,7 @@ from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Frame, Shoot
 from sharpzone.catalog.rules import clean_name, optional_text, plan_values, shoot_settings
-from sharpzone.catalog.service.common import count_of, get_by_name, merged, plural, require_name_free
+from sharpzone.catalog.service.common import count_of, get_by_name, merged, plural, require_name_free, saved
 from sharpzone.errors import Conflict, InvalidValue
 
 _PLAN_FIELDS = ("plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
@@ -53,22 +53,7 @@ def add_shoot(
 ) -> Shoot:
     """Add a shoot, with a range plan (``near_mm``/``far_mm``) or a depth plan
     (``front_mm``/``back_mm``) or none; ``root_folder`` is stored as an absolute path."""
-    shoot = Shoot()
-    require_name_free(session, Shoot, clean_name(name, "shoot"), "shoot")
-    shoot.name = clean_name(name, "shoot")
-    _set_plan(shoot, near_mm, far_mm, front_mm, back_mm)
-    _set_details(
-        shoot,
-        root_folder=root_folder,
-        planned_focal_mm=planned_focal_mm,
-        planned_f_number=planned_f_number,
-        planned_focus_mm=planned_focus_mm,
-        coc_policy=coc_policy,
-        notes=notes,
-    )
-    session.add(shoot)
-    session.flush()
-    return shoot
+    return saved(session, Shoot(), _apply, locals())
 
 
 def edit_shoot(
@@ -91,10 +76,32 @@ def edit_shoot(
     """Change the given fields of shoot ``name`` (``None`` keeps a field; ``""`` clears a
     text field). Giving one limit of the plan's kind keeps the other; switching kind needs
     both; ``clear_plan`` removes the plan first."""
+    return saved(session, get_shoot(session, name), _apply, locals())
+
+
+def remove_shoot(session: Session, name: str, *, with_frames: bool = False) -> int:
+    """Remove shoot ``name``. A shoot with frames is refused (``Conflict``) unless
+    ``with_frames`` says to remove them too. Returns how many frames were removed."""
     shoot = get_shoot(session, name)
-    if new_name is not None:
-        new_name = clean_name(new_name, "shoot")
-        require_name_free(session, Shoot, new_name, "shoot", keep=shoot)
+    frames = shoot_frame_count(session, shoot)
+    if frames and not with_frames:
+        raise Conflict(
+            f"shoot {shoot.name!r} has {plural(frames, 'frame')}: say --with-frames to remove them too"
+        )
+    session.delete(shoot)
+    session.flush()
+    return frames
+
+
+def _apply(session, shoot, *, name, near_mm, far_mm, front_mm, back_mm, clear_plan=False, **details) -> None:
+    """Validate and set the new state of ``shoot`` (``None`` keeps a field: a new shoot has
+    none yet): its name, its plan (one limit of the plan's kind keeps the other; switching
+    kind needs both; ``clear_plan`` removes it first) and the rest. Errors call a renamed
+    shoot by the name it had."""
+    if name is not None or shoot.name is None:
+        name = clean_name(name, "shoot")
+        require_name_free(session, Shoot, name, "shoot", keep=shoot)
+        shoot.name = shoot.name or name
     kind = None if clear_plan else shoot.plan_kind
     current = {field: (getattr(shoot, field) if kind else None) for field in _PLAN_FIELDS}
     range_given = near_mm is not None or far_mm is not None
@@ -112,51 +119,14 @@ def edit_shoot(
         range_given=range_given,
         depth_given=depth_given,
     )
-    _set_details(
-        shoot,
-        **merged(
-            shoot,
-            root_folder=root_folder,
-            planned_focal_mm=planned_focal_mm,
-            planned_f_number=planned_f_number,
-            planned_focus_mm=planned_focus_mm,
-            coc_policy=coc_policy,
-            notes=notes,
-        ),
-    )
-    if new_name is not None:
-        shoot.name = new_name
-    session.flush()
-    return shoot
+    _set_details(shoot, **merged(shoot, **details))
+    if name is not None:
+        shoot.name = name
 
 
-def remove_shoot(session: Session, name: str, *, with_frames: bool = False) -> int:
-    """Remove shoot ``name``. A shoot with frames is refused (``Conflict``) unless
-    ``with_frames`` says to remove them too. Returns how many frames were removed."""
-    shoot = get_shoot(session, name)
-    frames = shoot_frame_count(session, shoot)
-    if frames and not with_frames:
-        raise Conflict(
-            f"shoot {shoot.name!r} has {plural(frames, 'frame')}: say --with-frames to remove them too"
-        )
-    session.delete(shoot)
-    session.flush()
-    return frames
-
-
-def validate_coc_policy(text: str) -> str:
-    """The canonical text of a circle-of-confusion policy (``InvalidValue`` if the optics
-    core does not understand it), as stored in ``Shoot.coc_policy``."""
-    from sharpzone.optics.coc import parse_coc_policy
-
-    return parse_coc_policy(text).spec
-
-
-def _set_plan(shoot, near, far, front, back, *, range_given=None, depth_given=None) -> None:
+def _set_plan(shoot, near, far, front, back, *, range_given, depth_given) -> None:
     """Validate (``rules.plan_values``) and set the plan; ``*_given`` say which kind the
     caller asked for."""
-    range_given = (near is not None or far is not None) if range_given is None else range_given
-    depth_given = (front is not None or back is not None) if depth_given is None else depth_given
     label = f"shoot {shoot.name!r}"
     if range_given and depth_given:
         raise InvalidValue(f"{label}: give a range (near/far) or a subject depth (front/back), not both")
