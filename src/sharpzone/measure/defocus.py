@@ -455,7 +455,7 @@ def _two_scale_blur(strength: np.ndarray, diameter: np.ndarray, coarse: np.ndarr
     if fine is None:
         return rough, rough_count
     share = min(1.0, (fine - COARSE_FROM_PX) / (COARSE_FULL_PX - COARSE_FROM_PX))
-    return fine + share * (rough - fine), rough_count if share >= 0.5 else fine_count
+    return fine + share * (rough - fine), rough_count if 2 * share >= 1 else fine_count
 
 
 def _robust_blur(strength: np.ndarray, diameter: np.ndarray) -> tuple[float | None, int]:
