@@ -8,6 +8,7 @@ The goal (issue 15): at most 30 ms of measuring per frame for a 1,600-px preview
 
 from __future__ import annotations
 
+import os
 import time
 
 import numpy as np
@@ -64,4 +65,5 @@ def test_measuring_against_decoding_the_preview_alone(camera_jpegs):
     print(f"\n{FRAMES} JPEGs 4800×3200 → {ANALYSED_LONG_PX} px: decode alone {decode_s * 1e3:.1f} ms/frame, "
           f"measure alone {measure_only_s * 1e3:.1f} ms/frame, decode + measure {both_s * 1e3:.1f} ms/frame, "
           f"ratio (decode + measure) / decode {both_s / decode_s:.2f} (processor time; wall clock "
-          f"decode + measure {wall_s * 1e3:.1f} ms/frame)")
+          f"decode + measure {wall_s * 1e3:.1f} ms/frame; load average {os.getloadavg()[0]:.1f} on "
+          f"{os.cpu_count()} cores)")

@@ -118,3 +118,66 @@ def test_a_busy_picture_sampled_for_speed_reads_as_its_unsampled_crop():
     read_whole, _ = region_blur(whole, 0, whole.height, 0, whole.width)
     read_crop, _ = region_blur(crop, 0, crop.height, 0, crop.width)
     assert read_whole == pytest.approx(read_crop, rel=0.1)
+
+
+def test_reblur_at_edge_pixels_matches_scipys_whole_picture_filter():
+    """The re-blurred gradient computed from each pixel's own patch is the gradient of the
+    whole picture filtered by scipy.ndimage.gaussian_filter (truncate 3, a general-purpose
+    reference), at every pixel far enough from the border."""
+    from sharpzone.measure.defocus import _border, _gradient_squared, _reblurred_gradient_squared_at
+
+    rng = np.random.default_rng(7)
+    picture = gaussian_filter(rng.normal(120, 40, (60, 80)), 1.0).astype(np.float32)
+    for reblur in (1.0, 1.5, 3.0):
+        border = _border(reblur)
+        rows, cols = np.mgrid[border:60 - border, border:80 - border]
+        rows, cols = rows.ravel(), cols.ravel()
+        expected = _gradient_squared(gaussian_filter(picture, reblur, mode="nearest", truncate=3.0))[rows, cols]
+        got = _reblurred_gradient_squared_at(picture, rows, cols, reblur)
+        assert got == pytest.approx(expected, rel=1e-4, abs=1e-3)
+
+
+def test_edge_candidates_are_every_pixel_with_a_large_one_sided_difference():
+    from sharpzone.measure.defocus import _candidates
+
+    rng = np.random.default_rng(8)
+    picture = rng.normal(100, 10, (150, 90)).astype(np.float32)
+    least = 12.0 / np.sqrt(2.0)
+    across = np.abs(np.diff(picture, axis=1)) >= least
+    down = np.abs(np.diff(picture, axis=0)) >= least
+    mask = np.zeros(picture.shape, dtype=bool)
+    mask[:, 1:] |= across
+    mask[:, :-1] |= across
+    mask[1:] |= down
+    mask[:-1] |= down
+    mask[:5] = mask[-5:] = False
+    mask[:, :5] = mask[:, -5:] = False
+    assert np.array_equal(_candidates(picture, 12.0, 5, picture.size), np.flatnonzero(mask))
+    # Capped: a fixed share of them, about as many as asked.
+    capped = _candidates(picture, 12.0, 5, int(mask.sum()) // 4)
+    assert np.isin(capped, np.flatnonzero(mask)).all()
+    assert len(capped) == pytest.approx(mask.sum() / 4, rel=0.15)
+
+
+def test_region_percentile_is_numpys():
+    from sharpzone.measure.defocus import _percentile_of_sorted
+
+    rng = np.random.default_rng(9)
+    for size in (1, 2, 24, 101):
+        values = np.sort(rng.random(size))
+        for percent in (0, 50, 63, 99, 100):
+            assert _percentile_of_sorted(values, percent) == pytest.approx(np.percentile(values, percent))
+
+
+@pytest.mark.parametrize("diameter", [6.0, 12.0, 20.0])
+def test_the_two_scales_read_a_large_ideal_disk_edge_alike(diameter):
+    """A consistency check of the half-size reading: the ideal disk edge the table is made
+    from, read through both scales, comes back as its diameter (the check against blurs made
+    outside the estimator is the silhouette in test_validation.py)."""
+    from sharpzone.measure.defocus import _disk_edge_profile, edge_blur, region_blur
+
+    picture = np.repeat(_disk_edge_profile(diameter)[None, :], 64, axis=0) * 0.8 + 20
+    edges = edge_blur(picture)
+    assert edges.coarse.any() and not edges.coarse.all()
+    read, _ = region_blur(edges, 0, edges.height, 0, edges.width)
+    assert read == pytest.approx(diameter, rel=0.08)

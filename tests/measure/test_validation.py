@@ -4,10 +4,12 @@ textures, no people). Each test prints its table (run with ``-s`` to see it; doc
 quotes the figures).
 
 The truth is the kernel applied, a uniform disk of known diameter (geometric optics' blur
-circle) or a Gaussian of known σ. A sample picture is not perfectly sharp itself: its own
-blur and the applied one add in quadrature (variances of independent blurs add), so each
-expected value is the kernel combined with the picture's own reading, and the error against
-the kernel alone is printed beside it.
+circle) or a Gaussian of known σ. A photograph is not perfectly sharp itself: its own blur and
+the applied one add in quadrature (variances of independent blurs add), so up to 4 px the
+expected value is the kernel combined with the picture's own reading; from 6 px on, where
+even the softest picture's own blur moves the truth by under 10 %, the reading is also held
+to the kernel alone; and the horse silhouette (a binary mask: edges as sharp as the pixel
+grid allows) is held to the kernel alone at every size.
 """
 
 from __future__ import annotations
@@ -19,7 +21,9 @@ import pandas as pd
 import pytest
 
 from sharpzone.analysis.blur_checks import blur_flags
-from sharpzone.measure.defocus import edge_blur, edge_sigmas, measure_blur, region_blur
+from sharpzone.measure.defocus import (
+    BLUR_PERCENTILE, STRONG_EDGE_SHARE, edge_blur, edge_sigmas, measure_blur, region_blur,
+)
 from tests.measure.pictures import OBJECTS, TEXTURES, camera_like, disk_blur, sample
 
 pytest.importorskip("skimage")
@@ -35,9 +39,18 @@ def whole_picture_blur(grey) -> float:
 
 
 def whole_picture_sigma(grey) -> float:
+    """Zhuo–Sim's σ over the whole picture, with the region statistic the measurement uses."""
     sigmas = edge_sigmas(grey)
-    strong = sigmas.strength >= 0.5 * np.percentile(sigmas.strength, 99)
-    return float(np.percentile(sigmas.diameter_px[strong], 80))
+    strong = sigmas.strength >= STRONG_EDGE_SHARE * np.percentile(sigmas.strength, 99)
+    return float(np.percentile(sigmas.diameter_px[strong], BLUR_PERCENTILE))
+
+
+def silhouette() -> np.ndarray:
+    """scikit-image's horse silhouette as grey levels 28..228: a binary mask, so its edges are
+    steps between neighbouring pixels, with no blur of their own."""
+    from skimage import data
+
+    return np.where(data.horse(), 28.0, 228.0)
 
 
 @pytest.fixture(scope="module")
@@ -64,12 +77,41 @@ def disk_table():
 def test_disk_blur_of_2_to_12_px_is_read_within_20_percent_on_pictures_of_objects(disk_table):
     objects = disk_table[(disk_table["kind"] == "object") & disk_table["disk_px"].between(2, 12)]
     errors = objects["error_vs_combined"].abs()
-    print(f"objects, 2–12 px: mean |error| {errors.mean():.0%}, within 20 % in {(errors <= 0.2).mean():.0%} of cases")
-    assert errors.mean() <= 0.12
-    # Up to 10 px every case is within 20 %; at 12 px neighbouring edges start to overlap
-    # and the reading falls up to a quarter short.
-    assert (objects[objects["disk_px"] <= 10]["error_vs_combined"].abs() <= 0.20).all()
-    assert (objects["error_vs_combined"].abs() <= 0.25).all()
+    worst = objects.loc[errors.idxmax()]
+    print(f"objects, 2–12 px: mean |error| {errors.mean():.0%}, within 20 % in {(errors <= 0.2).mean():.0%} of cases, "
+          f"worst {worst['error_vs_combined']:+.0%} ({worst['picture']}, {worst['disk_px']} px); by size: "
+          + ", ".join(f"{size} px {rows['error_vs_combined'].min():+.0%}…{rows['error_vs_combined'].max():+.0%}"
+                      for size, rows in objects.groupby("disk_px")))
+    assert (errors <= 0.20).all()
+    assert errors.mean() <= 0.10
+    # From 6 px on the picture's own blur hardly matters: the kernel alone is the truth.
+    large = objects[objects["disk_px"] >= 6]
+    assert (large["error_vs_disk"].abs() <= 0.20).all()
+
+
+def test_disk_and_gaussian_blur_of_a_sharp_silhouette_are_read_as_applied():
+    """The horse silhouette has no blur of its own: every reading is held to the kernel alone.
+    A Gaussian σ is also read as a disk diameter: the sharp-edge equivalence is d = 2√2 σ (the
+    Gaussian whose σ is the disk's spread parameter r/√2; M. Subbarao, "Parallel depth recovery
+    by changing camera parameters", ICCV 1988, from memory)."""
+    from scipy.ndimage import gaussian_filter
+
+    picture = silhouette()
+    rows = []
+    for diameter in DIAMETERS[1:]:
+        read = whole_picture_blur(disk_blur(picture, diameter))
+        rows.append({"kernel": f"disk {diameter} px", "truth_px": diameter, "read_px": read})
+    for sigma in GAUSSIAN_SIGMAS:
+        blurred = gaussian_filter(picture, sigma)
+        rows.append({"kernel": f"Gaussian σ {sigma} px (σ read)", "truth_px": sigma, "read_px": whole_picture_sigma(blurred)})
+        rows.append({"kernel": f"Gaussian σ {sigma} px (as a disk, 2√2 σ)", "truth_px": 2 * math.sqrt(2) * sigma,
+                     "read_px": whole_picture_blur(blurred)})
+    table = pd.DataFrame(rows)
+    table["error"] = table["read_px"] / table["truth_px"] - 1
+    print("\nThe horse silhouette (no blur of its own), read vs applied")
+    print(table.to_string(index=False, formatters={"error": "{:+.0%}".format, "read_px": "{:.2f}".format,
+                                                   "truth_px": "{:.2f}".format}))
+    assert (table["error"].abs() <= 0.20).all()
 
 
 def test_fine_textures_read_low_at_large_blur_a_stated_limit(disk_table):
@@ -102,9 +144,13 @@ def test_gaussian_blur_reads_as_its_sigma_in_the_papers_model():
     table = pd.DataFrame(rows)
     print("\nGaussian blur of known σ: σ read by the gradient ratio (error vs σ combined with the picture's own)")
     print(table.pivot(index="picture", columns="sigma_px", values="error").map(lambda v: f"{v:+.0%}"))
-    # The rocket's large plain areas read up to 30 % high at σ 3 px; the mean stays near 10 %.
-    assert (table["error"].abs() <= 0.35).all()
-    assert table["error"].abs().mean() <= 0.15
+    worst = table.loc[table["error"].abs().idxmax()]
+    print(f"worst {worst['error']:+.0%} ({worst['picture']}, σ {worst['sigma_px']} px), "
+          f"mean |error| {table['error'].abs().mean():.0%}")
+    # The rocket's launch tower (parallel structure under the Gaussian's long tails) reads
+    # highest, near 20 % at σ 3 px.
+    assert (table["error"].abs() <= 0.20).all()
+    assert table["error"].abs().mean() <= 0.10
 
 
 def _verdicts(measurement, *, coc_mm=0.03, exposure_s=1 / 250, focal_mm=50.0):
