@@ -47,6 +47,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+# The estimator's public functions: ``measure_blur`` is what the service runs; the others
+# give its steps alone (the σ of every edge pixel, their disk diameters, one region's figure)
+# for anyone who wants to study a picture's blur map.
+__all__ = ["BlurMeasurement", "EdgeBlur", "disk_diameter_px", "edge_blur", "edge_sigmas", "grey_levels",
+           "measure_blur", "noise_level", "region_blur"]
+
 METHOD = "zhuo-sim-2011-edge-reblur"
 # 2: large blurs read again at half size, the disk table pooled over sub-pixel positions,
 # the 63rd percentile (1 read 2–12 px disks within 25 %, Gaussian blur up to 31 % high).
