@@ -189,7 +189,8 @@ class ReaderPool:
         """``read`` driven by a thread of its own, so the workers keep reading while the
         caller is busy with what came back (writing a batch to the catalogue). The caller
         should close this generator (``contextlib.closing``) when it stops early."""
-        results: queue.Queue = queue.Queue(maxsize=READ_AHEAD)
+        # Answers go across in the lists they came in: one hand-over per list, not per file.
+        results: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
         stop = threading.Event()
 
         def put(item) -> bool:
@@ -203,8 +204,8 @@ class ReaderPool:
 
         def run() -> None:
             try:
-                for result in self.read(tasks, stop=stop):
-                    if not put(result):
+                for answers in self._read_lists(tasks, stop=stop):
+                    if not put(answers):
                         return
                 put(_DONE)
             except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
@@ -219,7 +220,7 @@ class ReaderPool:
                     return
                 if isinstance(item, _Failed):
                     raise item.error
-                yield item
+                yield from item
         finally:
             stop.set()
             thread.join()
@@ -227,6 +228,12 @@ class ReaderPool:
     def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator[CaptureRecord | ReadProblem]:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
         (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
+        for answers in self._read_lists(tasks, stop=stop):
+            yield from answers
+
+    def _read_lists(self, tasks: Iterable[Task], *, stop: threading.Event | None = None
+                    ) -> Iterator[list[CaptureRecord | ReadProblem]]:
+        """``read``, the results in the lists the workers send them in."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
@@ -269,7 +276,7 @@ class ReaderPool:
                 if worker.queue and now - worker.head_since > self.time_limit_s:
                     yield from self._replace(worker, timed_out(self.time_limit_s), retry)
 
-    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[CaptureRecord | ReadProblem]:
+    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[list[CaptureRecord | ReadProblem]]:
         """Every answer the worker has sent; if it died, its culprit and a replacement."""
         try:
             while worker.queue and worker.connection.poll():
@@ -277,13 +284,13 @@ class ReaderPool:
                 for _ in answers:
                     worker.queue.popleft()
                 worker.answered += len(answers)
-                yield from answers
+                yield answers
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
             yield from self._replace(worker, CRASHED, retry)
 
-    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[ReadProblem]:
+    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[list[ReadProblem]]:
         queue = list(worker.queue)
         # Files before the one at work were read but their answers died with the worker:
         # they are read again. (If every file was read, the first takes the blame, so a
@@ -296,4 +303,4 @@ class ReaderPool:
         worker.stop(at_once=True)
         self._workers[self._workers.index(worker)] = _Worker(self._context, self.reader)
         self.replaced += 1
-        yield ReadProblem(culprit[0], reason)
+        yield [ReadProblem(culprit[0], reason)]
