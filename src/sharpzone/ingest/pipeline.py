@@ -264,7 +264,7 @@ def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProbl
 def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
                  target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
                  found: set[str] | None) -> None:
-    from sqlalchemy import delete, update
+    from sqlalchemy import delete, select, update
 
     from sharpzone.catalog.models import Frame, IngestProblem
     from sharpzone.catalog.upsert import upsert_values
@@ -328,7 +328,8 @@ def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem
                 written = upsert_values(session, Frame, FRAME_COLUMNS, rows, ["path"])
                 added, updated = written.inserted, written.updated
                 touched = read_ok + [path for path, _ in failed]
-                if touched:
+                # (An empty problem table, as after most runs, needs no delete by 500 paths.)
+                if touched and session.execute(select(IngestProblem.id).limit(1)).first() is not None:
                     session.execute(delete(IngestProblem).where(IngestProblem.path.in_(touched)))
                 if problem_rows:
                     session.execute(IngestProblem.__table__.insert(), problem_rows)

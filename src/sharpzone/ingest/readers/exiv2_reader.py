@@ -161,8 +161,24 @@ def _tags(exiv2, data, is_raw: bool) -> Tags:
     return tags
 
 
+_type_ids: dict[str | None, int] | None = None
+
+
+def _type_id(datum) -> int:
+    """The datum's TypeId as a number, told by its type's name: the bindings turn
+    ``typeId()`` into a Python enum member, which costs three times the name."""
+    global _type_ids
+    if _type_ids is None:
+        import exiv2
+
+        _type_ids = {exiv2.TypeInfo.typeName(member): int(member) for member in exiv2.TypeId}
+        _type_ids.pop(None, None)  # types without a name are asked for their number
+    type_id = _type_ids.get(datum.typeName())
+    return int(datum.typeId()) if type_id is None else type_id
+
+
 def _plain_value(datum) -> TagValue:
-    type_id = int(datum.typeId())
+    type_id = _type_id(datum)
     count = datum.count()
     if type_id in _TEXT_TYPES:
         text = datum.toString()[:_MAX_TEXT_BYTES].strip("\x00 \t\r\n")
