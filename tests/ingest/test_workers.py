@@ -47,7 +47,7 @@ def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written
     bad = [f"C{n}_segv.JPG" for n in range(5)] + ["H_segv.JPG"]
     _card(written, folder, 30, bad)
     tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
-    for depth in (4, 64):
+    for depth in (4, 64, 128):
         with ReaderPool(misbehaving_reader, 2, depth=depth) as pool:
             results = list(pool.read_in_background(tasks))
             assert pool.replaced == 6

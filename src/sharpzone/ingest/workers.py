@@ -36,9 +36,9 @@ Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
 Task = tuple[str, "float | None"]
 
 # Files in flight per worker: enough that a worker never waits for the parent between files.
-DEPTH = 64
+DEPTH = 128
 # Answers a worker sends at once at most (it sends fewer when it has nothing more to read).
-RESULT_BATCH = 16
+RESULT_BATCH = 32
 # Per-file time limit (seconds) unless the caller says otherwise.
 TIME_LIMIT_S = 30.0
 # How often an idle worker checks that its parent is still there, and how often the
@@ -240,20 +240,27 @@ class ReaderPool:
         if not self._workers:
             self._workers = [_Worker(self._context, self.reader) for _ in range(self.size)]
         while True:
-            for worker in self._workers:
-                room = self.depth - len(worker.queue)
-                if room < min(RESULT_BATCH, max(1, self.depth // 4)) and worker.queue:
-                    continue  # top up in batches, not file by file
-                batch = []
-                while len(batch) < room and retry:
-                    batch.append(retry.popleft())
-                while len(batch) < room and not exhausted:
-                    try:
-                        batch.append(next(tasks))
-                    except StopIteration:
-                        exhausted = True
-                if batch:
-                    worker.send(batch)
+            # Top up in batches, not file by file, and in turns of at most RESULT_BATCH
+            # files each, so a short run is shared between the workers too.
+            chunk = min(RESULT_BATCH, max(1, self.depth // 4))
+            sent = True
+            while sent:
+                sent = False
+                for worker in self._workers:
+                    room = min(self.depth - len(worker.queue), chunk)
+                    if room < chunk and worker.queue:
+                        continue
+                    batch = []
+                    while len(batch) < room and retry:
+                        batch.append(retry.popleft())
+                    while len(batch) < room and not exhausted:
+                        try:
+                            batch.append(next(tasks))
+                        except StopIteration:
+                            exhausted = True
+                    if batch:
+                        worker.send(batch)
+                        sent = True
             busy = [worker for worker in self._workers if worker.queue]
             if not busy or (stop is not None and stop.is_set()):
                 return
