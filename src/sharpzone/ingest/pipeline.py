@@ -227,9 +227,16 @@ def _known_by_inode(session: Session, rows: list[list]) -> dict[tuple[int, int],
     for device, inode in ids:
         by_device.setdefault(device, []).append(inode)
     known = {}
+    connection = session.connection()
     for device, inodes in by_device.items():
-        found = session.execute(select(Frame.id, Frame.path, Frame.inode)
-                                .where(Frame.device == device, Frame.inode.in_(inodes)))
+        if connection.dialect.name == "sqlite":  # written for sqlite3 itself: SQLAlchemy's
+            # expansion of a 500-value IN list costs more than the look-up
+            found = connection.exec_driver_sql(
+                f"SELECT id, path, inode FROM frame WHERE device = ? AND inode IN ({', '.join('?' * len(inodes))})",
+                (device, *inodes))
+        else:
+            found = session.execute(select(Frame.id, Frame.path, Frame.inode)
+                                    .where(Frame.device == device, Frame.inode.in_(inodes)))
         known.update({(device, inode): (frame_id, path) for frame_id, path, inode in found
                       if ids.get((device, inode)) != path})
     return known
@@ -256,17 +263,17 @@ def _signals_held():
             raise _Stop()
 
 
-def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
+def _persist_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile, str]],
                    target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
                    found: set[str] | None = None) -> None:
-    """Write one batch of read results in one transaction (retried once if a concurrent run
-    registered the same body, lens or shoot first); an interrupt waits for it (see
-    ``_signals_held``)."""
+    """Write one batch of read results (each with its scan entry and printable path) in one
+    transaction (retried once if a concurrent run registered the same body, lens or shoot
+    first); an interrupt waits for it (see ``_signals_held``)."""
     with _signals_held():
         _write_batch(catalog, batch, target, stored, matcher_factory, summary, found)
 
 
-def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]],
+def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile, str]],
                  target: _Target, stored: dict[str, _Stored], matcher_factory, summary: IngestSummary,
                  found: set[str] | None) -> None:
     from sqlalchemy import delete, select, update
@@ -287,8 +294,7 @@ def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem
                 memory = getattr(matcher, "memory", None)  # what the run's matcher keeps between batches
                 rows, problem_rows, read_ok = [], [], []
                 shoot_id = None  # the target shoot, made when the first frame needs it
-                for result, candidate in batch:
-                    shown = printable_path(candidate.path)
+                for result, candidate, shown in batch:
                     if isinstance(result, ReadProblem):
                         failed.append((shown, result.reason))
                         problem_rows.append({"shoot_id": target.id, "path": shown, "reason": result.reason})
@@ -528,13 +534,13 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
          prune, shoot_names) -> None:
     """scan → read → match → persist: the scan feeds the readers as it walks, and results
     are written in batches as they come back."""
-    by_path: dict[str, CandidateFile] = plan.by_path
-    batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile]] = []
+    by_path: dict[str, tuple[CandidateFile, str]] = plan.by_path
+    batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile, str]] = []
     done = 0
     results = _read_all(plan.files_to_read(), jobs, reader, time_limit_s)
     try:
         for result in results:
-            batch.append((result, by_path[result.path]))
+            batch.append((result, *by_path[result.path]))
             done += 1
             if len(batch) >= batch_size:
                 _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
@@ -548,7 +554,8 @@ def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, bat
     if batch:
         _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
     if plan.scan_problems:
-        _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, "")) for problem in plan.scan_problems],
+        _persist_batch(catalog, [(problem, CandidateFile(problem.path, 0, 0, ""), problem.printable_path)
+                                 for problem in plan.scan_problems],
                        target, stored, matcher_factory, summary)
     if plan.distance_changes:
         _update_user_distances(catalog, plan.distance_changes)
@@ -597,7 +604,8 @@ class _ReadPlan:
         self.user_distances = user_distances
         self.summary = summary
         self.notify = notify
-        self.by_path: dict[str, CandidateFile] = {}
+        # Each file to read: its scan entry and its path in printable form.
+        self.by_path: dict[str, tuple[CandidateFile, str]] = {}
         self.found: set[str] = set()
         self.known_paths: list[str] = []
         self.scan_problems: list[ReadProblem] = []
@@ -632,7 +640,8 @@ class _ReadPlan:
             if not isinstance(event, CandidateFile):
                 self.summary.ignored += 1
                 continue
-            shown, before = self._lookup(printable_path(event.path), event)
+            printed = printable_path(event.path)
+            shown, before = self._lookup(printed, event)
             self.found.add(shown)
             if before is not None:
                 self.known_paths.append(shown)
@@ -642,7 +651,7 @@ class _ReadPlan:
                 if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
                     self.distance_changes.append((shown, user_mm))
                 continue
-            self.by_path[event.path] = event
+            self.by_path[event.path] = (event, printed)
             count += 1
             yield event.path, user_mm
         self.total_to_read = count

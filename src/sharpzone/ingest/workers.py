@@ -20,8 +20,10 @@ changes.
 from __future__ import annotations
 
 import collections
+import dataclasses
 import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
 import multiprocessing
+import operator
 import os
 import queue
 import signal
@@ -51,6 +53,24 @@ CRASHED = "the metadata reader crashed on this file"
 _STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
 
+# A record crosses the pipe as the tuple of its field values: a third cheaper to unpickle
+# than the dataclass (whose state goes as a dict), in the one process that also writes.
+_RECORD_FIELDS = tuple(field.name for field in dataclasses.fields(CaptureRecord))
+_record_values = operator.attrgetter(*_RECORD_FIELDS)
+
+
+def _packed(result):
+    return _record_values(result) if type(result) is CaptureRecord else result
+
+
+def _unpacked(answer):
+    if type(answer) is not tuple:
+        return answer
+    record = object.__new__(CaptureRecord)  # as unpickling the dataclass itself would make it
+    record.__dict__.update(zip(_RECORD_FIELDS, answer))
+    return record
+
+
 def timed_out(limit_s: float) -> str:
     """The reason given for a file whose reading ran past ``limit_s`` seconds."""
     return f"the metadata reader timed out after {limit_s:g} s on this file"
@@ -78,7 +98,7 @@ def _worker_main(connection, reader: Reader, parent_pid: int, finished) -> None:
                     result = reader(path, user_mm)
                 except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
                     result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
-                answers.append(result)
+                answers.append(_packed(result))
                 finished.value += 1
                 if len(answers) >= RESULT_BATCH:
                     connection.send(answers)
@@ -291,7 +311,7 @@ class ReaderPool:
                 for _ in answers:
                     worker.queue.popleft()
                 worker.answered += len(answers)
-                yield answers
+                yield list(map(_unpacked, answers))
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
