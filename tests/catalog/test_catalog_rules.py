@@ -71,3 +71,46 @@ def test_each_shared_number_is_written_in_one_place_only():
             if re.search(pattern, code):
                 found.add(path.relative_to(root).as_posix())
         assert found == {home}, (pattern, found)
+
+
+# Each value at the edge of its rule: kept (True) or dropped with a warning (False). The
+# bounds are the catalogue's CHECK constraints (rules.CHECKS): above 0, f/0.5 or more (the
+# optics core's floor), fractions 0..1, ±24 h of UTC offset, 32-bit whole numbers;
+# infinity is a focus distance (CIPA DC-008 SubjectDistance 0xFFFFFFFF) and nothing else.
+EDGES = [
+    ("focal_mm", 50.0, True), ("focal_mm", 50, True), ("focal_mm", 0.0, False), ("focal_mm", -35.0, False),
+    ("focal_mm", math.inf, False), ("focal_mm", math.nan, False), ("focal_mm", True, False),
+    ("f_number", 0.5, True), ("f_number", 0.49, False), ("f_number", math.inf, False),
+    ("exposure_s", 1e-4, True), ("exposure_s", 0, False),
+    ("iso", 100, True), ("iso", 400.0, True), ("iso", 0, False), ("iso", 2**31, False), ("iso", 2.5, False),
+    ("iso", False, False),
+    ("utc_offset_minutes", -330, True), ("utc_offset_minutes", 1440, True), ("utc_offset_minutes", 1441, False),
+    ("utc_offset_minutes", 60.5, False),
+    ("focus_mm", math.inf, True), ("focus_mm", 5e-324, True), ("focus_mm", 0.0, False), ("focus_mm", -math.inf, False),
+    ("focus_point_x", 0, True), ("focus_point_x", 1.0, True), ("focus_point_x", 1.0000001, False),
+    ("focus_point_h", -0.01, False), ("subject_distance_range", "close", True), ("subject_distance_range", "far", False),
+    ("width_px", 6000, True), ("width_px", -1, False), ("height_px", 4000.0, True),
+]
+
+
+@pytest.mark.parametrize(("column", "value", "kept"), EDGES)
+def test_each_value_at_the_edge_of_its_rule_is_kept_or_dropped(column, value, kept):
+    warnings: list[str] = []
+    cleaned = frame_within_rules({"path": "/a.jpg", "focus_source": "exif", column: value}, warnings)
+    if kept:
+        assert cleaned[column] is value and warnings == []
+        assert check_row("frame", cleaned) == cleaned
+    else:
+        assert cleaned[column] is None and len(warnings) == 1 and warnings[0].endswith(": ignored")
+
+
+def test_rows_as_lists_are_checked_like_rows_as_dicts():
+    from sharpzone.catalog.rules import frame_values_checker
+
+    columns = ("path", "iso", "focus_source", "focus_near_mm", "focus_mm", "focus_far_mm", "f_number")
+    check = frame_values_checker(columns)
+    assert check is frame_values_checker(columns)  # built once per set of columns
+    warnings: list[str] = []
+    values = check(["/a.jpg", 0, "telepathy", 4000.0, 3000.0, math.inf, 8.0], warnings)
+    assert values == ["/a.jpg", None, "none", None, 3000.0, None, 8.0]
+    assert len(warnings) == 3 and "bracket ignored" in warnings[2]

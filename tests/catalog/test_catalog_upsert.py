@@ -157,3 +157,27 @@ def test_the_row_by_row_path_for_other_databases_gives_the_same_result(catalog):
         assert kept == UpsertResult(kept=1)
     stored = frames_by_path(catalog)
     assert len(stored) == 3 and stored["/cards/a/000001.jpg"].iso == 800
+
+
+def test_rows_as_tuples_in_any_column_order_read_back_like_rows_as_dicts(catalog):
+    import datetime as dt
+
+    from sharpzone.catalog.upsert import upsert_values
+
+    taken = dt.datetime(2026, 5, 17, 14, 3, 22, 50_000)
+    columns = ("warnings", "captured_at", "path", "file_mtime_ns", "file_size", "focus_mm")  # not the table's order
+    with catalog.session_scope() as session:
+        rows = [(None, taken, "/cards/t/1.jpg", 1, 10, math.inf), ("odd", None, "/cards/t/2.jpg", 2, 20, 3000.0),
+                (None, taken, "/cards/t/1.jpg", 3, 30, 2500.0)]  # the last row of a key wins
+        assert upsert_values(session, Frame, columns, rows, ["path"]) == UpsertResult(inserted=2)
+        upsert_rows(session, Frame, [frame_row(3, captured_at=taken)], ["path"])
+    with catalog.session_scope() as session:
+        again = upsert_values(session, Frame, columns, [(None, None, "/cards/t/2.jpg", 4, 40, None),
+                                                         (None, None, "/cards/t/9.jpg", 5, 50, None)], ["path"])
+    assert again == UpsertResult(inserted=1, updated=1)
+    stored = frames_by_path(catalog)
+    first = stored["/cards/t/1.jpg"]
+    assert (first.captured_at, first.file_size, first.focus_mm) == (taken, 30, 2500.0)
+    assert stored["/cards/a/000003.jpg"].captured_at == taken  # the dict path stores it the same way
+    assert (stored["/cards/t/2.jpg"].warnings, stored["/cards/t/2.jpg"].file_size) == (None, 40)
+    assert stored["/cards/t/9.jpg"].focus_source == "none"  # the column default applied

@@ -174,3 +174,36 @@ def test_scripted_matcher_decides(tmp_path, written, catalog_url):
         frame = session.query(Frame).one()
         assert frame.body_id is None and "scripted" in frame.warnings
         assert session.query(Body).count() == 0
+
+
+def test_what_a_run_remembers_between_batches_matches_what_one_batch_does(tmp_path, written, catalog_url):
+    # The zoom of the test above, one frame a batch: the run's memory of the lens between
+    # batches must widen it exactly as one batch does; a body with a format is settled.
+    for number, (focal, f_number) in enumerate([(24, (40, 10)), (50, (56, 10)), (70, (28, 10)), (70, (320, 10)),
+                                                (50, (56, 10))]):
+        written(f"{number}.jpg", jpeg(exif_block(lens_model=b"Mystery zoom", lens_specification=None,
+                                                  focal_length=(focal, 1), f_number=f_number)), tmp_path / "card")
+    with open_catalog(catalog_url) as catalog:
+        summary = ingest_paths(catalog, [tmp_path / "card"], jobs=1, batch_size=1)
+    assert summary.added == 5 and len(summary.registered) == 2  # one body, one lens
+    with session_scope(catalog_url) as session:
+        lens = session.query(Lens).one()
+        assert (lens.focal_min_mm, lens.focal_max_mm) == (24, 70)
+        assert (lens.max_aperture_wide, lens.max_aperture_tele, lens.min_aperture) == (2.8, 2.8, 32.0)
+        assert {frame.lens_id for frame in session.query(Frame)} == {lens.id}
+        assert len({frame.body_id for frame in session.query(Frame)}) == 1
+
+
+def test_a_batch_rolled_back_is_forgotten_by_the_run():
+    from sharpzone.ingest.match import MatchMemory, _KnownBody
+
+    memory = MatchMemory()
+    memory.stage({("a", "b", None): _KnownBody(1, "A B", False)}, {})
+    memory.discard()
+    memory.commit()
+    assert memory.bodies == {}
+    memory.stage({("a", "b", None): _KnownBody(1, "A B", False)}, {})
+    memory.commit()
+    assert memory.bodies[("a", "b", None)].id == 1
+    memory.clear()
+    assert memory.bodies == {} and memory.formats is None

@@ -136,13 +136,14 @@ def test_a_png_and_a_tiff_written_by_pillow_ingest(tmp_path, written, catalog_ur
 KILLABLE = textwrap.dedent("""
     import sys, time
     from sharpzone.catalog.engine import open_catalog
+    from sharpzone.ingest.capture import read_capture
     from sharpzone.ingest.pipeline import ingest_paths
     url, folder = sys.argv[1], sys.argv[2]
-    def slow(stage, done, total):
-        if stage == "read" and done:
-            time.sleep(0.02)
+    def slow(path, user_mm):
+        time.sleep(0.02)
+        return read_capture(path, user_mm)
     with open_catalog(url) as catalog:
-        ingest_paths(catalog, [folder], shoot="Killed", jobs=1, batch_size=10, progress=slow)
+        ingest_paths(catalog, [folder], shoot="Killed", jobs=1, batch_size=10, reader=slow)
 """)
 
 
@@ -266,3 +267,18 @@ def test_nothing_to_ingest_is_refused_before_anything_is_written(tmp_path):
         from sharpzone.catalog.models import Shoot
 
         assert session.query(Shoot).count() == 0
+
+
+def test_progress_comes_every_so_many_files_and_at_the_end(tmp_path, written):
+    from sharpzone.catalog.location import sqlite_url
+    from sharpzone.ingest.pipeline import PROGRESS_EVERY
+
+    count = 2 * PROGRESS_EVERY + 6
+    for number in range(count):
+        written(f"P{number:03d}.JPG", jpeg(exif_block()), tmp_path / "progress")
+    calls = []
+    with open_catalog(sqlite_url(tmp_path / "progress.sqlite")) as catalog:
+        ingest_paths(catalog, [tmp_path / "progress"], jobs=1, progress=lambda *call: calls.append(call))
+    read = [(done, total) for stage, done, total in calls if stage == "read" and done]
+    assert [done for done, _ in read] == [PROGRESS_EVERY, 2 * PROGRESS_EVERY, count]
+    assert read[-1] == (count, count)

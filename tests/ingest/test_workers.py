@@ -47,10 +47,29 @@ def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written
     bad = [f"C{n}_segv.JPG" for n in range(5)] + ["H_segv.JPG"]
     _card(written, folder, 30, bad)
     tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
-    for depth in (4, 64):
+    for depth in (4, 64, 128):
         with ReaderPool(misbehaving_reader, 2, depth=depth) as pool:
             results = list(pool.read_in_background(tasks))
             assert pool.replaced == 6
         assert sorted(result.path for result in results) == sorted(path for path, _ in tasks)
         crashed = [os.path.basename(r.path) for r in results if getattr(r, "reason", None) == CRASHED]
         assert sorted(crashed) == sorted(bad)
+
+
+def test_a_record_read_in_a_worker_arrives_as_it_was_read(tmp_path, written):
+    # Records cross the pipe as tuples of their values (workers._packed): what arrives must
+    # equal what the reader made, field for field, with its warnings and a damaged file's reason.
+    from sharpzone.ingest.capture import read_capture
+    from sharpzone.ingest.records import CaptureRecord, ReadProblem
+
+    folder = tmp_path / "same"
+    _card(written, folder, 6, [])
+    written("broken.JPG", b"\xff\xd8\xff\xe1\x00\x10Exif\x00\x00II*\x00", folder)
+    tasks = [(str(folder / name), 2500.0 if name == "G001.JPG" else None) for name in sorted(os.listdir(folder))]
+    with ReaderPool(read_capture, 2) as pool:
+        arrived = {result.path: result for result in pool.read(tasks)}
+    expected = {path: read_capture(path, user_mm) for path, user_mm in tasks}
+    assert arrived == expected
+    assert sum(isinstance(result, CaptureRecord) for result in arrived.values()) == 6
+    assert isinstance(arrived[str(folder / "broken.JPG")], ReadProblem)
+    assert arrived[str(folder / "G001.JPG")].focus_source == "user"

@@ -9,6 +9,7 @@ value breaks a rule. No database, no numpy.
 
 from __future__ import annotations
 
+import functools
 import math
 
 from sharpzone.errors import InvalidValue
@@ -303,9 +304,33 @@ _FRAME_VALUE_RULES = {
     **{f"focus_point_{axis}": (f"focus point {axis}", fraction) for axis in ("x", "y", "w", "h")},
 }
 
+# Values each rule above surely accepts, told by type and range alone (low ≤ value ≤ high),
+# so that a row of ordinary values is checked without a call per value; anything else goes
+# to the rule itself, which decides. The smallest positive float stands for "above 0", the
+# largest finite one for "finite".
+_ABOVE_0, _FINITE = 5e-324, 1.7976931348623157e308
+_NUMBERS, _WHOLE = frozenset((int, float)), frozenset((int,))
+_SURELY_ACCEPTED = {
+    "focal_mm": (_NUMBERS, _ABOVE_0, _FINITE),
+    "focal_35mm_mm": (_NUMBERS, _ABOVE_0, _FINITE),
+    "f_number": (_NUMBERS, MIN_F_NUMBER, _FINITE),
+    "exposure_s": (_NUMBERS, _ABOVE_0, _FINITE),
+    "iso": (_WHOLE, 1, INTEGER_RANGE[1]),
+    "width_px": (_WHOLE, 1, INTEGER_RANGE[1]),
+    "height_px": (_WHOLE, 1, INTEGER_RANGE[1]),
+    "utc_offset_minutes": (_WHOLE, -MAX_UTC_OFFSET_MINUTES, MAX_UTC_OFFSET_MINUTES),
+    "focus_mm": (_NUMBERS, _ABOVE_0, math.inf),
+    "focus_near_mm": (_NUMBERS, _ABOVE_0, math.inf),
+    "focus_far_mm": (_NUMBERS, _ABOVE_0, math.inf),
+    **{f"focus_point_{axis}": (_NUMBERS, 0.0, 1.0) for axis in ("x", "y", "w", "h")},
+}
+
 
 def _focus_bracket(values: dict, label: str) -> None:
-    near, focus, far = (values.get(key) for key in ("focus_near_mm", "focus_mm", "focus_far_mm"))
+    _check_bracket(values.get("focus_near_mm"), values.get("focus_mm"), values.get("focus_far_mm"), label)
+
+
+def _check_bracket(near, focus, far, label: str) -> None:
     known = [value for value in (near, focus, far) if value is not None]
     if known != sorted(known):
         raise InvalidValue(f"{label}: focus bracket {near!r} – {far!r} mm must hold the focus distance {focus!r} mm "
@@ -325,24 +350,45 @@ def frame_within_rules(values: dict, warnings: list[str]) -> dict:
     """``values`` of a frame read from a file, with each value that breaks a rule dropped
     (``None``, a focus source unknown to the catalogue becomes "none") and a warning for it,
     so what a reader hands over always fits the catalogue's CHECK constraints."""
-    cleaned = dict(values)
-    if cleaned.get("focus_source", "none") not in FOCUS_SOURCES:
-        warnings.append(f"focus source {cleaned['focus_source']!r} ignored: not one the catalogue knows")
-        cleaned["focus_source"] = "none"
-    for column, (what, rule) in _FRAME_VALUE_RULES.items():
-        if cleaned.get(column) is None:
-            continue
+    columns = tuple(values)
+    return dict(zip(columns, frame_values_checker(columns)(list(values.values()), warnings)))
+
+
+@functools.lru_cache(maxsize=16)
+def frame_values_checker(columns: tuple[str, ...]):
+    """``frame_within_rules`` for rows given as lists of the values of ``columns`` (in that
+    order): returns ``check(values, warnings) -> values``, which cleans the list in place.
+    Built once per set of columns; the ingest checks every frame it writes with it."""
+    at = {column: index for index, column in enumerate(columns)}
+    source_at = at.get("focus_source")
+    bracket = tuple(at.get(column) for column in ("focus_near_mm", "focus_mm", "focus_far_mm"))
+    plan = tuple((at[column], what, rule, *_SURELY_ACCEPTED.get(column, (frozenset(), 0, 0)))
+                 for column, (what, rule) in _FRAME_VALUE_RULES.items() if column in at)
+
+    def check(values: list, warnings: list[str]) -> list:
+        if source_at is not None and values[source_at] not in FOCUS_SOURCES:
+            warnings.append(f"focus source {values[source_at]!r} ignored: not one the catalogue knows")
+            values[source_at] = "none"
+        for index, what, rule, types, low, high in plan:
+            value = values[index]
+            if value is None or (type(value) in types and low <= value <= high):
+                continue
+            try:
+                rule(value, what)
+            except InvalidValue as error:
+                warnings.append(f"{error.message}: ignored")
+                values[index] = None
+        near, focus, far = (None if index is None else values[index] for index in bracket)
         try:
-            rule(cleaned[column], what)
+            _check_bracket(near, focus, far, "focus")
         except InvalidValue as error:
-            warnings.append(f"{error.message}: ignored")
-            cleaned[column] = None
-    try:
-        _focus_bracket(cleaned, "focus")
-    except InvalidValue as error:
-        warnings.append(f"{error.message}: bracket ignored")
-        cleaned["focus_near_mm"] = cleaned["focus_far_mm"] = None
-    return cleaned
+            warnings.append(f"{error.message}: bracket ignored")
+            for index in (bracket[0], bracket[2]):
+                if index is not None:
+                    values[index] = None
+        return values
+
+    return check
 
 
 def _frame_row(values: dict) -> dict:

@@ -17,6 +17,8 @@ from __future__ import annotations
 
 import datetime as dt
 
+from operator import itemgetter
+
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -63,38 +65,69 @@ def upsert_rows(
     the order given: where other programs may write the same keys at the same time, give
     them in key order, so that both lock rows in one order and wait instead of deadlocking.
     """
+    names = _names(key_columns)
+    if key_columns and names is not None:  # the last row of each key, whatever its shape
+        rows = {tuple(row.get(name) for name in names): row for row in rows}.values()
+    groups: dict[tuple[str, ...], list[tuple]] = {}  # one statement needs one shape
+    for row in rows:
+        groups.setdefault(tuple(row), []).append(tuple(row.values()))
+    result = UpsertResult()
+    for columns, values in groups.items():
+        result += upsert_values(session, model, columns, values, key_columns, update_columns)
+    return result
+
+
+def upsert_values(
+    session: Session,
+    model: Any,
+    columns: Sequence[str],
+    rows: Sequence[Sequence[Any]],
+    key_columns: Sequence[str | ColumnElement] = (),
+    update_columns: Sequence[str] | None = None,
+) -> UpsertResult:
+    """``upsert_rows`` for rows given as tuples of the values of ``columns``, in that order
+    (every row gives every one): no dict per row, and the statement is built once per
+    table and shape for the life of the program (the ingest writes thousands of rows a
+    second this way)."""
     table = model.__table__
-    rows = _last_row_per_key([dict(row) for row in rows], key_columns)
+    columns = tuple(columns)
+    rows = _last_row_per_key(columns, rows, key_columns)
     if not rows:
         return UpsertResult()
     session.flush()  # pending ORM changes go first, so our statements see them
     connection = session.connection()
     dialect = connection.dialect.name
     result = UpsertResult()
-    for batch in _batches_of_same_columns(rows):
+    for start in range(0, len(rows), BATCH_ROWS):
+        batch = rows[start : start + BATCH_ROWS]
         if not key_columns:
-            connection.execute(table.insert(), batch)
+            connection.execute(table.insert(), _as_dicts(columns, batch))
             result += UpsertResult(inserted=len(batch))
         elif dialect == "postgresql":
-            result += _upsert_postgresql(connection, table, batch, key_columns, update_columns)
+            result += _upsert_postgresql(connection, table, columns, batch, key_columns, update_columns)
         elif dialect == "sqlite":
             # SQLite lets one writer in at a time, and a transaction that read before another
             # one's commit cannot write at all, so counting the keys already there is exact.
-            statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns)
             if _names(key_columns) is not None:
-                present = _count_present(connection, table, batch, key_columns)
-                _execute_sqlite(connection, statement, batch)
+                present = _count_present(connection, table, columns, batch, key_columns)
+                # None there yet (a first ingest): a plain INSERT, a quarter cheaper for
+                # SQLite than one that must look for a conflict on every row.
+                _execute_sqlite(connection, table, columns, batch, key_columns, update_columns, plain=not present)
             else:  # an expression key: the table's growth tells the new rows
                 before = _count_rows(connection, table)
-                _execute_sqlite(connection, statement, batch)
+                _execute_sqlite(connection, table, columns, batch, key_columns, update_columns)
                 present = len(batch) - (_count_rows(connection, table) - before)
-            changed = bool(_changes(batch[0], key_columns, update_columns))
+            changed = bool(_changes(columns, key_columns, update_columns))
             result += UpsertResult(len(batch) - present, *((present, 0) if changed else (0, present)))
         else:
-            result += _upsert_one_by_one(connection, table, batch, key_columns, update_columns)
-    if any(column.name in rows[0] for column in table.primary_key.columns):
+            result += _upsert_one_by_one(connection, table, _as_dicts(columns, batch), key_columns, update_columns)
+    if any(column.name in columns for column in table.primary_key.columns):
         sync_id_sequences(connection, [model])
     return result
+
+
+def _as_dicts(columns: tuple[str, ...], rows: Sequence[Sequence[Any]]) -> list[dict]:
+    return [dict(zip(columns, row)) for row in rows]
 
 
 def _names(key_columns: Sequence[str | ColumnElement]) -> list[str] | None:
@@ -102,34 +135,39 @@ def _names(key_columns: Sequence[str | ColumnElement]) -> list[str] | None:
     return list(key_columns) if all(isinstance(key, str) for key in key_columns) else None
 
 
-def _last_row_per_key(rows: list[dict], key_columns: Sequence[str | ColumnElement]) -> list[dict]:
+def _key_of(columns: tuple[str, ...], names: list[str]):
+    """A function giving a row's key (a tuple of its key columns' values)."""
+    positions = [columns.index(name) if name in columns else None for name in names]
+    if None in positions:  # a key column the rows leave out is NULL in every row
+        return lambda row: tuple(None if at is None else row[at] for at in positions)
+    getter = itemgetter(*positions)
+    return (lambda row: (getter(row),)) if len(positions) == 1 else getter
+
+
+def _last_row_per_key(columns: tuple[str, ...], rows: Sequence[Sequence[Any]], key_columns) -> list:
     # PostgreSQL refuses to update one row twice in one statement.
     names = _names(key_columns)
     if not key_columns or names is None:
-        return rows
-    return list({tuple(row.get(name) for name in names): row for row in rows}.values())
+        return list(rows)
+    key = _key_of(columns, names)
+    return list({key(row): row for row in rows}.values())
 
 
-def _batches_of_same_columns(rows: list[dict]) -> Iterable[list[dict]]:
-    """Rows grouped by the columns they give (one statement needs one shape), in pieces of
-    ``BATCH_ROWS``."""
-    groups: dict[tuple[str, ...], list[dict]] = {}
-    for row in rows:
-        groups.setdefault(tuple(sorted(row)), []).append(row)
-    for group in groups.values():
-        for start in range(0, len(group), BATCH_ROWS):
-            yield group[start : start + BATCH_ROWS]
-
-
-def _count_present(connection: Connection, table, batch: list[dict], key_columns) -> int:
-    """How many rows of ``batch`` already have their key in ``table``."""
-    from sqlalchemy import func, select, tuple_
-
+def _count_present(connection: Connection, table, columns, batch, key_columns) -> int:
+    """How many rows of ``batch`` already have their key in ``table`` (SQLite: one
+    statement written for sqlite3 itself; SQLAlchemy's expansion of a long ``IN`` list
+    costs more than the look-up)."""
     names = _names(key_columns)
-    keys = [tuple(row.get(name) for name in names) for row in batch]
-    columns = [table.columns[name] for name in names]
-    match = columns[0].in_([key[0] for key in keys]) if len(columns) == 1 else tuple_(*columns).in_(keys)
-    return connection.scalar(select(func.count()).select_from(table).where(match)) or 0
+    keys = list(map(_key_of(columns, names), batch))
+    quote = connection.dialect.identifier_preparer.quote
+    if len(names) == 1:
+        wanted, places, values = quote(names[0]), ", ".join("?" * len(keys)), [key[0] for key in keys]
+    else:
+        row = f"({', '.join('?' * len(names))})"
+        wanted = f"({', '.join(map(quote, names))})"
+        places, values = f"VALUES {', '.join([row] * len(keys))}", [value for key in keys for value in key]
+    sql = f"SELECT count(*) FROM {quote(table.name)} WHERE {wanted} IN ({places})"
+    return connection.exec_driver_sql(sql, tuple(values)).scalar() or 0
 
 
 def _count_rows(connection: Connection, table) -> int:
@@ -138,10 +176,9 @@ def _count_rows(connection: Connection, table) -> int:
     return connection.scalar(select(func.count()).select_from(table)) or 0
 
 
-def _changes(row: Mapping[str, Any], key_columns, update_columns) -> list[str]:
+def _changes(columns: Sequence[str], key_columns, update_columns) -> list[str]:
     names = set(_names(key_columns) or ())
-    columns = [column for column in row if column not in names] if update_columns is None else list(update_columns)
-    return columns
+    return [column for column in columns if column not in names] if update_columns is None else list(update_columns)
 
 
 def _conflict_target(connection: Connection, table, key_columns) -> list:
@@ -155,7 +192,7 @@ def _conflict_target(connection: Connection, table, key_columns) -> list:
     return [table.columns[key] if isinstance(key, str) else inline(key) for key in key_columns]
 
 
-def _on_conflict_insert(connection: Connection, table, batch, key_columns, update_columns, source=None):
+def _on_conflict_insert(connection: Connection, table, columns, key_columns, update_columns, source=None):
     """``INSERT … ON CONFLICT`` built with the connection's own dialect (SQLite or
     PostgreSQL); rows come as parameters, or from the ``source`` select when given."""
     if connection.dialect.name == "postgresql":
@@ -165,8 +202,8 @@ def _on_conflict_insert(connection: Connection, table, batch, key_columns, updat
 
     statement = insert(table)
     if source is not None:
-        statement = statement.from_select(list(batch[0]), source)
-    changes = _changes(batch[0], key_columns, update_columns)
+        statement = statement.from_select(list(columns), source)
+    changes = _changes(columns, key_columns, update_columns)
     target = _conflict_target(connection, table, key_columns)
     if changes:
         return statement.on_conflict_do_update(
@@ -179,7 +216,7 @@ def _on_conflict_insert(connection: Connection, table, batch, key_columns, updat
 STAGING_TABLE = "sharpzone_incoming"
 
 
-def _upsert_postgresql(connection: Connection, table, batch, key_columns, update_columns) -> UpsertResult:
+def _upsert_postgresql(connection: Connection, table, columns, batch, key_columns, update_columns) -> UpsertResult:
     """PostgreSQL's own bulk path: ``COPY`` the batch into a temporary table, then one
     ``INSERT … SELECT … ON CONFLICT``. A statement with thousands of parameters instead
     costs more to build and parse than the insert itself."""
@@ -189,66 +226,100 @@ def _upsert_postgresql(connection: Connection, table, batch, key_columns, update
     # xmax is 0 for a row this statement inserted and the updating transaction otherwise;
     # rows left alone by DO NOTHING return nothing.
     inserted_flag = literal_column("(xmax = 0)").label("inserted")
-    names = list(batch[0])
-    if _python_defaults_left_out(table, names):  # the ordinary path fills them in
-        statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns)
-        flags = connection.execute(statement.returning(inserted_flag), batch).scalars().all()
+    if _python_defaults_left_out(table, columns):  # the ordinary path fills them in
+        statement = _on_conflict_insert(connection, table, columns, key_columns, update_columns)
+        flags = connection.execute(statement.returning(inserted_flag), _as_dicts(columns, batch)).scalars().all()
     else:
-        _copy_to_staging(connection, table, names, batch)
-        staging = table_clause(STAGING_TABLE, column("sharpzone_ordinal"), *(column(name) for name in names))
-        source = select(*(staging.c[name] for name in names)).order_by(staging.c.sharpzone_ordinal)
-        statement = _on_conflict_insert(connection, table, batch, key_columns, update_columns, source=source)
+        _copy_to_staging(connection, table, columns, batch)
+        staging = table_clause(STAGING_TABLE, column("sharpzone_ordinal"), *(column(name) for name in columns))
+        source = select(*(staging.c[name] for name in columns)).order_by(staging.c.sharpzone_ordinal)
+        statement = _on_conflict_insert(connection, table, columns, key_columns, update_columns, source=source)
         flags = connection.execute(statement.returning(inserted_flag)).scalars().all()
         connection.exec_driver_sql(f"DROP TABLE {STAGING_TABLE}")
     inserted = sum(1 for flag in flags if flag)
-    if _changes(batch[0], key_columns, update_columns):
+    if _changes(columns, key_columns, update_columns):
         return UpsertResult(inserted=inserted, updated=len(flags) - inserted)
     return UpsertResult(inserted=inserted, kept=len(batch) - inserted)
 
 
-def _python_defaults_left_out(table, names: list[str]) -> bool:
+def _python_defaults_left_out(table, names: Sequence[str]) -> bool:
     """Whether a column the rows leave out has a default only SQLAlchemy knows."""
     return any(column.default is not None and column.server_default is None and column.name not in names
                for column in table.columns)
 
 
-def _copy_to_staging(connection: Connection, table, names: list[str], batch: list[dict]) -> None:
-    """A temporary table shaped like ``table``'s ``names`` columns (plus the rows' order),
-    filled by ``COPY`` through psycopg."""
+def _copy_to_staging(connection: Connection, table, columns, batch) -> None:
+    """A temporary table shaped like ``table``'s ``columns`` (plus the rows' order), filled
+    by ``COPY`` through psycopg."""
     quote = connection.dialect.identifier_preparer.quote
-    columns = ", ".join(quote(name) for name in names)
+    names = ", ".join(quote(name) for name in columns)
     connection.exec_driver_sql(
         f"CREATE TEMPORARY TABLE {STAGING_TABLE} ON COMMIT DROP AS "
-        f"SELECT 0 AS sharpzone_ordinal, {columns} FROM {quote(table.name)} WITH NO DATA"
+        f"SELECT 0 AS sharpzone_ordinal, {names} FROM {quote(table.name)} WITH NO DATA"
     )
+    as_stored = _storage_form(table, columns)
     cursor = connection.connection.driver_connection.cursor()
     try:
-        with cursor.copy(f"COPY {STAGING_TABLE} (sharpzone_ordinal, {columns}) FROM STDIN") as copy:
+        with cursor.copy(f"COPY {STAGING_TABLE} (sharpzone_ordinal, {names}) FROM STDIN") as copy:
             for ordinal, row in enumerate(batch):
-                copy.write_row((ordinal, *(_storage_value(row[name]) for name in names)))
+                copy.write_row((ordinal, *as_stored(row)))
     finally:
         cursor.close()
 
 
-def _execute_sqlite(connection: Connection, statement, batch: list[dict]) -> None:
+# (table, columns, key, update columns) → the SQL text sqlite3 takes and the parameter order;
+# ``None`` when the statement needs a Python-side default filled in.
+_SQLITE_STATEMENTS: dict[tuple, tuple[str, tuple[int, ...]] | None] = {}
+
+
+def _execute_sqlite(connection: Connection, table, columns, batch, key_columns, update_columns,
+                    plain: bool = False) -> None:
     """Hand the rows straight to sqlite3's executemany: SQLAlchemy's per-row parameter
     processing costs more than SQLite's insert itself at ingest sizes. Rows that leave
-    out a column with a Python-side default go the ordinary way, which fills it in."""
-    compiled = statement.values({name: None for name in batch[0]}).compile(dialect=connection.dialect)
-    order = compiled.positiontup
-    if not set(order) <= set(batch[0]):
-        connection.execute(statement, batch)
+    out a column with a Python-side default go the ordinary way, which fills it in.
+    ``plain``: an INSERT without ``ON CONFLICT`` (the caller knows no key is there)."""
+    def statement():
+        return table.insert() if plain else _on_conflict_insert(connection, table, columns, key_columns,
+                                                                update_columns)
+
+    cache_key = (table, columns, tuple(map(str, key_columns)),
+                 None if update_columns is None else tuple(update_columns), plain)
+    if cache_key not in _SQLITE_STATEMENTS:
+        compiled = statement().values({name: None for name in columns}).compile(dialect=connection.dialect)
+        order = compiled.positiontup
+        _SQLITE_STATEMENTS[cache_key] = ((str(compiled), tuple(columns.index(name) for name in order))
+                                         if set(order) <= set(columns) else None)
+    prepared = _SQLITE_STATEMENTS[cache_key]
+    if prepared is None:
+        connection.execute(statement(), _as_dicts(columns, batch))
         return
-    connection.exec_driver_sql(str(compiled), [tuple(_storage_value(row[name]) for name in order) for row in batch])
+    sql, order = prepared
+    parameters = map(_storage_form(table, columns), batch)
+    if order != tuple(range(len(columns))):
+        parameters = map(itemgetter(*order), parameters)
+    connection.exec_driver_sql(sql, list(parameters))
 
 
-def _storage_value(value):
-    """A value as the drivers take it below SQLAlchemy (sqlite3's executemany, psycopg's
-    COPY): datetimes as wall-clock text in SQLAlchemy's storage form, so rows written this
-    way read back like any other."""
-    if isinstance(value, dt.datetime):
-        return value.replace(tzinfo=None).isoformat(sep=" ", timespec="microseconds")
-    return value
+def _storage_form(table, columns: Sequence[str]):
+    """A function giving a row's values as the drivers take them below SQLAlchemy
+    (sqlite3's executemany, psycopg's COPY): datetimes as wall-clock text in SQLAlchemy's
+    storage form, so rows written this way read back like any other. Only the columns of
+    a date-and-time type are looked at."""
+    from sqlalchemy import DateTime
+
+    stamps = [at for at, name in enumerate(columns) if isinstance(table.columns[name].type, DateTime)]
+    if not stamps:
+        return tuple
+
+    def as_stored(row):
+        values = list(row)
+        for at in stamps:
+            value = values[at]
+            if isinstance(value, dt.datetime):
+                values[at] = value.replace(tzinfo=None).isoformat(sep=" ", timespec="microseconds")
+        return values
+
+    return as_stored
 
 
 def _upsert_one_by_one(connection: Connection, table, batch, key_columns, update_columns) -> UpsertResult:
@@ -259,7 +330,7 @@ def _upsert_one_by_one(connection: Connection, table, batch, key_columns, update
     names = _names(key_columns)
     if names is None:
         raise CatalogError(f"{connection.dialect.name} catalogues cannot match rows on an expression index")
-    changes = _changes(batch[0], key_columns, update_columns)
+    changes = _changes(list(batch[0]), key_columns, update_columns)
     result = UpsertResult()
     for row in batch:
         match = and_(*(table.columns[name].is_(None) if row.get(name) is None else table.columns[name] == row[name]

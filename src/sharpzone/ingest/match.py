@@ -126,20 +126,99 @@ class MatchOutcome:
     needs_format: list[str] = field(default_factory=list)
 
 
+# The lens columns an unconfirmed lens widens as frames come in.
+_RANGE_COLUMNS = ("focal_min_mm", "focal_max_mm", "max_aperture_wide", "max_aperture_tele", "min_aperture")
+
+
+@dataclass
+class _KnownLens:
+    """What a run remembers of a lens between batches: plain values, not a row."""
+
+    id: int
+    confirmed: bool
+    focal_min_mm: float
+    focal_max_mm: float
+    max_aperture_wide: float
+    max_aperture_tele: float
+    min_aperture: float
+    # (focal length, f-number) pairs known to leave it as it is.
+    within: set = field(default_factory=set)
+
+    def widened_by(self, record: CaptureRecord) -> bool:
+        """Whether this frame would widen the lens (``_widen`` on a copy, remembered)."""
+        if self.confirmed:
+            return False
+        settings = (record.focal_mm, record.f_number)
+        if settings in self.within:
+            return False
+        copy = _KnownLens(self.id, False, *(getattr(self, column) for column in _RANGE_COLUMNS))
+        if _widen(copy, record):
+            return True
+        self.within.add(settings)
+        return False
+
+
+@dataclass(frozen=True)
+class _KnownBody:
+    """What a run remembers of a body between batches: one that has a sensor format, or is
+    confirmed, learns nothing more from frames."""
+
+    id: int
+    name: str
+    needs_format: bool
+
+
+class MatchMemory:
+    """The bodies and lenses one ingest run has matched, kept across its batches (each
+    batch is its own session), so that a frame of a known body and lens costs a dictionary
+    look-up instead of queries. What a batch learned counts only once that batch is
+    committed (``commit``); a batch rolled back is forgotten (``discard``), and ``clear``
+    forgets everything (a batch retried after a conflict looks everything up again)."""
+
+    def __init__(self) -> None:
+        self.formats: list[SensorFormat] | None = None
+        self.bodies: dict[tuple, _KnownBody] = {}
+        self.lenses: dict[str, _KnownLens] = {}
+        self._pending: tuple[dict, dict] = ({}, {})
+
+    def stage(self, bodies: dict, lenses: dict) -> None:
+        self._pending = (bodies, lenses)
+
+    def commit(self) -> None:
+        bodies, lenses = self._pending
+        self.bodies.update(bodies)
+        self.lenses.update(lenses)
+        self.discard()
+
+    def discard(self) -> None:
+        self._pending = ({}, {})
+
+    def clear(self) -> None:
+        self.__init__()
+
+
 class CatalogMatcher:
     """Matches records to catalogued bodies and lenses within one session, registering the
-    unknown ones as unconfirmed; remembers answers for the rest of the batch."""
+    unknown ones as unconfirmed; remembers answers for the rest of the batch, and with a
+    ``memory`` for the rest of the run (``finish`` hands it what this batch learned)."""
 
-    def __init__(self, session: Session) -> None:
-        from sharpzone.catalog.service import list_formats
-
+    def __init__(self, session: Session, memory: MatchMemory | None = None) -> None:
         self.session = session
-        self._format_rows = {row.name: row for row in list_formats(session)}
-        self._formats = [row.to_core() for row in self._format_rows.values()]
+        self.memory = memory if memory is not None else MatchMemory()
+        if self.memory.formats is None:
+            from sharpzone.catalog.models import SensorFormatRow
+            from sqlalchemy import select
+
+            self.memory.formats = [row.to_core() for row in
+                                   session.scalars(select(SensorFormatRow).order_by(SensorFormatRow.name))]
+        self._formats = self.memory.formats
         # The rows themselves, not ids: the session's identity map holds rows only weakly,
         # and a look-up by id per frame would go back to the database.
         self._bodies: dict[tuple[str, str, str | None], object] = {}
         self._lenses: dict[str, object] = {}
+        # Per raw (make, model, serial): the body; per raw lens fields: the names to look up.
+        self._body_keys: dict[tuple, tuple] = {}
+        self._lens_names: dict[tuple, tuple[list[str], str]] = {}
 
     def match(self, record: CaptureRecord) -> MatchOutcome:
         outcome = MatchOutcome()
@@ -147,15 +226,38 @@ class CatalogMatcher:
         outcome.lens_id = self._lens(record, outcome)
         return outcome
 
-    def _body(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
-        from sharpzone.catalog.service import add_body, find_body_for_exif
+    def finish(self) -> None:
+        """Hand the memory what this batch learned, as plain values (call it inside the
+        batch's session; it counts once the batch is committed)."""
+        bodies = {key: body for key, body in self._bodies.items() if isinstance(body, _KnownBody)}
+        lenses = {key: lens if isinstance(lens, _KnownLens) else
+                  _KnownLens(lens.id, lens.confirmed, *(getattr(lens, column) for column in _RANGE_COLUMNS))
+                  for key, lens in self._lenses.items() if lens is not None}
+        self.memory.stage(bodies, lenses)
 
-        make, model = (record.exif_make or "").strip(), (record.exif_model or "").strip()
+    def _body(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
+        raw = (record.exif_make, record.exif_model, record.body_serial)
+        key = self._body_keys.get(raw)
+        if key is None:
+            make, model = (record.exif_make or "").strip(), (record.exif_model or "").strip()
+            key = self._body_keys[raw] = ((make.casefold(), model.casefold(),
+                                           (record.body_serial or "").strip() or None), make, model)
+        key, make, model = key
         if not make and not model:
             outcome.warnings.append("no camera make or model in the file: body unknown")
             return None
-        key = (make.casefold(), model.casefold(), (record.body_serial or "").strip() or None)
-        body = self._bodies.get(key)
+        body = self._bodies.get(key) or self.memory.bodies.get(key)
+        if isinstance(body, _KnownBody):  # settled in an earlier frame: nothing to learn
+            if body.needs_format:
+                outcome.needs_format.append(body.name)
+            self._bodies[key] = body
+            return body.id
+        return self._match_body(record, key, make, model, body, outcome)
+
+    def _match_body(self, record: CaptureRecord, key: tuple, make: str, model: str, body,
+                    outcome: MatchOutcome) -> int | None:
+        from sharpzone.catalog.service import add_body, find_body_for_exif
+
         if body is None:
             body = find_body_for_exif(self.session, make, model, record.body_serial)
         if body is None:
@@ -169,16 +271,22 @@ class CatalogMatcher:
         elif body.sensor_format is None and not body.confirmed:
             fmt, how = infer_format(record, self._formats)
             if fmt is not None:  # a later frame tells what the first ones did not
-                body.sensor_format = self._format_rows[fmt.name]
+                from sharpzone.catalog.service import get_format
+
+                body.sensor_format = get_format(self.session, fmt.name)
                 outcome.registered.append(f"body '{body.name}': format {fmt.name}, from the {how}")
         if body.sensor_format is None:
             outcome.needs_format.append(body.name)
-        self._bodies[key] = body
+        settled = body.sensor_format is not None or body.confirmed
+        self._bodies[key] = _KnownBody(body.id, body.name, body.sensor_format is None) if settled else body
         return body.id
 
-    def _lens(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
-        from sharpzone.catalog.service import find_lens_for_exif
-
+    def _lens_key(self, record: CaptureRecord) -> tuple[list[str], str]:
+        """The names to look the frame's lens up by (best first) and where they came from."""
+        raw = (record.lens_model, record.lens_candidates, record.lens_spec)
+        known = self._lens_names.get(raw)
+        if known is not None:
+            return known
         spec = record.lens_spec or (None, None, None, None)
         names = [name.strip() for name in (record.lens_model, *record.lens_candidates) if name and name.strip()]
         if not record.lens_model and record.lens_candidates:
@@ -189,25 +297,50 @@ class CatalogMatcher:
         else:
             names = [name for name in (_spec_name(spec),) if name]
             how = "LensSpecification"
+        self._lens_names[raw] = names, how
+        return names, how
+
+    def _lens(self, record: CaptureRecord, outcome: MatchOutcome) -> int | None:
+        names, how = self._lens_key(record)
         if not names:
             return None
         key = names[0]
         if key in self._lenses:
             lens = self._lenses[key]
+        else:
+            lens = self.memory.lenses.get(key)
+        if isinstance(lens, _KnownLens):
+            if not lens.widened_by(record):
+                self._lenses[key] = lens
+                return lens.id
+            # This frame widens it: the row itself, as it is now, takes the change.
+            from sharpzone.catalog.models import Lens
+            from sharpzone.catalog.service import find_lens_for_exif
+
+            lens = self.session.get(Lens, lens.id) or find_lens_for_exif(self.session, key)
             if lens is None:
-                return None
-            self._widen(lens, record)
+                return self._new_lens(record, names, how, key, outcome)
+        if lens is not None:
+            _widen(lens, record)
+            self._lenses[key] = lens
             return lens.id
+        if key in self._lenses:  # looked up in this batch: not registrable
+            return None
+        from sharpzone.catalog.service import find_lens_for_exif
+
         lens = find_lens_for_exif(self.session, key)
         if lens is None:
-            lens = self._register_lens(names, spec, record, how, outcome)
-            if lens is None:
-                self._lenses[key] = None
-                return None
-        else:
-            self._widen(lens, record)
+            return self._new_lens(record, names, how, key, outcome)
+        _widen(lens, record)
         self._lenses[key] = lens
         return lens.id
+
+    def _new_lens(self, record: CaptureRecord, names: list[str], how: str, key: str,
+                  outcome: MatchOutcome) -> int | None:
+        spec = record.lens_spec or (None, None, None, None)
+        lens = self._register_lens(names, spec, record, how, outcome)
+        self._lenses[key] = lens
+        return None if lens is None else lens.id
 
     def _register_lens(self, names: list[str], spec: tuple, record: CaptureRecord, how: str, outcome: MatchOutcome):
         from sharpzone.catalog.service import add_lens, find_lens_for_exif
@@ -232,32 +365,6 @@ class CatalogMatcher:
         outcome.registered.append(f"lens '{lens.name}' (named from {how}, range from {source}{also}; unconfirmed)")
         return lens
 
-    def _widen(self, lens, record: CaptureRecord) -> None:
-        """An unconfirmed lens takes in this frame's focal length and aperture."""
-        if lens is None or lens.confirmed:
-            return
-        focal, f_number = record.focal_mm, record.f_number
-        if focal and focal > 0:
-            if focal < lens.focal_min_mm:
-                if lens.focal_min_mm == lens.focal_max_mm:
-                    lens.max_aperture_tele = lens.max_aperture_wide
-                lens.focal_min_mm = focal
-            elif focal > lens.focal_max_mm:
-                if lens.focal_min_mm == lens.focal_max_mm:
-                    lens.max_aperture_tele = lens.max_aperture_wide
-                lens.focal_max_mm = focal
-        if f_number and f_number > 0:
-            near_long_end = focal and lens.focal_max_mm > lens.focal_min_mm and \
-                focal >= (lens.focal_min_mm + lens.focal_max_mm) / 2
-            if f_number > lens.min_aperture:
-                lens.min_aperture = f_number
-            elif near_long_end and f_number < lens.max_aperture_tele:
-                # the short end opens at least as wide as the long end
-                lens.max_aperture_wide = min(lens.max_aperture_wide, f_number)
-                lens.max_aperture_tele = f_number
-            elif not near_long_end and f_number < lens.max_aperture_wide:
-                lens.max_aperture_wide = f_number
-
     def _free_name(self, wanted: str, what: str) -> str:
         from sharpzone.catalog.models import Body, Lens
         from sharpzone.catalog.service.common import find_by_name
@@ -267,3 +374,33 @@ class CatalogMatcher:
         while find_by_name(self.session, model, name) is not None:
             name, number = f"{wanted} ({number})", number + 1
         return name
+
+
+def _widen(lens, record: CaptureRecord) -> bool:
+    """An unconfirmed lens (a row, or what a run remembers of one) takes in this frame's
+    focal length and aperture; whether that changed it."""
+    if lens is None or lens.confirmed:
+        return False
+    before = tuple(getattr(lens, column) for column in _RANGE_COLUMNS)
+    focal, f_number = record.focal_mm, record.f_number
+    if focal and focal > 0:
+        if focal < lens.focal_min_mm:
+            if lens.focal_min_mm == lens.focal_max_mm:
+                lens.max_aperture_tele = lens.max_aperture_wide
+            lens.focal_min_mm = focal
+        elif focal > lens.focal_max_mm:
+            if lens.focal_min_mm == lens.focal_max_mm:
+                lens.max_aperture_tele = lens.max_aperture_wide
+            lens.focal_max_mm = focal
+    if f_number and f_number > 0:
+        near_long_end = focal and lens.focal_max_mm > lens.focal_min_mm and \
+            focal >= (lens.focal_min_mm + lens.focal_max_mm) / 2
+        if f_number > lens.min_aperture:
+            lens.min_aperture = f_number
+        elif near_long_end and f_number < lens.max_aperture_tele:
+            # the short end opens at least as wide as the long end
+            lens.max_aperture_wide = min(lens.max_aperture_wide, f_number)
+            lens.max_aperture_tele = f_number
+        elif not near_long_end and f_number < lens.max_aperture_wide:
+            lens.max_aperture_wide = f_number
+    return tuple(getattr(lens, column) for column in _RANGE_COLUMNS) != before

@@ -20,8 +20,10 @@ changes.
 from __future__ import annotations
 
 import collections
+import dataclasses
 import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
 import multiprocessing
+import operator
 import os
 import queue
 import signal
@@ -36,9 +38,9 @@ Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
 Task = tuple[str, "float | None"]
 
 # Files in flight per worker: enough that a worker never waits for the parent between files.
-DEPTH = 64
+DEPTH = 128
 # Answers a worker sends at once at most (it sends fewer when it has nothing more to read).
-RESULT_BATCH = 16
+RESULT_BATCH = 32
 # Per-file time limit (seconds) unless the caller says otherwise.
 TIME_LIMIT_S = 30.0
 # How often an idle worker checks that its parent is still there, and how often the
@@ -49,6 +51,24 @@ STOP_CHECK_S = 0.1
 READ_AHEAD = 2048
 CRASHED = "the metadata reader crashed on this file"
 _STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
+
+
+# A record crosses the pipe as the tuple of its field values: a third cheaper to unpickle
+# than the dataclass (whose state goes as a dict), in the one process that also writes.
+_RECORD_FIELDS = tuple(field.name for field in dataclasses.fields(CaptureRecord))
+_record_values = operator.attrgetter(*_RECORD_FIELDS)
+
+
+def _packed(result):
+    return _record_values(result) if type(result) is CaptureRecord else result
+
+
+def _unpacked(answer):
+    if type(answer) is not tuple:
+        return answer
+    record = object.__new__(CaptureRecord)  # as unpickling the dataclass itself would make it
+    record.__dict__.update(zip(_RECORD_FIELDS, answer))
+    return record
 
 
 def timed_out(limit_s: float) -> str:
@@ -78,7 +98,7 @@ def _worker_main(connection, reader: Reader, parent_pid: int, finished) -> None:
                     result = reader(path, user_mm)
                 except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
                     result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
-                answers.append(result)
+                answers.append(_packed(result))
                 finished.value += 1
                 if len(answers) >= RESULT_BATCH:
                     connection.send(answers)
@@ -189,7 +209,8 @@ class ReaderPool:
         """``read`` driven by a thread of its own, so the workers keep reading while the
         caller is busy with what came back (writing a batch to the catalogue). The caller
         should close this generator (``contextlib.closing``) when it stops early."""
-        results: queue.Queue = queue.Queue(maxsize=READ_AHEAD)
+        # Answers go across in the lists they came in: one hand-over per list, not per file.
+        results: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
         stop = threading.Event()
 
         def put(item) -> bool:
@@ -203,8 +224,8 @@ class ReaderPool:
 
         def run() -> None:
             try:
-                for result in self.read(tasks, stop=stop):
-                    if not put(result):
+                for answers in self._read_lists(tasks, stop=stop):
+                    if not put(answers):
                         return
                 put(_DONE)
             except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
@@ -219,7 +240,7 @@ class ReaderPool:
                     return
                 if isinstance(item, _Failed):
                     raise item.error
-                yield item
+                yield from item
         finally:
             stop.set()
             thread.join()
@@ -227,26 +248,39 @@ class ReaderPool:
     def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator[CaptureRecord | ReadProblem]:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
         (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
+        for answers in self._read_lists(tasks, stop=stop):
+            yield from answers
+
+    def _read_lists(self, tasks: Iterable[Task], *, stop: threading.Event | None = None
+                    ) -> Iterator[list[CaptureRecord | ReadProblem]]:
+        """``read``, the results in the lists the workers send them in."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
         if not self._workers:
             self._workers = [_Worker(self._context, self.reader) for _ in range(self.size)]
         while True:
-            for worker in self._workers:
-                room = self.depth - len(worker.queue)
-                if room < min(RESULT_BATCH, max(1, self.depth // 4)) and worker.queue:
-                    continue  # top up in batches, not file by file
-                batch = []
-                while len(batch) < room and retry:
-                    batch.append(retry.popleft())
-                while len(batch) < room and not exhausted:
-                    try:
-                        batch.append(next(tasks))
-                    except StopIteration:
-                        exhausted = True
-                if batch:
-                    worker.send(batch)
+            # Top up in batches, not file by file, and in turns of at most RESULT_BATCH
+            # files each, so a short run is shared between the workers too.
+            chunk = min(RESULT_BATCH, max(1, self.depth // 4))
+            sent = True
+            while sent:
+                sent = False
+                for worker in self._workers:
+                    room = min(self.depth - len(worker.queue), chunk)
+                    if room < chunk and worker.queue:
+                        continue
+                    batch = []
+                    while len(batch) < room and retry:
+                        batch.append(retry.popleft())
+                    while len(batch) < room and not exhausted:
+                        try:
+                            batch.append(next(tasks))
+                        except StopIteration:
+                            exhausted = True
+                    if batch:
+                        worker.send(batch)
+                        sent = True
             busy = [worker for worker in self._workers if worker.queue]
             if not busy or (stop is not None and stop.is_set()):
                 return
@@ -269,7 +303,7 @@ class ReaderPool:
                 if worker.queue and now - worker.head_since > self.time_limit_s:
                     yield from self._replace(worker, timed_out(self.time_limit_s), retry)
 
-    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[CaptureRecord | ReadProblem]:
+    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[list[CaptureRecord | ReadProblem]]:
         """Every answer the worker has sent; if it died, its culprit and a replacement."""
         try:
             while worker.queue and worker.connection.poll():
@@ -277,13 +311,13 @@ class ReaderPool:
                 for _ in answers:
                     worker.queue.popleft()
                 worker.answered += len(answers)
-                yield from answers
+                yield list(map(_unpacked, answers))
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
             yield from self._replace(worker, CRASHED, retry)
 
-    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[ReadProblem]:
+    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[list[ReadProblem]]:
         queue = list(worker.queue)
         # Files before the one at work were read but their answers died with the worker:
         # they are read again. (If every file was read, the first takes the blame, so a
@@ -296,4 +330,4 @@ class ReaderPool:
         worker.stop(at_once=True)
         self._workers[self._workers.index(worker)] = _Worker(self._context, self.reader)
         self.replaced += 1
-        yield ReadProblem(culprit[0], reason)
+        yield [ReadProblem(culprit[0], reason)]

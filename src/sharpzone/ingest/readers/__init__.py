@@ -43,12 +43,19 @@ class Reader(Protocol):
         ...
 
 
-def default_readers() -> tuple[Reader, ...]:
-    """libexiv2 first (maker notes, every container), then exifread (standard tags only)."""
-    from sharpzone.ingest.readers.exifread_reader import ExifreadReader
-    from sharpzone.ingest.readers.exiv2_reader import Exiv2Reader
+_defaults: tuple[Reader, ...] | None = None
 
-    return (Exiv2Reader(), ExifreadReader())
+
+def default_readers() -> tuple[Reader, ...]:
+    """libexiv2 first (maker notes, every container), then exifread (standard tags only).
+    Made once: the readers keep no state between files."""
+    global _defaults
+    if _defaults is None:
+        from sharpzone.ingest.readers.exifread_reader import ExifreadReader
+        from sharpzone.ingest.readers.exiv2_reader import Exiv2Reader
+
+        _defaults = (Exiv2Reader(), ExifreadReader())
+    return _defaults
 
 
 def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | None = None) -> Tags:

@@ -146,11 +146,12 @@ def _tags(exiv2, data, is_raw: bool) -> Tags:
     make_datum = data.findKey(exiv2.ExifKey("Exif.Image.Make"))
     make = None if make_datum == data.end() else make_datum.toString()[:_MAX_TEXT_BYTES]
     wanted = _wanted_names(make, is_raw)
+    type_ids = _type_table()
     for datum in data:
         name = datum.key()
         if name not in wanted or name in tags:  # the first of a repeated key, as a look-up gives
             continue
-        value = _plain_value(datum)
+        value = _plain_value(datum, type_ids)
         if value is None:
             continue
         tags[name] = value
@@ -161,31 +162,52 @@ def _tags(exiv2, data, is_raw: bool) -> Tags:
     return tags
 
 
-def _plain_value(datum) -> TagValue:
-    type_id = int(datum.typeId())
-    count = datum.count()
+_type_ids: dict[str, int] | None = None
+
+
+def _type_table() -> dict[str, int]:
+    """TypeId numbers by type name: the bindings turn ``typeId()`` into a Python enum
+    member, which costs three times asking for the name."""
+    global _type_ids
+    if _type_ids is None:
+        import exiv2
+
+        _type_ids = {exiv2.TypeInfo.typeName(member): int(member) for member in exiv2.TypeId}
+        _type_ids.pop(None, None)  # types without a name are asked for their number
+    return _type_ids
+
+
+def _plain_value(datum, type_ids: dict[str, int]) -> TagValue:
+    type_id = type_ids.get(datum.typeName())
+    if type_id is None:
+        type_id = int(datum.typeId())
     if type_id in _TEXT_TYPES:
         text = datum.toString()[:_MAX_TEXT_BYTES].strip("\x00 \t\r\n")
         return text or None
+    count = datum.count()
     if count == 0 or count > _MAX_VALUES:
         return None
     if type_id == _UNDEFINED:
         return bytes(datum.getValue().data())
-    if type_id in (_UNSIGNED_RATIONAL, _SIGNED_RATIONAL):
-        values = []
-        for index in range(count):
-            numerator, denominator = datum.toRational(index)
-            if type_id == _UNSIGNED_RATIONAL:
-                numerator, denominator = numerator % (1 << 32), denominator % (1 << 32)
-                if numerator == _INFINITE_NUMERATOR:
-                    values.append(math.inf)
-                    continue
-            values.append(numerator / denominator if denominator else None)
+    if type_id == _UNSIGNED_RATIONAL or type_id == _SIGNED_RATIONAL:
+        values = [_rational(*datum.toRational(index), type_id) for index in range(count)]
     elif type_id in _FLOATS:
         values = [float(datum.toFloat(index)) for index in range(count)]
+    elif count == 1:  # the common case: one whole number
+        return int(datum.toInt64(0))
     else:
         values = [int(datum.toInt64(index)) for index in range(count)]
     return values[0] if count == 1 else tuple(values)
+
+
+def _rational(numerator: int, denominator: int, type_id: int) -> float | None:
+    """A rational as the package's value conventions say: 0/0 (any x/0) is unknown, an
+    unsigned numerator of 0xFFFFFFFF is infinity."""
+    if type_id == _UNSIGNED_RATIONAL:
+        numerator, denominator = numerator % (1 << 32), denominator % (1 << 32)
+        if numerator == _INFINITE_NUMERATOR:
+            return math.inf
+    return numerator / denominator if denominator else None
 
 
 def _error_name(err) -> str:
