@@ -35,17 +35,9 @@ PENDING_REMOVAL = {
     ("analysis/checks.py", "OUTCOMES"),
     ("analysis/checks.py", "REMEDIES"),
     ("analysis/frames.py", "load_frames"),
-    ("analysis/zones.py", "FRAME_COLUMNS"),
-    ("ingest/fields.py", "standard_key"),
-    ("ingest/formats.py", "SIDECAR_EXTENSIONS"),
-    ("ingest/readers/containers.py", "offsets"),
-    ("ingest/records.py", "lens_make"),
-    ("ingest/records.py", "lens_serial"),
-    ("ingest/scan.py", "scan_paths"),
     ("report/frames_render.py", "frames_csv"),
 }
 PENDING_IMPORTS = {
-    ("ingest/distances.py", "FOCUS_SOURCES"),
     ("ingest/pipeline.py", "select"),
     ("report/frames_render.py", "Table"),
 }

@@ -6,8 +6,14 @@ import math
 
 import pytest
 
-from sharpzone.catalog.rules import check_row, frame_within_rules, whole_number
+from sharpzone.catalog.rules import check_row, frame_values_checker, whole_number
 from sharpzone.errors import InvalidValue
+
+
+def frame_within_rules(values: dict, warnings: list[str]) -> dict:
+    """The checker the ingest uses, applied to one frame given as a dict."""
+    columns = tuple(values)
+    return dict(zip(columns, frame_values_checker(columns)(list(values.values()), warnings)))
 
 
 def test_values_a_reader_got_wrong_are_dropped_with_a_warning():

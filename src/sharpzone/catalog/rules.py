@@ -346,18 +346,13 @@ def frame_checks(values: dict, label: str) -> None:
     _focus_bracket(values, label)
 
 
-def frame_within_rules(values: dict, warnings: list[str]) -> dict:
-    """``values`` of a frame read from a file, with each value that breaks a rule dropped
-    (``None``, a focus source unknown to the catalogue becomes "none") and a warning for it,
-    so what a reader hands over always fits the catalogue's CHECK constraints."""
-    columns = tuple(values)
-    return dict(zip(columns, frame_values_checker(columns)(list(values.values()), warnings)))
-
-
 @functools.lru_cache(maxsize=16)
 def frame_values_checker(columns: tuple[str, ...]):
-    """``frame_within_rules`` for rows given as lists of the values of ``columns`` (in that
-    order): returns ``check(values, warnings) -> values``, which cleans the list in place.
+    """A frame's values read from a file, given as lists of the values of ``columns`` (in that
+    order), made to fit the catalogue's rules: returns ``check(values, warnings) -> values``,
+    which cleans the list in place, each value that breaks a rule dropped (``None``; a focus
+    source unknown to the catalogue becomes "none") with a warning for it, so what a reader
+    hands over always fits the CHECK constraints.
     Built once per set of columns; the ingest checks every frame it writes with it."""
     at = {column: index for index, column in enumerate(columns)}
     source_at = at.get("focus_source")

@@ -7,7 +7,7 @@ import math
 import os
 
 from sharpzone.errors import InvalidValue
-from sharpzone.ingest.records import FOCUS_SOURCES, FileReadError, os_error_reason, printable_path
+from sharpzone.ingest.records import FileReadError, os_error_reason, printable_path
 from sharpzone.units import DISTANCE_HELP, parse_distance
 
 _PATH_COLUMNS = ("path", "file")

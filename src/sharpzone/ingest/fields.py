@@ -74,16 +74,6 @@ PRINTED = ":printed"
 _IMAGE_DIRECTORIES = ("Exif.Image",) + tuple(f"Exif.SubImage{n}" for n in range(1, 10))
 
 
-def standard_key(name: str) -> str:
-    """The full key of a standard tag from its short name (exifread's or libexiv2's)."""
-    aliases = {"ExifImageWidth": "PixelXDimension", "ExifImageLength": "PixelYDimension"}
-    name = aliases.get(name, name)
-    for key in STANDARD_TAGS.values():
-        if key.rsplit(".", 1)[1] == name:
-            return key
-    raise KeyError(name)
-
-
 # ---------------------------------------------------------------------------------------
 # Focus distance keys: ONE table of units, codes and precision.
 # ---------------------------------------------------------------------------------------
@@ -639,13 +629,11 @@ FIELDS: tuple[Field, ...] = (
           convert=_lens_spec),
     Field("exif_make", ("Exif.Image.Make",), convert=_text),
     Field("exif_model", ("Exif.Image.Model",), convert=_text),
-    Field("lens_make", ("Exif.Photo.LensMake",), convert=_text),
     Field("lens_model", ("Exif.Photo.LensModel",), convert=_text),
     Field("body_serial", ("Exif.Photo.BodySerialNumber",),
           ("Exif.Canon.SerialNumber", "Exif.Nikon3.SerialNumber", "Exif.Fujifilm.SerialNumber",
            "Exif.OlympusEq.SerialNumber", "Exif.Panasonic.InternalSerialNumber"),
           convert=_text),
-    Field("lens_serial", ("Exif.Photo.LensSerialNumber",), ("Exif.OlympusEq.LensSerialNumber",), convert=_text),
     Field("captured_at", ("Exif.Photo.DateTimeOriginal",), convert=_captured_at),
     Field("utc_offset_minutes", ("Exif.Photo.OffsetTimeOriginal",), convert=_utc_offset_minutes),
     Field("width_px", ("Exif.Photo.PixelXDimension", "Exif.Image.ImageWidth"), convert=_positive_int),

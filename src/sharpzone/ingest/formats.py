@@ -55,8 +55,6 @@ IMAGE_EXTENSIONS = {
 }
 ALL_IMAGE_EXTENSIONS = frozenset().union(*IMAGE_EXTENSIONS.values())
 RAW_EXTENSIONS = (IMAGE_EXTENSIONS[TIFF] | IMAGE_EXTENSIONS[EMBEDDED_JPEG] | IMAGE_EXTENSIONS[BMFF_RAW]) - {".tif", ".tiff"}
-# Files whose metadata may be completed by an XMP sidecar of the same name.
-SIDECAR_EXTENSIONS = RAW_EXTENSIONS | IMAGE_EXTENSIONS[HEIF]
 
 
 def is_raw_name(path: str) -> bool:

@@ -80,10 +80,8 @@ class CaptureRecord:
     lens_spec: tuple[float | None, float | None, float | None, float | None] | None = None
     exif_make: str | None = None
     exif_model: str | None = None
-    lens_make: str | None = None
     lens_model: str | None = None
     body_serial: str | None = None
-    lens_serial: str | None = None
     captured_at: datetime | None = None
     utc_offset_minutes: int | None = None
     width_px: int | None = None

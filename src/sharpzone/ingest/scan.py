@@ -22,6 +22,10 @@ from dataclasses import dataclass, field
 from sharpzone.ingest import formats
 from sharpzone.ingest.records import ReadProblem, os_error_reason, printable_path
 
+# ``scan_paths`` is the whole scan as one result, for a script; the ingest walks with
+# ``iter_scan`` to show progress as it goes.
+__all__ = ["CandidateFile", "IgnoredFile", "ScanResult", "iter_scan", "resolved_roots", "scan_paths", "sniff_file"]
+
 
 @dataclass(frozen=True)
 class CandidateFile:

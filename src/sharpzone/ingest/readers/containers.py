@@ -41,10 +41,9 @@ class Unreadable(Exception):
 
 @dataclass(frozen=True)
 class Directories:
-    """What ``check_directories`` found: the offsets of the directories read (each once) and
-    the file offsets of pointer entries that lead back to a directory already read."""
+    """What ``check_directories`` found: the file offsets of pointer entries that lead back
+    to a directory already read (each directory is read once)."""
 
-    offsets: frozenset[int]
     looping_pointers: tuple[int, ...]
 
 
@@ -136,7 +135,7 @@ def check_directories(stream: BinaryIO, size: int) -> Directories:
             raise Unreadable("damaged EXIF (its directories claim more data than the file holds)")
         if in_chain:
             pending.append((_read_uint(stream, byte_order, offset + 2 + 12 * entries, 4) or 0, True, None))
-    return Directories(frozenset(seen), tuple(looping))
+    return Directories(tuple(looping))
 
 
 def _read_uint(stream: BinaryIO, byte_order: str, offset: int, width: int) -> int | None:
