@@ -10,9 +10,11 @@ import pytest
 from sharpzone.catalog.engine import open_catalog, session_scope
 from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
-from sharpzone.ingest.workers import CRASHED, ReaderPool, timed_out
+from sharpzone.ingest.workers import ReaderPool, timed_out
 from tests.ingest.images import exif_block, jpeg
 from tests.ingest.readers import misbehaving_reader
+
+CRASHED = "the metadata reader crashed on this file"
 
 
 def _card(written, folder, good: int, bad: list[str]):

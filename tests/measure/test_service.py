@@ -148,3 +148,39 @@ def test_bad_options_are_one_line_errors(measured_catalog):
     assert result.exit_code == 2 and "--jobs 0 is not valid" in result.output
     result = runner.invoke(app, ["--catalog", url, "measure", "--shoot", "Nowhere"])
     assert result.exit_code != 0 and "Nowhere" in result.output
+
+
+def _decoder_that_crashes_or_hangs(path, focus_point, long_side_px):
+    """Stands in for ``measure_file`` in forked workers: a native decoder's abort on one file
+    and a hang on another, a real measurement elsewhere."""
+    import os
+    import time
+
+    from sharpzone.measure.service import measure_file_unpatched
+
+    if path.endswith("sharp.jpg"):
+        os.abort()
+    if path.endswith("soft.jpg"):
+        time.sleep(60)
+    return measure_file_unpatched(path, focus_point, long_side_px)
+
+
+@pytest.mark.skipif("fork" not in __import__("multiprocessing").get_all_start_methods(),
+                    reason="the stand-in decoder reaches the workers by fork")
+def test_a_decoder_that_crashes_or_hangs_costs_only_its_frame(measured_catalog, monkeypatch):
+    # multiprocessing.Pool, which measure used before, loses the task of a dead worker and
+    # waits for it for ever; the contained pool reports the file and goes on.
+    import sharpzone.measure.service as service
+    from sharpzone.catalog.engine import open_catalog
+
+    url, _ = measured_catalog
+    monkeypatch.setattr(service, "measure_file_unpatched", service.measure_file, raising=False)
+    monkeypatch.setattr(service, "measure_file", _decoder_that_crashes_or_hangs)
+    monkeypatch.setattr(service, "POOL_THRESHOLD", 1)
+    monkeypatch.setattr(service, "TIME_LIMIT_S", 2.0)
+    with open_catalog(url) as catalog:
+        summary = service.measure_frames(catalog, jobs=2)
+    reasons = {path.rsplit("/", 1)[-1]: reason for path, reason in summary.failed}
+    assert reasons["sharp.jpg"] == "the picture decoder crashed on this file"
+    assert reasons["soft.jpg"] == "the picture decoder timed out after 2 s on this file"
+    assert "gone.jpg" in reasons and summary.measured == 1 and not summary.interrupted

@@ -258,7 +258,7 @@ def test_a_stuck_decoder_costs_only_its_file(tmp_path, monkeypatch):
     paths = _card_with_one_odd_file(tmp_path, monkeypatch, "stuck.jpg", 18)
     monkeypatch.setattr(report_page, "STALL_SECONDS", 3.0)  # generous: the machine may be busy
     thumbnails = make_thumbnails(paths, jobs=2)
-    assert thumbnails[paths[3]].problem == "the picture decoder took over 3 s on this file"
+    assert thumbnails[paths[3]].problem == "the picture decoder timed out after 3 s on this file"
     assert all(thumbnails[p].jpeg for p in paths if p != paths[3]), {p: t.problem for p, t in thumbnails.items()}
 
 

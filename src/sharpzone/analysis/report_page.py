@@ -12,7 +12,6 @@ from __future__ import annotations
 import datetime as dt
 import io
 import math
-import multiprocessing
 import os
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
@@ -269,66 +268,24 @@ def make_thumbnails(paths: list[str], *, long_side_px: int = THUMBNAIL_LONG_SIDE
             results[path] = thumbnail
             notify("Making thumbnails", len(results), total)
         return results
-    from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
-    from concurrent.futures.process import BrokenProcessPool
+    from sharpzone.ingest.workers import PICTURE_DECODER, ContainedPool
 
-    pool = ProcessPoolExecutor(min(jobs, total), mp_context=_pool_context())
-    try:
-        pending = {pool.submit(_thumbnail, item) for item in items}
-        while pending:
-            done, pending = wait(pending, timeout=STALL_SECONDS, return_when=FIRST_COMPLETED)
-            if not done:  # every worker is stuck on a file
-                _kill_workers(pool)
-                raise BrokenProcessPool("no thumbnail finished in time")
-            for future in done:
-                path, thumbnail = future.result()
-                results[path] = thumbnail
-                notify("Making thumbnails", len(results), total)
-    except BrokenProcessPool:
-        # Some file crashed or hung a decoder: go on one file at a time so it is found. The
-        # old pool is gone first (its threads must not hold a lock the next fork copies).
-        pool.shutdown(wait=True, cancel_futures=True)
-        _one_at_a_time([item for item in items if item[0] not in results], results, notify, total)
-    finally:
-        pool.shutdown(wait=False, cancel_futures=True)
+    # Contained workers: a decoder that crashes or hangs on a file costs only that file.
+    with ContainedPool(_thumbnail_at, min(jobs, total), problem=_no_thumbnail, doer=PICTURE_DECODER,
+                       time_limit_s=STALL_SECONDS) as pool:
+        for path, thumbnail in pool.read(items):
+            results[path] = thumbnail
+            notify("Making thumbnails", len(results), total)
     return results
 
 
-def _kill_workers(pool) -> None:
-    # ProcessPoolExecutor has no public way to stop a stuck worker before Python 3.14.
-    for process in list(getattr(pool, "_processes", {}).values()):
-        process.kill()
+def _thumbnail_at(path: str, long_side_px: int, max_bytes: int) -> tuple[str, Thumbnail]:
+    """A pool worker's call (``_thumbnail`` looked up at call time, so tests can stand in)."""
+    return _thumbnail((path, long_side_px, max_bytes))
 
 
-def _pool_context():
-    methods = multiprocessing.get_all_start_methods()
-    return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
-
-
-def _one_at_a_time(items, results, notify, total) -> None:
-    from concurrent.futures import ProcessPoolExecutor
-    from concurrent.futures.process import BrokenProcessPool
-
-    pool = None
-    try:
-        for item in items:
-            pool = pool or ProcessPoolExecutor(1, mp_context=_pool_context())
-            try:
-                path, thumbnail = pool.submit(_thumbnail, item).result(timeout=STALL_SECONDS)
-            except (BrokenProcessPool, TimeoutError) as error:
-                hung = isinstance(error, TimeoutError)
-                if hung:
-                    _kill_workers(pool)
-                pool.shutdown(wait=True, cancel_futures=True)
-                pool = None
-                problem = (f"the picture decoder took over {STALL_SECONDS:g} s on this file" if hung
-                           else "the picture decoder crashed on this file")
-                path, thumbnail = item[0], Thumbnail(None, problem=problem)
-            results[path] = thumbnail
-            notify("Making thumbnails", len(results), total)
-    finally:
-        if pool is not None:
-            pool.shutdown()
+def _no_thumbnail(item: tuple[str, int, int], reason: str) -> tuple[str, Thumbnail]:
+    return item[0], Thumbnail(None, problem=reason)
 
 
 def _thumbnail(item: tuple[str, int, int]) -> tuple[str, Thumbnail]:

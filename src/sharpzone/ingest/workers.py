@@ -1,7 +1,9 @@
-"""Worker processes that read image metadata, contained: a reader that crashes the
+"""Worker processes that read image files, contained: a reader or decoder that crashes the
 interpreter (a native library's segfault or abort) or hangs costs one file, never the run.
 
-``ReaderPool`` keeps ``workers`` processes, each fed through its own pipe with up to
+``ContainedPool`` runs any module-level function over tasks that each name a file (the
+ingest's metadata reader, the blur measure's and the report page's picture decoders);
+``ReaderPool`` is the ingest's. It keeps ``workers`` processes, each fed through its own pipe with up to
 ``depth`` files at a time (sent, and answered, in batches: one message per file would cost
 as much as reading a small file). A worker reads its files in the order given, answers in
 that order, and counts each file it finishes in a shared-memory counter, so when one dies
@@ -35,7 +37,7 @@ from multiprocessing.connection import wait
 from sharpzone.ingest.records import CaptureRecord, ReadProblem
 
 Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
-Task = tuple[str, "float | None"]
+Task = tuple  # the arguments of one call of the pool's function; the first names the file
 
 # Files in flight per worker: enough that a worker never waits for the parent between files.
 DEPTH = 128
@@ -49,7 +51,14 @@ PARENT_CHECK_S = 1.0
 STOP_CHECK_S = 0.1
 # Results read ahead of the consumer at most (memory stays flat however slow it is).
 READ_AHEAD = 2048
-CRASHED = "the metadata reader crashed on this file"
+METADATA_READER = "the metadata reader"
+PICTURE_DECODER = "the picture decoder"
+
+
+def crashed(doer: str = METADATA_READER) -> str:
+    """The reason given for a file on which ``doer``'s process died."""
+    return f"{doer} crashed on this file"
+
 _STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
 
@@ -71,14 +80,28 @@ def _unpacked(answer):
     return record
 
 
-def timed_out(limit_s: float) -> str:
+def timed_out(limit_s: float, doer: str = METADATA_READER) -> str:
     """The reason given for a file whose reading ran past ``limit_s`` seconds."""
-    return f"the metadata reader timed out after {limit_s:g} s on this file"
+    return f"{doer} timed out after {limit_s:g} s on this file"
 
 
-def _worker_main(connection, reader: Reader, parent_pid: int, finished) -> None:
-    """A worker's loop: read each batch of (path, user distance) sent, count every file
-    finished in ``finished`` (shared memory), and answer with the results in order."""
+def read_problem(task: Task, reason: str) -> ReadProblem:
+    """The ingest's answer for a file that could not be read: a ``ReadProblem``."""
+    return ReadProblem(task[0], reason)
+
+
+@dataclasses.dataclass(frozen=True)
+class _Job:
+    work: Callable  # called as work(*task)
+    problem: Callable[[Task, str], object]  # the answer for a task that failed, with the reason
+    doer: str  # who works, as the reasons name it ("the metadata reader")
+    packed: Callable | None = None  # an answer as it crosses the pipe, and back
+    unpacked: Callable | None = None
+
+
+def _worker_main(connection, job: _Job, parent_pid: int, finished) -> None:
+    """A worker's loop: run the job on each batch of tasks sent, count every task finished
+    in ``finished`` (shared memory), and answer with the results in order."""
     faulthandler.disable()  # a crash is reported by the parent, in one line
     for number in _STOP_SIGNALS:
         signal.signal(number, signal.SIG_IGN)
@@ -93,12 +116,12 @@ def _worker_main(connection, reader: Reader, parent_pid: int, finished) -> None:
             if tasks is None:
                 return
             answers = []
-            for path, user_mm in tasks:
+            for task in tasks:
                 try:
-                    result = reader(path, user_mm)
+                    result = job.work(*task)
                 except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
-                    result = ReadProblem(path, f"the metadata reader failed on this file ({type(error).__name__})")
-                answers.append(_packed(result))
+                    result = job.problem(task, f"{job.doer} failed on this file ({type(error).__name__})")
+                answers.append(job.packed(result) if job.packed else result)
                 finished.value += 1
                 if len(answers) >= RESULT_BATCH:
                     connection.send(answers)
@@ -118,10 +141,10 @@ class _Failed:
 
 
 class _Worker:
-    def __init__(self, context, reader: Reader) -> None:
+    def __init__(self, context, job: _Job) -> None:
         self.connection, child_end = context.Pipe(duplex=True)
         self.finished = context.RawValue("q", 0)  # files this worker has finished reading
-        self.process = context.Process(target=_worker_main, args=(child_end, reader, os.getpid(), self.finished),
+        self.process = context.Process(target=_worker_main, args=(child_end, job, os.getpid(), self.finished),
                                        daemon=True)
         # Block the stop signals across the fork so the child ignores them before any
         # could reach it; the parent gets any that arrived meanwhile right after.
@@ -175,17 +198,20 @@ def _context():
     return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
 
 
-class ReaderPool:
-    """``workers`` contained reader processes; use as a context manager around ``read``.
+class ContainedPool:
+    """``workers`` contained processes running ``work(*task)`` for each task; use as a
+    context manager around ``read``.
 
-    ``reader`` is a module-level function ``(path, user_focus_mm) -> CaptureRecord |
-    ReadProblem`` (normally ``ingest.capture.read_capture``; tests pass readers that crash
-    or hang on marker files).
+    ``work`` is a module-level function whose task's first item names the file it opens;
+    ``problem(task, reason)`` (module-level too) is the answer for a task whose worker
+    crashed, hung past ``time_limit_s`` or raised, and ``doer`` names the worker in those
+    reasons ("the picture decoder crashed on this file").
     """
 
-    def __init__(self, reader: Reader, workers: int, *, time_limit_s: float = TIME_LIMIT_S,
-                 depth: int = DEPTH) -> None:
-        self.reader = reader
+    def __init__(self, work: Callable, workers: int, *, problem: Callable[[Task, str], object],
+                 doer: str, time_limit_s: float = TIME_LIMIT_S, depth: int = DEPTH,
+                 packed: Callable | None = None, unpacked: Callable | None = None) -> None:
+        self._job = _Job(work, problem, doer, packed, unpacked)
         self.size = max(1, workers)
         self.time_limit_s = time_limit_s
         self.depth = max(1, depth)
@@ -193,7 +219,7 @@ class ReaderPool:
         self._workers: list[_Worker] = []
         self.replaced = 0
 
-    def __enter__(self) -> ReaderPool:
+    def __enter__(self) -> ContainedPool:
         return self
 
     def __exit__(self, kind, error, traceback) -> None:
@@ -205,7 +231,7 @@ class ReaderPool:
         for worker in workers:
             worker.stop(at_once=at_once)
 
-    def read_in_background(self, tasks: Iterable[Task]) -> Iterator[CaptureRecord | ReadProblem]:
+    def read_in_background(self, tasks: Iterable[Task]) -> Iterator:
         """``read`` driven by a thread of its own, so the workers keep reading while the
         caller is busy with what came back (writing a batch to the catalogue). The caller
         should close this generator (``contextlib.closing``) when it stops early."""
@@ -245,20 +271,20 @@ class ReaderPool:
             stop.set()
             thread.join()
 
-    def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator[CaptureRecord | ReadProblem]:
+    def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
         (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
         for answers in self._read_lists(tasks, stop=stop):
             yield from answers
 
     def _read_lists(self, tasks: Iterable[Task], *, stop: threading.Event | None = None
-                    ) -> Iterator[list[CaptureRecord | ReadProblem]]:
+                    ) -> Iterator[list]:
         """``read``, the results in the lists the workers send them in."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
         if not self._workers:
-            self._workers = [_Worker(self._context, self.reader) for _ in range(self.size)]
+            self._workers = [_Worker(self._context, self._job) for _ in range(self.size)]
         while True:
             # Top up in batches, not file by file, and in turns of at most RESULT_BATCH
             # files each, so a short run is shared between the workers too.
@@ -301,9 +327,9 @@ class ReaderPool:
             for worker in list(self._workers):
                 worker.note_progress(now)
                 if worker.queue and now - worker.head_since > self.time_limit_s:
-                    yield from self._replace(worker, timed_out(self.time_limit_s), retry)
+                    yield from self._replace(worker, timed_out(self.time_limit_s, self._job.doer), retry)
 
-    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[list[CaptureRecord | ReadProblem]]:
+    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[list]:
         """Every answer the worker has sent; if it died, its culprit and a replacement."""
         try:
             while worker.queue and worker.connection.poll():
@@ -311,13 +337,13 @@ class ReaderPool:
                 for _ in answers:
                     worker.queue.popleft()
                 worker.answered += len(answers)
-                yield list(map(_unpacked, answers))
+                yield list(map(self._job.unpacked, answers)) if self._job.unpacked else answers
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
-            yield from self._replace(worker, CRASHED, retry)
+            yield from self._replace(worker, crashed(self._job.doer), retry)
 
-    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[list[ReadProblem]]:
+    def _replace(self, worker: _Worker, reason: str, retry: collections.deque) -> Iterator[list]:
         queue = list(worker.queue)
         # Files before the one at work were read but their answers died with the worker:
         # they are read again. (If every file was read, the first takes the blame, so a
@@ -328,6 +354,17 @@ class ReaderPool:
         retry.extendleft(reversed(queue[:at] + queue[at + 1:]))
         worker.queue.clear()
         worker.stop(at_once=True)
-        self._workers[self._workers.index(worker)] = _Worker(self._context, self.reader)
+        self._workers[self._workers.index(worker)] = _Worker(self._context, self._job)
         self.replaced += 1
-        yield [ReadProblem(culprit[0], reason)]
+        yield [self._job.problem(culprit, reason)]
+
+
+class ReaderPool(ContainedPool):
+    """The ingest's pool: ``reader`` is a module-level function ``(path, user_focus_mm) ->
+    CaptureRecord | ReadProblem`` (normally ``ingest.capture.read_capture``; tests pass
+    readers that crash or hang on marker files)."""
+
+    def __init__(self, reader: Reader, workers: int, *, time_limit_s: float = TIME_LIMIT_S,
+                 depth: int = DEPTH) -> None:
+        super().__init__(reader, workers, problem=read_problem, doer=METADATA_READER, time_limit_s=time_limit_s,
+                         depth=depth, packed=_packed, unpacked=_unpacked)

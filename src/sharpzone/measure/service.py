@@ -11,7 +11,6 @@ measurement is an estimate from a small preview and deletes or rejects nothing.
 from __future__ import annotations
 
 import json
-import multiprocessing
 import os
 import time
 from collections.abc import Callable, Iterator
@@ -31,6 +30,8 @@ DEFAULT_JOBS = 2
 BATCH_SIZE = 50
 # Below this many frames a worker pool costs more than it saves.
 POOL_THRESHOLD = 16
+# Seconds a frame may take before its decoder is stopped and the frame reported.
+TIME_LIMIT_S = 60.0
 CENTRE = (0.5, 0.5, 0.0, 0.0)
 
 ProgressCallback = Callable[[str, int, int | None], None]
@@ -123,25 +124,25 @@ def _results(tasks: list[_Task], jobs: int) -> Iterator[tuple[int, BlurMeasureme
         for task in tasks:
             yield _measure_task(task)
         return
+    from sharpzone.ingest.workers import PICTURE_DECODER, ContainedPool
     from sharpzone.measure.defocus import REBLUR_SIGMA_PX, _disk_table
 
     _disk_table(REBLUR_SIGMA_PX)  # made once here; forked workers inherit it
-    methods = multiprocessing.get_all_start_methods()
-    context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
-    pool = context.Pool(processes=jobs, initializer=_ignore_interrupts)
-    try:
-        yield from pool.imap_unordered(_measure_task, tasks, chunksize=4)
-        pool.close()
-    finally:
-        pool.terminate()
-        pool.join()
+    # Contained workers: a decoder that crashes or hangs on a file costs that file only (it
+    # is reported and the run goes on); they leave Ctrl-C to this process, which saves what
+    # was measured and stops them.
+    with ContainedPool(_measure_at, jobs, problem=_not_measured, doer=PICTURE_DECODER,
+                       time_limit_s=TIME_LIMIT_S) as pool:
+        yield from pool.read((task.path, task) for task in tasks)
 
 
-def _ignore_interrupts() -> None:
-    """Workers leave Ctrl-C to the parent, which saves what was measured and stops them."""
-    import signal
+def _measure_at(path: str, task: _Task) -> tuple[int, BlurMeasurement | str]:
+    """A pool worker's call: ``path`` names the file for the pool's reports."""
+    return _measure_task(task)
 
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+def _not_measured(pool_task: tuple[str, _Task], reason: str) -> tuple[int, str]:
+    return pool_task[1].frame_id, reason
 
 
 def blur_row(frame_id: int, measurement: BlurMeasurement) -> dict:
