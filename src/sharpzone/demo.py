@@ -187,7 +187,7 @@ def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> De
     """Run the invented scenario in ``folder`` (created; an earlier demo there is replaced):
     catalogue, cards, ingest, check of every shoot, sharp-zone sheets. Returns where it all is."""
     from sharpzone.analysis.frames import FrameFilter, check_shoot
-    from sharpzone.analysis.sheets import sheet_from_catalog
+    from sharpzone.catalog.service.sheets import sheet_from_catalog
     from sharpzone.catalog.engine import open_catalog
     from sharpzone.catalog.location import sqlite_url
     from sharpzone.ingest.pipeline import ingest_paths

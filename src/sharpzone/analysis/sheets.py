@@ -2,7 +2,8 @@
 every marked f-number over a ladder of focus distances, plus the hyperfocal distances.
 
 ``build_sheet`` is pure (a ``LensSpec`` and a ``CocChoice`` in, a ``Sheet`` of numbers in
-mm out); ``sheet_from_catalog`` resolves a catalogued lens and body or format first. The
+mm out); ``catalog.service.sheets.sheet_from_catalog`` resolves a catalogued lens and body
+or format first. The
 renderers in ``sharpzone.report.sheet_text`` and ``sharpzone.report.sheet_chart`` turn a
 ``Sheet`` into CSV, Markdown, HTML, PDF or PNG.
 """
@@ -12,20 +13,15 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
-
 import numpy as np
 
-from sharpzone.analysis.setting import DEFAULT_SENSOR, CocChoice, choose_coc
+from sharpzone.analysis.setting import CocChoice
 from sharpzone.errors import InvalidValue
 from sharpzone.optics.diffraction import diffraction_limited_f_number
 from sharpzone.optics.dof import check_reference, hyperfocal_mm, lens_to_sensor_distance, sensor_to_lens_distance
 from sharpzone.optics.macro import sharp_zone_focusing
 from sharpzone.optics.stops import STEPS_PER_STOP, check_scale, stop_series
 from sharpzone.units import MM_PER_FOOT, MM_PER_INCH, format_distance
-
-if TYPE_CHECKING:
-    from sqlalchemy.orm import Session
 
 CAVEAT = ("Sharp-zone figures are optical estimates for making pictures, not safety distances: "
           "keep to local rules for distances to people, animals, traffic and hazards.")
@@ -341,36 +337,3 @@ def _focal_table(lens, coc_mm, focal_mm, scale, distances, reference, imperial, 
         curve_far_mm=far[rows + 1:],
         macro=macro,
     )
-
-
-def sheet_from_catalog(
-    session: Session,
-    lens_name: str,
-    *,
-    body: str | None = None,
-    sensor: str | None = None,
-    coc_mm: float | None = None,
-    coc_policy: str | None = None,
-    **sheet_options,
-) -> Sheet:
-    """The sheet of the catalogued lens ``lens_name`` (name or EXIF alias) for the format of
-    ``body`` or the format called ``sensor`` (default 36x24); ``sheet_options`` are
-    ``build_sheet``'s (``focal_lengths``, ``stops``, ``distances``, ``reference``, ``imperial``)."""
-    from sharpzone.catalog.service import get_body, get_format, get_lens
-
-    if body and sensor:
-        raise InvalidValue("give either --body or --sensor, not both")
-    lens = LensSpec.from_row(get_lens(session, lens_name))
-    pixel_pitch_mm = None
-    if body:
-        body_row = get_body(session, body)
-        if body_row.sensor_format is None:
-            raise InvalidValue(f"body {body_row.name!r} has no sensor format yet",
-                               hint=f"set it with 'sharpzone body edit {body_row.name!r} --format FORMAT' or give --sensor")
-        fmt = body_row.sensor_format.to_core()
-        pixel_pitch_mm = body_row.pixel_pitch_mm
-    else:
-        fmt = get_format(session, sensor or DEFAULT_SENSOR).to_core()
-    coc = choose_coc(sensor=fmt.name, coc_mm=coc_mm, coc_policy=coc_policy, pixel_pitch_mm=pixel_pitch_mm,
-                     lookup=lambda _name: fmt)
-    return build_sheet(lens, coc, **sheet_options)

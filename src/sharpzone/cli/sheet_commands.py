@@ -58,7 +58,7 @@ def sheet(
                                        "a4 or letter.")] = "a4",
 ) -> None:
     """A lens's sharp-zone sheet to print and carry: near and far limits per focal length, f-number and focus distance."""
-    from sharpzone.analysis.sheets import sheet_from_catalog
+    from sharpzone.catalog.service.sheets import sheet_from_catalog
     from sharpzone.report.sheet_files import PAPERS, sheet_form, write_sheet
 
     try:
