@@ -257,6 +257,10 @@ class ContainedPool:
             except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
                 put(_Failed(error))
 
+        # The workers are forked here, before the thread starts: a fork while another thread
+        # of this process runs could copy a lock that thread holds. (A replacement for a
+        # worker that died is forked from the thread, into a child that runs only the job.)
+        self._start_workers()
         thread = threading.Thread(target=run, name="sharpzone-readers", daemon=True)
         thread.start()
         try:
@@ -271,6 +275,10 @@ class ContainedPool:
             stop.set()
             thread.join()
 
+    def _start_workers(self) -> None:
+        if not self._workers:
+            self._workers = [_Worker(self._context, self._job) for _ in range(self.size)]
+
     def read(self, tasks: Iterable[Task], *, stop: threading.Event | None = None) -> Iterator:
         """Read every task; one result per task, in any order. ``tasks`` may be a generator
         (the folder walk), drawn from only as workers have room. ``stop`` ends it early."""
@@ -283,8 +291,7 @@ class ContainedPool:
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
-        if not self._workers:
-            self._workers = [_Worker(self._context, self._job) for _ in range(self.size)]
+        self._start_workers()
         while True:
             # Top up in batches, not file by file, and in turns of at most RESULT_BATCH
             # files each, so a short run is shared between the workers too.
