@@ -18,7 +18,7 @@ from sharpzone.report.console import Column, fit_table, line, print_fitted, stdo
 from sharpzone.report.inert import inert
 from sharpzone.report.spreadsheet import safe_cell
 from sharpzone.report.jsonout import metres, plain
-from sharpzone.report.verdicts import blur_size, describe_flag
+from sharpzone.report.verdicts import blur_size, describe_flag, describe_flags
 from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
 
 if TYPE_CHECKING:
@@ -183,7 +183,8 @@ def _frame_columns(frames: pd.DataFrame) -> list[list]:
         _texts(frames, "coc_from"), _metres(frames, "near_mm"), _metres(frames, "far_mm"),
         _metres(frames, "hyperfocal_mm"), _metres(frames, "total_mm"), _numbers(frames, "magnification"),
         _numbers(frames, "effective_f_number"), _numbers(frames, "airy_disk_mm"), blur,
-        [list(flags) for flags in frames["flags"].tolist()],
+        # The lists as they are (rows with the same flags share one; nothing changes them).
+        [flags if type(flags) is list else list(flags) for flags in frames["flags"].tolist()],
     ]
     return columns
 
@@ -238,13 +239,7 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """Checked frames in the machine interface: each frame's object (``frames_records``)
     plus the requirement and remedies, built a column at a time; the remedies' words only
     for frames with a verdict."""
-    count = len(frames)
-    flag_lists = frames["flags"].tolist()
-    remedies: list = [[] for _ in range(count)]
-    noted = [position for position, flags in enumerate(flag_lists) if len(flags)]
-    if noted:
-        for position, row in zip(noted, _records(frames.iloc[noted])):
-            remedies[position] = [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]]
+    remedies = describe_flags(frames)
     remedy = [value or None for value in _texts(frames, "remedy")]
     columns = [
         _metres(frames, "required_near_mm"), _metres(frames, "required_far_mm"), _numbers(frames, "needed_f_number"),
