@@ -69,12 +69,17 @@ def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
 
     One query with the filters in SQL (``catalog.frame_query``); its rows are read from the
     driver's cursor a chunk at a time (a server-side cursor on PostgreSQL), so memory
-    follows the chunk, not the catalogue. Yields at least one (perhaps empty) DataFrame."""
+    follows the chunk, not the catalogue. With ``chunk_rows=None`` yields one (perhaps
+    empty) DataFrame; in chunks, none when no frame matches (and pandas is not loaded)."""
     from sharpzone.analysis.blur_checks import blur_select
     from sharpzone.catalog.frame_query import iter_frame_rows, small_tables
 
-    small = _small_tables(small_tables(session))
+    small = None
     for names, rows in iter_frame_rows(session, where, blur_select(), chunk_rows=chunk_rows):
+        if not rows and chunk_rows is not None:
+            return
+        if small is None:
+            small = _small_tables(small_tables(session))
         yield _frames_table(names, rows, small)
 
 
@@ -218,7 +223,7 @@ def iter_checked(session: Session, where: FrameFilter = FrameFilter(), *, coc_po
                  requirement: Requirement | None = None, chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
     """``frames_with_zones`` a chunk at a time (see ``iter_frames``): the frames of
     ``CheckResult.frames`` in the same order, as DataFrames of at most ``chunk_rows`` rows,
-    for output that is written as it is computed. Yields at least one (perhaps empty)."""
+    for output that is written as it is computed; none when no frame matches (``iter_frames``)."""
     policy = parse_coc_policy(coc_policy) if coc_policy else None
     for frames in iter_frames(session, where, chunk_rows=chunk_rows):
         yield _keep_verdict(check_frames(add_zones(frames, policy), requirement), where.verdict)

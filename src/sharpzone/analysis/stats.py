@@ -72,6 +72,10 @@ def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_pol
                 requirement: Requirement | None = None) -> StatsResult:
     """``sharpzone stats``: per lens and per body, frames, f-numbers used, share flagged
     (against ``requirement`` or each shoot's plan) and typical focus distances."""
+    from sharpzone.catalog.frame_query import has_frames
+
+    if not has_frames(session, where):  # nothing to count: asked of the database, no frames table
+        return StatsResult((), (), False)
     result: CheckResult = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
     frames = result.frames
     groups = {}

@@ -135,15 +135,20 @@ def small_tables(session: Session) -> list[tuple[str, list[str], list[tuple]]]:
     return tables
 
 
-def plan_status(session: Session, where: FrameWhere) -> tuple[bool, bool]:
-    """(whether any frame matches ``where``, whether any matching frame's shoot has a plan),
-    asked of the database without reading the frames."""
+def has_frames(session: Session, where: FrameWhere, *, planned_only: bool = False) -> bool:
+    """Whether any frame matches ``where`` (with ``planned_only``, any whose shoot has a
+    plan), asked of the database without reading the frames."""
     from sqlalchemy import select
 
     from sharpzone.catalog.models import Shoot
 
     matching = frames_statement(session, where).order_by(None).subquery()
-    any_frame = session.execute(select(matching.c.frame_id).limit(1)).first()
-    planned = session.execute(select(matching.c.frame_id).where(matching.c.shoot_id.in_(
-        select(Shoot.id).where(Shoot.plan_kind.is_not(None)))).limit(1)).first()
-    return any_frame is not None, planned is not None
+    query = select(matching.c.frame_id)
+    if planned_only:
+        query = query.where(matching.c.shoot_id.in_(select(Shoot.id).where(Shoot.plan_kind.is_not(None))))
+    return session.execute(query.limit(1)).first() is not None
+
+
+def plan_status(session: Session, where: FrameWhere) -> tuple[bool, bool]:
+    """(whether any frame matches ``where``, whether any matching frame's shoot has a plan)."""
+    return has_frames(session, where), has_frames(session, where, planned_only=True)
