@@ -106,17 +106,14 @@ class Requirement:
     back_mm: float | None = None
 
     def __post_init__(self) -> None:
-        if self.kind == "range":
-            if self.near_mm is None or self.far_mm is None:
-                raise InvalidValue("a range requirement needs both --near and --far")
-            if not self.far_mm > self.near_mm:
-                raise InvalidValue(
-                    f"--far {format_distance(self.far_mm)} is not beyond --near {format_distance(self.near_mm)}")
-        elif self.kind == "depth":
-            if self.front_mm is None or self.back_mm is None:
-                raise InvalidValue("a depth requirement needs both --front and --back")
-        else:
-            raise InvalidValue(f"requirement kind {self.kind!r} is not valid: expected 'range' or 'depth'")
+        # The plan rules (kinds, ranges) live in one place, ``catalog.rules.plan_values``:
+        # what a shoot's plan may be, a requirement may be.
+        from sharpzone.catalog.rules import plan_values
+
+        label = {"range": "--near/--far", "depth": "--front/--back"}.get(self.kind, "requirement")
+        if self.kind is None:
+            raise InvalidValue("a requirement needs a kind: range or depth")
+        plan_values(label, self.kind, self.near_mm, self.far_mm, self.front_mm, self.back_mm)
 
     @classmethod
     def from_options(cls, *, near_mm=None, far_mm=None, front_mm=None, back_mm=None) -> Requirement | None:
@@ -124,10 +121,27 @@ class Requirement:
         if near_mm is not None or far_mm is not None:
             if front_mm is not None or back_mm is not None:
                 raise InvalidValue("give either --near/--far (a range) or --front/--back (a depth), not both")
+            if near_mm is None or far_mm is None:
+                raise InvalidValue("a range requirement needs both --near and --far")
             return cls("range", near_mm=near_mm, far_mm=far_mm)
         if front_mm is not None or back_mm is not None:
+            if front_mm is None or back_mm is None:
+                raise InvalidValue("a depth requirement needs both --front and --back")
             return cls("depth", front_mm=front_mm, back_mm=back_mm)
         return None
+
+    @classmethod
+    def from_plan(cls, kind, near_mm=None, far_mm=None, front_mm=None, back_mm=None) -> Requirement | None:
+        """A shoot's stored plan as a requirement (unknown limits as NaN or ``None``);
+        ``None`` when the shoot has no plan."""
+        if kind not in ("range", "depth"):
+            return None
+
+        def known(value):
+            return None if value is None or value != value else float(value)
+
+        return cls(kind, near_mm=known(near_mm), far_mm=known(far_mm), front_mm=known(front_mm),
+                   back_mm=known(back_mm))
 
     def describe(self, imperial: bool = False) -> str:
         if self.kind == "range":

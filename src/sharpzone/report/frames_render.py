@@ -437,8 +437,8 @@ def _plans_line(frames: pd.DataFrame, imperial: bool) -> str:
     plans = []
     columns = ["shoot", "plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm"]
     for shoot, kind, near, far, front, back in frames[columns].drop_duplicates().itertuples(index=False):
-        if kind in ("range", "depth"):
-            requirement = Requirement(kind, near_mm=near, far_mm=far, front_mm=front, back_mm=back)
+        requirement = Requirement.from_plan(kind, near, far, front, back)
+        if requirement is not None:
             plans.append(f"{shoot}: {requirement.describe(imperial)}")
     return "; ".join(plans)
 
