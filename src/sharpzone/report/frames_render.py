@@ -16,7 +16,7 @@ from sharpzone.analysis.checks import count_problems
 from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
-from sharpzone.report.spreadsheet import safe_cell
+from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 from sharpzone.report.jsonout import metres, plain
 from sharpzone.report.verdicts import blur_size, describe_flag, describe_flags
 from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
@@ -273,8 +273,8 @@ def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
     for frames in chunks:
-        records = frames_records(frames)
-        writer.writerows([_csv_cell(row[column]) for column in CSV_COLUMNS] for row in records)
+        columns = dict(zip(_FRAME_KEYS, _frame_columns(frames)))
+        writer.writerows(zip(*(_csv_cells(columns[name]) for name in CSV_COLUMNS)))
         yield buffer.getvalue()
         buffer.seek(0)
         buffer.truncate()
@@ -282,12 +282,14 @@ def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
         yield buffer.getvalue()
 
 
-def _csv_cell(value: Any) -> Any:
-    if value is None:
-        return ""
-    if isinstance(value, list):
-        value = ";".join(value)
-    return safe_cell(value)
+def _csv_cells(values: list) -> list:
+    """A column of machine values as CSV cells, a column at a time: unknown empty (the
+    writer's None), lists joined by ``;``, text a spreadsheet would run marked (``safe_cell``)."""
+    if any(type(value) is list for value in values):
+        values = [";".join(value) if type(value) is list else value for value in values]
+    # Only text that starts like a formula goes through safe_cell (which then decides).
+    return [safe_cell(value) if type(value) is str and value.startswith(FORMULA_STARTS) else value
+            for value in values]
 
 
 def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
