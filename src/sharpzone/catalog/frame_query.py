@@ -150,5 +150,8 @@ def has_frames(session: Session, where: FrameWhere, *, planned_only: bool = Fals
 
 
 def plan_status(session: Session, where: FrameWhere) -> tuple[bool, bool]:
-    """(whether any frame matches ``where``, whether any matching frame's shoot has a plan)."""
-    return has_frames(session, where), has_frames(session, where, planned_only=True)
+    """(whether any frame matches ``where``, whether any matching frame's shoot has a plan):
+    one query when one is planned."""
+    if has_frames(session, where, planned_only=True):
+        return True, True
+    return has_frames(session, where), False

@@ -187,43 +187,70 @@ def _float_column(frames, name: str) -> np.ndarray:
     return pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
 
 
+def _read_by(flag: str, frames) -> list[str]:
+    """The columns the words of ``flag`` read (every column for a verdict without a key)."""
+    inputs = FLAG_INPUTS.get(flag)
+    if inputs is None:
+        return list(frames.columns)
+    names = dict.fromkeys(source for name, _ in inputs for source in DERIVED_INPUTS.get(name, (name,)))
+    return [name for name in names if name in frames]
+
+
+def _rows(frames, positions: list[int], names: list[str]) -> list[dict]:
+    """The rows at ``positions`` as dicts of the ``names`` columns, a column at a time."""
+    if not names:
+        return [{} for _ in positions]
+    values = [frames[name].iloc[positions].tolist() for name in names]
+    return [dict(zip(names, row)) for row in zip(*values)]
+
+
 def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str]]]:
     """Per row of ``frames`` (checked frames): ``{"flag", "text"}`` for each of its ``flags``,
     the text from ``describe_flag``, said once per distinct combination of the values it
-    reads (``FLAG_INPUTS``), so a hundred thousand frames cost a few hundred sentences."""
+    reads (``FLAG_INPUTS``), so a hundred thousand frames cost a few hundred sentences.
+    Rows with the same words share one list (read-only, like the ``flags`` lists)."""
     flag_lists = frames["flags"].tolist()
-    by_flag: dict[str, list[int]] = {}
+    count = len(flag_lists)
+    combinations: dict[tuple[str, ...], list[int]] = {}  # the rows of each combination of flags
     for position, flags in enumerate(flag_lists):
-        for flag in flags:
-            by_flag.setdefault(flag, []).append(position)
-    # First which frame says each distinct sentence, then those frames' rows, a column at a
-    # time, then the sentences.
-    firsts: dict[str, tuple[list[int], list[int]]] = {}  # flag → (each row's sentence, first rows)
+        if flags:
+            combinations.setdefault(tuple(flags), []).append(position)
+    by_flag: dict[str, list[int]] = {}
+    for combination, positions in combinations.items():
+        for flag in combination:
+            by_flag.setdefault(flag, []).extend(positions)
+    # Each row's sentence number for each flag, the first row saying each sentence, then those
+    # rows (a column at a time) and the sentences.
+    sentence_of: dict[str, np.ndarray] = {}
+    first_rows: dict[str, list[int]] = {}
     for flag, positions in by_flag.items():
-        inputs = FLAG_INPUTS.get(flag)
         index = np.asarray(positions, dtype=np.int64)
+        inputs = FLAG_INPUTS.get(flag)
         if inputs is None:
-            firsts[flag] = (list(range(len(positions))), positions)
-            continue
-        keys = list(zip(*(_key_values(frames, name, form, index, imperial) for name, form in inputs))) if inputs \
-            else [()] * len(positions)
-        number: dict = {}
-        which = [number.setdefault(key, len(number)) for key in keys]
-        first = {}
-        for position, sentence in zip(positions, which):
-            first.setdefault(sentence, position)
-        firsts[flag] = (which, list(first.values()))
-    wanted = sorted({position for _, rows in firsts.values() for position in rows})
-    picked = frames.iloc[wanted]
-    values = [picked[name].tolist() for name in frames.columns]
-    rows = {position: dict(zip(frames.columns, row)) for position, row in zip(wanted, zip(*values))}
-    texts: dict[str, dict[int, str]] = {}
-    for flag, positions in by_flag.items():
-        which, first_rows = firsts[flag]
-        sentences = [describe_flag(flag, rows[position], imperial=imperial) for position in first_rows]
-        texts[flag] = {position: sentences[sentence] for position, sentence in zip(positions, which)}
-    return [[{"flag": flag, "text": texts[flag][position]} for flag in flags]
-            for position, flags in enumerate(flag_lists)]
+            which = np.arange(len(positions))
+        elif not inputs:
+            which = np.zeros(len(positions), dtype=np.int64)
+        else:
+            number: dict = {}
+            keys = zip(*(_key_values(frames, name, form, index, imperial) for name, form in inputs))
+            which = np.fromiter((number.setdefault(key, len(number)) for key in keys), dtype=np.int64,
+                                count=len(positions))
+        _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
+        first_rows[flag] = index[first].tolist()
+        sentence_of[flag] = np.full(count, -1, dtype=np.int64)
+        sentence_of[flag][index] = which
+    said = {flag: [{"flag": flag, "text": describe_flag(flag, row, imperial=imperial)}
+                   for row in _rows(frames, positions, _read_by(flag, frames))]
+            for flag, positions in first_rows.items()}
+    remedies: list = [[] for _ in range(count)]
+    for combination, positions in combinations.items():
+        index = np.asarray(positions, dtype=np.int64)
+        numbers = np.column_stack([sentence_of[flag][index] for flag in combination])
+        distinct, inverse = np.unique(numbers, axis=0, return_inverse=True)
+        shared = [[said[flag][number] for flag, number in zip(combination, row)] for row in distinct.tolist()]
+        for position, which in zip(positions, inverse.reshape(-1).tolist()):
+            remedies[position] = shared[which]
+    return remedies
 
 
 # The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the
