@@ -1,7 +1,7 @@
 """Each command imports only what it needs (issue 16 part 3), checked by the modules loaded,
 not by timing: ``--help`` and ``dof`` without a catalogue load no database library, the
 catalogue's list commands no pandas, no numpy and no bundle code, and no read command on a
-current catalogue loads Alembic or pandas when no frame matches. Each runs in a fresh
+current catalogue loads Alembic, pandas or numpy when no frame matches. Each runs in a fresh
 interpreter, as the console script does."""
 
 from __future__ import annotations
@@ -61,6 +61,10 @@ def test_catalogue_lists_load_neither_pandas_numpy_nor_the_bundle_code(env, comm
 
 
 @pytest.mark.parametrize("command", [["frames", "--json"], ["frames", "--csv"], ["check", "--json"],
-                                     ["check", "--jsonl"], ["stats"], ["stats", "--json"], ["lens", "list"]])
-def test_read_commands_with_no_frame_to_read_load_neither_pandas_nor_alembic(env, command):
-    assert not _loaded(env, *command) & {"pandas", "alembic"}
+                                     ["check", "--jsonl"], ["stats"], ["stats", "--json"]])
+def test_read_commands_with_no_frame_to_read_load_neither_pandas_numpy_nor_alembic(env, command):
+    assert not _loaded(env, *command) & {"pandas", "numpy", "alembic"}
+
+
+def test_lens_list_loads_no_pandas_nor_alembic(env):
+    assert not _loaded(env, "lens", "list") & {"pandas", "alembic"}

@@ -7,17 +7,18 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.checks import FLAGS, Requirement, check_frames, flagged_share
-from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
-from sharpzone.optics.coc import parse_coc_policy
 
+# The checks, the zones and numpy are imported where the frames are judged, so a command
+# whose selection holds no frame does without them.
 if TYPE_CHECKING:
     from collections.abc import Iterator
 
     import numpy as np
     import pandas as pd
     from sqlalchemy.orm import Session
+
+    from sharpzone.analysis.requirement import Requirement
 
 
 @dataclass(frozen=True)
@@ -37,9 +38,12 @@ class FrameFilter:
     verdict: str | None = None
 
     def __post_init__(self) -> None:
-        if self.verdict is not None and self.verdict not in (*FLAGS, "passed", "flagged"):
-            expected = ", ".join(("passed", "flagged", *FLAGS))
-            raise InvalidValue(f"verdict {self.verdict!r} is not valid: expected one of {expected}")
+        if self.verdict is not None:
+            from sharpzone.analysis.checks import FLAGS
+
+            if self.verdict not in (*FLAGS, "passed", "flagged"):
+                expected = ", ".join(("passed", "flagged", *FLAGS))
+                raise InvalidValue(f"verdict {self.verdict!r} is not valid: expected one of {expected}")
         for low, high, what in ((self.f_number_min, self.f_number_max, "f-number"),
                                 (self.focal_min_mm, self.focal_max_mm, "focal length"),
                                 (self.date_from, self.date_to, "date")):
@@ -71,8 +75,11 @@ def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
     driver's cursor a chunk at a time (a server-side cursor on PostgreSQL), so memory
     follows the chunk, not the catalogue. With ``chunk_rows=None`` yields one (perhaps
     empty) DataFrame; in chunks, none when no frame matches (and pandas is not loaded)."""
+    from sharpzone.catalog.frame_query import has_frames, iter_frame_rows, small_tables
+
+    if chunk_rows is not None and not has_frames(session, where):
+        return  # one LIMIT 1 query; the blur columns' module and numpy are not loaded
     from sharpzone.analysis.blur_checks import blur_select
-    from sharpzone.catalog.frame_query import iter_frame_rows, small_tables
 
     small = None
     for names, rows in iter_frame_rows(session, where, blur_select(), chunk_rows=chunk_rows):
@@ -185,6 +192,8 @@ class CheckResult:
     def summary_by_verdict(self) -> dict[str, int]:
         """How many frames carry each verdict, plus ``frames`` and the count of each outcome
         (``passed``, ``flagged``, ``uncertain``, ``unjudged``)."""
+        from sharpzone.analysis.checks import FLAGS
+
         counts = {flag: 0 for flag in FLAGS}
         for flags in self.frames["flags"]:
             for flag in flags:
@@ -197,6 +206,8 @@ class CheckResult:
     def summary_by_lens(self) -> list[dict]:
         """Per lens: frames, flagged, uncertain, not judged, and the share flagged of the
         judged frames (``checks.flagged_share``; ``None`` when none was judged)."""
+        from sharpzone.analysis.checks import flagged_share
+
         frames = self.frames.assign(lens=self.frames["lens"].fillna("(unknown lens)"))
         summary = []
         for lens, rows in frames.groupby("lens", sort=True):
@@ -224,8 +235,13 @@ def iter_checked(session: Session, where: FrameFilter = FrameFilter(), *, coc_po
     """``frames_with_zones`` a chunk at a time (see ``iter_frames``): the frames of
     ``CheckResult.frames`` in the same order, as DataFrames of at most ``chunk_rows`` rows,
     for output that is written as it is computed; none when no frame matches (``iter_frames``)."""
+    from sharpzone.optics.coc import parse_coc_policy
+
     policy = parse_coc_policy(coc_policy) if coc_policy else None
     for frames in iter_frames(session, where, chunk_rows=chunk_rows):
+        from sharpzone.analysis.checks import check_frames  # with the first frames
+        from sharpzone.analysis.zones import add_zones
+
         yield _keep_verdict(check_frames(add_zones(frames, policy), requirement), where.verdict)
 
 

@@ -7,11 +7,7 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-import numpy as np
-
-from sharpzone.analysis.checks import flagged_share
 from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
-from sharpzone.optics.stops import round_up_to_stops
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -47,6 +43,11 @@ class StatsResult:
 
 
 def _group_stats(kind: str, name: str, rows) -> GroupStats:
+    import numpy as np
+
+    from sharpzone.analysis.checks import flagged_share
+    from sharpzone.optics.stops import round_up_to_stops
+
     f_numbers = rows["f_number"].to_numpy(dtype=float)
     known = f_numbers[~np.isnan(f_numbers)]
     # Each recorded f-number counts at the nearest marked third stop at or above it, so

@@ -38,8 +38,8 @@ def frames_statement(session: Session, where: FrameWhere, extra_columns: Sequenc
     misspelt name is an error, not an empty list."""
     from sqlalchemy import select
 
+    from sharpzone.catalog import service  # each look-up's module loads when it is needed
     from sharpzone.catalog.models import Frame, FrameBlur
-    from sharpzone.catalog.service import get_body, get_lens, get_shoot
 
     statement = (
         select(
@@ -52,11 +52,11 @@ def frames_statement(session: Session, where: FrameWhere, extra_columns: Sequenc
         .order_by(Frame.captured_at, Frame.path, Frame.id)
     )
     if where.shoot:
-        statement = statement.where(Frame.shoot_id == get_shoot(session, where.shoot).id)
+        statement = statement.where(Frame.shoot_id == service.get_shoot(session, where.shoot).id)
     if where.body:
-        statement = statement.where(Frame.body_id == get_body(session, where.body).id)
+        statement = statement.where(Frame.body_id == service.get_body(session, where.body).id)
     if where.lens:
-        statement = statement.where(Frame.lens_id == get_lens(session, where.lens).id)
+        statement = statement.where(Frame.lens_id == service.get_lens(session, where.lens).id)
     if where.date_from:
         statement = statement.where(Frame.captured_at >= dt.datetime.combine(where.date_from, dt.time.min))
     if where.date_to:

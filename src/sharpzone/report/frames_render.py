@@ -11,16 +11,14 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from sharpzone.analysis.blur_checks import BLUR_FLAGS
-from sharpzone.analysis.checks import count_problems
-from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
 from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 from sharpzone.report.jsonout import metres, plain
-from sharpzone.report.verdicts import blur_size, describe_flag, describe_flags
 from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
 
+# The verdicts' words, the checks and numpy are imported by the functions that use them, so
+# a command whose selection holds no frame does without them.
 if TYPE_CHECKING:
     from collections.abc import Iterable, Iterator
 
@@ -239,6 +237,8 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """Checked frames in the machine interface: each frame's object (``frames_records``)
     plus the requirement and remedies, built a column at a time; the remedies' words only
     for frames with a verdict."""
+    from sharpzone.report.verdicts import describe_flags
+
     remedies = describe_flags(frames)
     remedy = [value or None for value in _texts(frames, "remedy")]
     columns = [
@@ -333,6 +333,8 @@ def _flag_style(flag: str) -> str:
 
 def _flags_text(flags: list[str], separator: str = " ") -> Text:
     parts = [styled(flag, _flag_style(flag)) for flag in flags]
+    from sharpzone.analysis.checks import count_problems
+
     if not count_problems(flags):  # no verdict, or only notes and good news
         parts.insert(0, styled("passed", PASSED_STYLE))
     return Text(separator).join(parts)
@@ -343,6 +345,8 @@ def _measured(rows) -> bool:
 
 
 def _blur_at_focus(row) -> str:
+    from sharpzone.report.verdicts import blur_size
+
     return blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc")))
 
 
@@ -350,6 +354,8 @@ _focal_text = format_focal_length  # as lenses are marked: 35 mm, 4.5 mm
 
 
 def _closeup(row) -> bool:
+    from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
+
     return (_number(row["magnification"]) or 0) >= CLOSEUP_MAGNIFICATION
 
 
@@ -472,6 +478,8 @@ def _zone_lines(row, imperial: bool) -> str:
 
 
 def _remedies_text(row, imperial: bool) -> Text:
+    from sharpzone.report.verdicts import describe_flag
+
     return Text("\n").join(line(styled(flag, _flag_style(flag)), ": ", describe_flag(flag, row, imperial=imperial))
                            for flag in row["flags"])
 
@@ -539,6 +547,8 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
     if len(shown) < len(records):
         console.print(styled(f"{len(records) - len(shown)} more flagged frames not shown: --all lists every one "
                              "(--json gives them all to scripts).", "dim"))
+    from sharpzone.analysis.blur_checks import BLUR_FLAGS
+
     if any(flag in BLUR_FLAGS for row in shown for flag in row["flags"]):
         console.print(styled(BLUR_CAUTION, "dim"))
 
