@@ -297,8 +297,7 @@ def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
     value is already plain: no NaN, infinity as ``"inf"``)."""
     import orjson
 
-    dumps = orjson.dumps
-    return separator.encode().join([dumps(item, default=plain) for item in objects]).decode()
+    return separator.join([orjson.dumps(item, default=plain).decode() for item in objects])
 
 
 def stream_json(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
