@@ -82,12 +82,14 @@ def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
     from sharpzone.analysis.blur_checks import blur_select
 
     small = None
-    for names, rows in iter_frame_rows(session, where, blur_select(), chunk_rows=chunk_rows):
+    blur_columns = blur_select()
+    expected = [column.name for column in blur_columns]
+    for names, rows in iter_frame_rows(session, where, blur_columns, chunk_rows=chunk_rows):
         if not rows and chunk_rows is not None:
             return
         if small is None:
             small = _small_tables(small_tables(session))
-        yield _frames_table(names, rows, small)
+        yield _frames_table(names, rows, small, expected)
 
 
 def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.DataFrame:
@@ -108,10 +110,11 @@ def _floats(values) -> np.ndarray:
         return pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").to_numpy(dtype=float)
 
 
-def _frames_table(names: list[str], rows: list[tuple], small) -> pd.DataFrame:
+def _frames_table(names: list[str], rows: list[tuple], small, expected: list[str] = ()) -> pd.DataFrame:
     """The frames DataFrame of one chunk of query rows: numbers as floats (NaN unknown), the
     counts as integers where all are known, times as timestamps, the shoot, body/format and
-    lens columns joined by id."""
+    lens columns joined by id; the ``expected`` columns the query left out (no blur measured
+    yet) all unknown."""
     import numpy as np
     import pandas as pd
 
@@ -128,6 +131,9 @@ def _frames_table(names: list[str], rows: list[tuple], small) -> pd.DataFrame:
             data[name] = pd.to_datetime(pd.Series(values, dtype=object), errors="coerce")
         else:
             data[name] = np.array(values, dtype=object) if values else np.empty(0, dtype=object)
+    for name in expected:
+        if name not in data:
+            data[name] = np.full(len(rows), None, dtype=object)
     for key, index, table in small:
         # Each frame's row of the small table (its last row, all unknown, where none matches).
         positions = index.get_indexer(_floats(data[key]))

@@ -31,26 +31,26 @@ class FrameWhere(Protocol):
     focal_max_mm: float | None
 
 
-def frames_statement(session: Session, where: FrameWhere, extra_columns: Sequence = ()):
+def frames_statement(session: Session, where: FrameWhere, extra_columns: Sequence = (), *, join_blur: bool = True):
     """The one query of the frames matching ``where``, every filter in SQL, in capture order;
     ``extra_columns`` are labelled columns of ``frame`` or of ``frame_blur`` (outer-joined,
-    so unmeasured frames stay). Named shoots, bodies and lenses are looked up first, so a
-    misspelt name is an error, not an empty list."""
+    so unmeasured frames stay; ``join_blur=False`` leaves the join out, for columns of
+    ``frame`` alone). Named shoots, bodies and lenses are looked up first, so a misspelt name
+    is an error, not an empty list."""
     from sqlalchemy import select
 
     from sharpzone.catalog import service  # each look-up's module loads when it is needed
     from sharpzone.catalog.models import Frame, FrameBlur
 
-    statement = (
-        select(
-            Frame.id.label("frame_id"), Frame.path, Frame.shoot_id, Frame.body_id, Frame.lens_id, Frame.focal_mm,
-            Frame.f_number, Frame.exposure_s, Frame.iso, Frame.focus_mm, Frame.focus_source, Frame.captured_at,
-            Frame.utc_offset_minutes, Frame.focus_near_mm, Frame.focus_far_mm, Frame.focus_key,
-            Frame.subject_distance_range, *extra_columns,
-        )
-        .outerjoin(FrameBlur, FrameBlur.frame_id == Frame.id)
-        .order_by(Frame.captured_at, Frame.path, Frame.id)
+    statement = select(
+        Frame.id.label("frame_id"), Frame.path, Frame.shoot_id, Frame.body_id, Frame.lens_id, Frame.focal_mm,
+        Frame.f_number, Frame.exposure_s, Frame.iso, Frame.focus_mm, Frame.focus_source, Frame.captured_at,
+        Frame.utc_offset_minutes, Frame.focus_near_mm, Frame.focus_far_mm, Frame.focus_key,
+        Frame.subject_distance_range, *extra_columns,
     )
+    if join_blur:
+        statement = statement.outerjoin(FrameBlur, FrameBlur.frame_id == Frame.id)
+    statement = statement.order_by(Frame.captured_at, Frame.path, Frame.id)
     if where.shoot:
         statement = statement.where(Frame.shoot_id == service.get_shoot(session, where.shoot).id)
     if where.body:
@@ -82,8 +82,23 @@ def iter_frame_rows(session: Session, where: FrameWhere, extra_columns: Sequence
     straight from the driver (SQLAlchemy's per-value result processing costs more than the
     query at 100,000 frames; values come as the driver gives them, e.g. times as text);
     PostgreSQL's client-side cursor would hold every row, so there a server-side cursor is
-    asked for (whose first rows SQLAlchemy buffers, so it is read through the result)."""
-    statement = frames_statement(session, where, extra_columns)
+    asked for (whose first rows SQLAlchemy buffers, so it is read through the result).
+
+    While no frame's blur has been measured (``frame_blur`` empty) the ``extra_columns`` of
+    ``frame_blur`` and the join are left out of the query (a third of its time at 100,000
+    frames): their names are then missing from the chunks, and every value of theirs is
+    unknown."""
+    from sqlalchemy import select
+
+    from sharpzone.catalog.models import FrameBlur
+
+    if session.execute(select(FrameBlur.frame_id).limit(1)).first() is None:
+        blur_table = FrameBlur.__table__
+        extra_columns = [column for column in extra_columns
+                         if getattr(getattr(column, "element", column), "table", None) is not blur_table]
+        statement = frames_statement(session, where, extra_columns, join_blur=False)
+    else:
+        statement = frames_statement(session, where, extra_columns)
     connection = session.connection()
     server_side = chunk_rows is not None and connection.dialect.supports_server_side_cursors
     if server_side:
