@@ -163,7 +163,7 @@ def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     return _objects(_FRAME_KEYS, _frame_columns(frames))
 
 
-def _frame_columns(frames: pd.DataFrame) -> list[list]:
+def _blur_column(frames: pd.DataFrame) -> list:
     count = len(frames)
     measured = frames.index[frames["blur_analysed_long_px"].notna()] if "blur_analysed_long_px" in frames else []
     blur: list = [None] * count
@@ -171,20 +171,38 @@ def _frame_columns(frames: pd.DataFrame) -> list[list]:
         positions = frames.index.get_indexer(measured)
         for position, row in zip(positions, _records(frames.iloc[positions])):
             blur[position] = plain(blur_json(row))
-    columns = [
-        _texts(frames, "path"), _texts(frames, "shoot"), _texts(frames, "body"), _texts(frames, "lens"),
-        _numbers(frames, "focal_mm"), _numbers(frames, "f_number"), _numbers(frames, "exposure_s"),
-        _whole(frames, "iso"), _timestamps(frames, "captured_at"), _whole(frames, "utc_offset_minutes"),
-        _metres(frames, "focus_mm"), _bracket(frames, "focus_near_mm"), _bracket(frames, "focus_far_mm"),
-        _texts(frames, "focus_key", strings_only=True), _texts(frames, "focus_source"),
-        _texts(frames, "format_name"), _numbers(frames, "coc_mm"), _texts(frames, "coc_policy"),
-        _texts(frames, "coc_from"), _metres(frames, "near_mm"), _metres(frames, "far_mm"),
-        _metres(frames, "hyperfocal_mm"), _metres(frames, "total_mm"), _numbers(frames, "magnification"),
-        _numbers(frames, "effective_f_number"), _numbers(frames, "airy_disk_mm"), blur,
-        # The lists as they are (rows with the same flags share one; nothing changes them).
-        [flags if type(flags) is list else list(flags) for flags in frames["flags"].tolist()],
-    ]
-    return columns
+    return blur
+
+
+# How each key of a frame's object is made from the frames, a column at a time.
+_FRAME_COLUMNS = {
+    "path": lambda frames: _texts(frames, "path"), "shoot": lambda frames: _texts(frames, "shoot"),
+    "body": lambda frames: _texts(frames, "body"), "lens": lambda frames: _texts(frames, "lens"),
+    "focal_mm": lambda frames: _numbers(frames, "focal_mm"), "f_number": lambda frames: _numbers(frames, "f_number"),
+    "exposure_s": lambda frames: _numbers(frames, "exposure_s"), "iso": lambda frames: _whole(frames, "iso"),
+    "captured_at": lambda frames: _timestamps(frames, "captured_at"),
+    "utc_offset_minutes": lambda frames: _whole(frames, "utc_offset_minutes"),
+    "focus_m": lambda frames: _metres(frames, "focus_mm"),
+    "focus_near_m": lambda frames: _bracket(frames, "focus_near_mm"),
+    "focus_far_m": lambda frames: _bracket(frames, "focus_far_mm"),
+    "focus_key": lambda frames: _texts(frames, "focus_key", strings_only=True),
+    "focus_source": lambda frames: _texts(frames, "focus_source"),
+    "format": lambda frames: _texts(frames, "format_name"), "coc_mm": lambda frames: _numbers(frames, "coc_mm"),
+    "coc_policy": lambda frames: _texts(frames, "coc_policy"), "coc_from": lambda frames: _texts(frames, "coc_from"),
+    "near_m": lambda frames: _metres(frames, "near_mm"), "far_m": lambda frames: _metres(frames, "far_mm"),
+    "hyperfocal_m": lambda frames: _metres(frames, "hyperfocal_mm"),
+    "total_m": lambda frames: _metres(frames, "total_mm"),
+    "magnification": lambda frames: _numbers(frames, "magnification"),
+    "effective_f_number": lambda frames: _numbers(frames, "effective_f_number"),
+    "airy_disk_mm": lambda frames: _numbers(frames, "airy_disk_mm"), "blur": _blur_column,
+    # The lists as they are (rows with the same flags share one; nothing changes them).
+    "flags": lambda frames: [flags if type(flags) is list else list(flags) for flags in frames["flags"].tolist()],
+}
+
+
+def _frame_columns(frames: pd.DataFrame, keys: tuple[str, ...] = _FRAME_KEYS) -> list[list]:
+    """The columns of the frames' objects for ``keys`` (all of them unless told)."""
+    return [_FRAME_COLUMNS[key](frames) for key in keys]
 
 
 def blur_json(row) -> dict[str, Any] | None:
@@ -273,8 +291,7 @@ def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
     for frames in chunks:
-        columns = dict(zip(_FRAME_KEYS, _frame_columns(frames)))
-        writer.writerows(zip(*(_csv_cells(columns[name]) for name in CSV_COLUMNS)))
+        writer.writerows(zip(*(_csv_cells(column) for column in _frame_columns(frames, CSV_COLUMNS))))
         yield buffer.getvalue()
         buffer.seek(0)
         buffer.truncate()
