@@ -174,35 +174,38 @@ def _blur_column(frames: pd.DataFrame) -> list:
     return blur
 
 
-# How each key of a frame's object is made from the frames, a column at a time.
-_FRAME_COLUMNS = {
-    "path": lambda frames: _texts(frames, "path"), "shoot": lambda frames: _texts(frames, "shoot"),
-    "body": lambda frames: _texts(frames, "body"), "lens": lambda frames: _texts(frames, "lens"),
-    "focal_mm": lambda frames: _numbers(frames, "focal_mm"), "f_number": lambda frames: _numbers(frames, "f_number"),
-    "exposure_s": lambda frames: _numbers(frames, "exposure_s"), "iso": lambda frames: _whole(frames, "iso"),
-    "captured_at": lambda frames: _timestamps(frames, "captured_at"),
-    "utc_offset_minutes": lambda frames: _whole(frames, "utc_offset_minutes"),
-    "focus_m": lambda frames: _metres(frames, "focus_mm"),
-    "focus_near_m": lambda frames: _bracket(frames, "focus_near_mm"),
-    "focus_far_m": lambda frames: _bracket(frames, "focus_far_mm"),
-    "focus_key": lambda frames: _texts(frames, "focus_key", strings_only=True),
-    "focus_source": lambda frames: _texts(frames, "focus_source"),
-    "format": lambda frames: _texts(frames, "format_name"), "coc_mm": lambda frames: _numbers(frames, "coc_mm"),
-    "coc_policy": lambda frames: _texts(frames, "coc_policy"), "coc_from": lambda frames: _texts(frames, "coc_from"),
-    "near_m": lambda frames: _metres(frames, "near_mm"), "far_m": lambda frames: _metres(frames, "far_mm"),
-    "hyperfocal_m": lambda frames: _metres(frames, "hyperfocal_mm"),
-    "total_m": lambda frames: _metres(frames, "total_mm"),
-    "magnification": lambda frames: _numbers(frames, "magnification"),
-    "effective_f_number": lambda frames: _numbers(frames, "effective_f_number"),
-    "airy_disk_mm": lambda frames: _numbers(frames, "airy_disk_mm"), "blur": _blur_column,
+def _flag_lists(frames: pd.DataFrame, name: str) -> list:
     # The lists as they are (rows with the same flags share one; nothing changes them).
-    "flags": lambda frames: [flags if type(flags) is list else list(flags) for flags in frames["flags"].tolist()],
+    return [flags if type(flags) is list else list(flags) for flags in frames[name].tolist()]
+
+
+def _strings(frames: pd.DataFrame, name: str) -> list:
+    return _texts(frames, name, strings_only=True)
+
+
+# Each key of a frame's object: the function that makes its column and the frames column it reads.
+_FRAME_COLUMNS = {
+    "path": (_texts, "path"), "shoot": (_texts, "shoot"), "body": (_texts, "body"), "lens": (_texts, "lens"),
+    "focal_mm": (_numbers, "focal_mm"), "f_number": (_numbers, "f_number"), "exposure_s": (_numbers, "exposure_s"),
+    "iso": (_whole, "iso"), "captured_at": (_timestamps, "captured_at"),
+    "utc_offset_minutes": (_whole, "utc_offset_minutes"), "focus_m": (_metres, "focus_mm"),
+    "focus_near_m": (_bracket, "focus_near_mm"), "focus_far_m": (_bracket, "focus_far_mm"),
+    "focus_key": (_strings, "focus_key"), "focus_source": (_texts, "focus_source"),
+    "format": (_texts, "format_name"), "coc_mm": (_numbers, "coc_mm"), "coc_policy": (_texts, "coc_policy"),
+    "coc_from": (_texts, "coc_from"), "near_m": (_metres, "near_mm"), "far_m": (_metres, "far_mm"),
+    "hyperfocal_m": (_metres, "hyperfocal_mm"), "total_m": (_metres, "total_mm"),
+    "magnification": (_numbers, "magnification"), "effective_f_number": (_numbers, "effective_f_number"),
+    "airy_disk_mm": (_numbers, "airy_disk_mm"), "blur": (_blur_column, None), "flags": (_flag_lists, "flags"),
 }
 
 
 def _frame_columns(frames: pd.DataFrame, keys: tuple[str, ...] = _FRAME_KEYS) -> list[list]:
     """The columns of the frames' objects for ``keys`` (all of them unless told)."""
-    return [_FRAME_COLUMNS[key](frames) for key in keys]
+    columns = []
+    for key in keys:
+        make, name = _FRAME_COLUMNS[key]
+        columns.append(make(frames) if name is None else make(frames, name))
+    return columns
 
 
 def blur_json(row) -> dict[str, Any] | None:
