@@ -31,16 +31,8 @@ STORED_COLUMNS = ["exif_lens_model", "measured_at", "seen_at"]
 
 # Dead code in modules that other work changes at the same time; each entry goes with the
 # code, and the test says when an entry is no longer needed. (path below src/sharpzone, name)
-PENDING_REMOVAL = {
-    ("analysis/checks.py", "OUTCOMES"),
-    ("analysis/checks.py", "REMEDIES"),
-    ("analysis/frames.py", "load_frames"),
-    ("report/frames_render.py", "frames_csv"),
-}
-PENDING_IMPORTS = {
-    ("ingest/pipeline.py", "select"),
-    ("report/frames_render.py", "Table"),
-}
+PENDING_REMOVAL: set[tuple[str, str]] = set()
+PENDING_IMPORTS: set[tuple[str, str]] = set()
 
 
 def _modules():

@@ -203,8 +203,29 @@ def test_changed_policy_changes_every_frame():
 def test_requirement_options_are_validated():
     with pytest.raises(ValueError, match="not both"):
         Requirement.from_options(near_mm=1, far_mm=2, front_mm=3, back_mm=4)
-    with pytest.raises(ValueError, match="not beyond"):
+    with pytest.raises(ValueError, match="far limit 2.00 m must be beyond the near limit 5.00 m"):
         Requirement.from_options(near_mm=5000, far_mm=2000)
+    with pytest.raises(ValueError, match="needs both --near and --far"):
+        Requirement.from_options(near_mm=5000)
+    with pytest.raises(ValueError, match="needs both --front and --back"):
+        Requirement.from_options(back_mm=50)
+
+
+def test_a_requirement_follows_the_plan_rules_of_a_shoot():
+    # One home for the plan checks (catalog.rules.plan_values): what a shoot's plan may not
+    # be, a requirement may not be either.
+    from sharpzone.catalog.rules import plan_values
+
+    for kind, limits in (("sideways", {}), ("range", {"near_mm": -1.0, "far_mm": 2.0}),
+                         ("depth", {"front_mm": 0.0, "back_mm": 0.0}), ("depth", {"front_mm": -5.0, "back_mm": 9.0})):
+        with pytest.raises(ValueError):
+            plan_values("plan", kind, limits.get("near_mm"), limits.get("far_mm"), limits.get("front_mm"),
+                        limits.get("back_mm"))
+        with pytest.raises(ValueError):
+            Requirement(kind, **limits)
+    assert Requirement.from_plan("depth", math.nan, math.nan, 30.0, 60.0) == Requirement("depth", front_mm=30.0,
+                                                                                            back_mm=60.0)
+    assert Requirement.from_plan(None, math.nan, math.nan, math.nan, math.nan) is None
     assert Requirement.from_options() is None
 
 

@@ -6,6 +6,7 @@ Run: ``python -m pytest tests/benchmarks/test_bench_output.py -m benchmark -s``
 (``SHARPZONE_BENCH_FRAMES=300000,1000000`` for more sizes; default 300,000).
 Goals: each command ≤ 2 × the baseline's time and ≤ 1.5 × its peak memory (maximum resident
 set size from ``/usr/bin/time -f %M``); the commands' memory stays flat as the catalogue grows.
+Each figure is the faster of two runs (and the larger peak memory), the baseline's too.
 """
 
 from __future__ import annotations
@@ -61,6 +62,12 @@ def _measure(command: list[str]) -> tuple[float, float]:
     return seconds, int(done.stderr.strip().splitlines()[-1]) / 1024
 
 
+def _best_of_two(command: list[str]) -> tuple[float, float]:
+    """The faster of two runs (the machine may be shared) and the larger peak memory."""
+    runs = [_measure(command) for _ in range(2)]
+    return min(seconds for seconds, _ in runs), max(mb for _, mb in runs)
+
+
 @pytest.mark.parametrize("count", SIZES)
 def test_streamed_output_against_the_pandas_baseline(tmp_path, count):
     url = f"sqlite:///{tmp_path / 'big.sqlite'}"
@@ -75,7 +82,7 @@ def test_streamed_output_against_the_pandas_baseline(tmp_path, count):
         "check --csv": [*sharpzone, "check", "--csv"],
     }
     _measure(runs["frames --json"])  # warm the file cache
-    figures = {name: _measure(command) for name, command in runs.items()}
+    figures = {name: _best_of_two(command) for name, command in runs.items()}
     base_s, base_mb = figures.pop("baseline (read_sql + numpy + to_json)")
     print(f"\n{count:,} frames; baseline {base_s:.2f} s, {base_mb:.0f} MB")
     worst_time = worst_memory = 0.0

@@ -10,7 +10,8 @@ import datetime as dt
 
 import pytest
 
-from sharpzone.analysis.frames import FrameFilter, _frames_statement
+from sharpzone.analysis.frames import FrameFilter
+from sharpzone.catalog.frame_query import frames_statement
 from sharpzone.catalog.location import sqlite_path
 
 
@@ -30,7 +31,7 @@ def filled(catalog):
 
 def _plan(session, where: FrameFilter) -> str:
     connection = session.connection()
-    compiled = _frames_statement(session, where).compile(dialect=connection.dialect)
+    compiled = frames_statement(session, where).compile(dialect=connection.dialect)
     params = compiled.construct_params()
     if compiled.positional:
         params = tuple(params[name] for name in compiled.positiontup)

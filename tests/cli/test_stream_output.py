@@ -90,3 +90,25 @@ def test_check_json_refuses_a_shoot_without_plan_before_writing(catalog_url):
     assert result.exit_code != 0
     assert result.stdout == ""
     assert "no plan" in result.output
+
+
+def test_frames_without_a_measurement_read_the_same_once_another_is_measured(shoot_catalog):  # noqa: F811
+    # While frame_blur is empty the frames query leaves its join out; once one frame is
+    # measured it joins again: the unmeasured frames' objects must not change (invented data).
+    from sqlalchemy import select
+
+    from sharpzone.analysis.frames import FrameFilter, frames_with_zones
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame, FrameBlur
+    from sharpzone.report.frames_render import check_records
+
+    with session_scope(shoot_catalog) as session:
+        before = check_records(frames_with_zones(session, FrameFilter()).frames)
+        first = session.execute(select(Frame).order_by(Frame.captured_at, Frame.path)).scalars().first()
+        session.add(FrameBlur(frame_id=first.id, method="invented", method_version=1, analysed_long_px=640,
+                              focus_blur_px=2.0, best_blur_px=1.5, regions_measured=4, regions_total=9))
+    with session_scope(shoot_catalog) as session:
+        after = check_records(frames_with_zones(session, FrameFilter()).frames)
+    assert all(item["blur"] is None for item in before)
+    assert after[0]["blur"]["analysed_long_px"] == 640 and after[0]["blur"]["focus_blur_px"] == 2.0
+    assert after[1:] == before[1:]

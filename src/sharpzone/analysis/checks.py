@@ -53,13 +53,11 @@ frame the optics could not judge (no distance, say) it makes the frame passed; a
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
 
 from sharpzone.analysis.blur_checks import BLUR_FLAGS, blur_flags
-from sharpzone.errors import InvalidValue
 from sharpzone.optics.dof import sharp_zone
 from sharpzone.optics.planning import (
     best_focus_for_range,
@@ -70,7 +68,6 @@ from sharpzone.optics.planning import (
     stack_frame_counts,
 )
 from sharpzone.optics.stops import round_up_to_stops, stop_series
-from sharpzone.units import format_distance
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -88,52 +85,11 @@ FLAG_KINDS = {
     "focus-missed": "missed", "soft-all-over": "missed", "sharp-at-focus": "sharp", "not-measurable": "note",
 }
 OUTCOMES = ("passed", "flagged", "uncertain", "unjudged")
-# Remedy codes in the ``remedy`` column: what the words for a flagged or uncertain frame say.
-REMEDIES = ("stop-down", "refocus", "stack", "focus-on-subject")
 from sharpzone.optics.limits import ASSUMED_MIN_APERTURE, MIN_F_NUMBER  # noqa: E402, F401 - one home
 
+from sharpzone.analysis.requirement import Requirement  # noqa: E402 - its own light module, for the options
+
 REQUIREMENT_COLUMNS = ("plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm")
-
-
-@dataclass(frozen=True)
-class Requirement:
-    """What had to be sharp, in mm from the sensor: a ``range`` or a ``depth`` around focus."""
-
-    kind: str
-    near_mm: float | None = None
-    far_mm: float | None = None
-    front_mm: float | None = None
-    back_mm: float | None = None
-
-    def __post_init__(self) -> None:
-        if self.kind == "range":
-            if self.near_mm is None or self.far_mm is None:
-                raise InvalidValue("a range requirement needs both --near and --far")
-            if not self.far_mm > self.near_mm:
-                raise InvalidValue(
-                    f"--far {format_distance(self.far_mm)} is not beyond --near {format_distance(self.near_mm)}")
-        elif self.kind == "depth":
-            if self.front_mm is None or self.back_mm is None:
-                raise InvalidValue("a depth requirement needs both --front and --back")
-        else:
-            raise InvalidValue(f"requirement kind {self.kind!r} is not valid: expected 'range' or 'depth'")
-
-    @classmethod
-    def from_options(cls, *, near_mm=None, far_mm=None, front_mm=None, back_mm=None) -> Requirement | None:
-        """The requirement the command line gives, ``None`` when it gives none."""
-        if near_mm is not None or far_mm is not None:
-            if front_mm is not None or back_mm is not None:
-                raise InvalidValue("give either --near/--far (a range) or --front/--back (a depth), not both")
-            return cls("range", near_mm=near_mm, far_mm=far_mm)
-        if front_mm is not None or back_mm is not None:
-            return cls("depth", front_mm=front_mm, back_mm=back_mm)
-        return None
-
-    def describe(self, imperial: bool = False) -> str:
-        if self.kind == "range":
-            return f"sharp from {format_distance(self.near_mm, imperial=imperial)} to {format_distance(self.far_mm, imperial=imperial)}"
-        return (f"{format_distance(self.front_mm, imperial=imperial)} in front of and "
-                f"{format_distance(self.back_mm, imperial=imperial)} behind the focus point")
 
 
 def _requirement_columns(frames: pd.DataFrame, requirement: Requirement | None):
@@ -201,7 +157,7 @@ def check_frames(frames: pd.DataFrame, requirement: Requirement | None = None) -
     """``frames`` (with zones) plus ``flags`` (a list of codes per row, empty = passed),
     ``outcome`` (one of ``OUTCOMES``), the required range, and the remedy numbers:
 
-    ``remedy`` (one of ``REMEDIES`` or empty), ``needed_f_number`` (where stopping down is the
+    ``remedy`` ("stop-down", "refocus", "stack", "focus-on-subject" or empty), ``needed_f_number`` (where stopping down is the
     remedy: a marked third stop that holds over the whole focus bracket at this focus), ``better_focus_mm`` with
     ``better_f_number`` (a refocus, or the alternative to stopping down when it saves a stop),
     ``stack_frames`` at ``stack_f_number``, ``single_frame_f_number`` (the least f-number one

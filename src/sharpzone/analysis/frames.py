@@ -7,16 +7,18 @@ import datetime as dt
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.checks import FLAGS, Requirement, check_frames, flagged_share
-from sharpzone.analysis.zones import add_zones
 from sharpzone.errors import InvalidValue
-from sharpzone.optics.coc import parse_coc_policy
 
+# The checks, the zones and numpy are imported where the frames are judged, so a command
+# whose selection holds no frame does without them.
 if TYPE_CHECKING:
     from collections.abc import Iterator
 
+    import numpy as np
     import pandas as pd
     from sqlalchemy.orm import Session
+
+    from sharpzone.analysis.requirement import Requirement
 
 
 @dataclass(frozen=True)
@@ -36,9 +38,12 @@ class FrameFilter:
     verdict: str | None = None
 
     def __post_init__(self) -> None:
-        if self.verdict is not None and self.verdict not in (*FLAGS, "passed", "flagged"):
-            expected = ", ".join(("passed", "flagged", *FLAGS))
-            raise InvalidValue(f"verdict {self.verdict!r} is not valid: expected one of {expected}")
+        if self.verdict is not None:
+            from sharpzone.analysis.checks import FLAGS
+
+            if self.verdict not in (*FLAGS, "passed", "flagged"):
+                expected = ", ".join(("passed", "flagged", *FLAGS))
+                raise InvalidValue(f"verdict {self.verdict!r} is not valid: expected one of {expected}")
         for low, high, what in ((self.f_number_min, self.f_number_max, "f-number"),
                                 (self.focal_min_mm, self.focal_max_mm, "focal length"),
                                 (self.date_from, self.date_to, "date")):
@@ -57,48 +62,7 @@ _NUMERIC = ("focal_mm", "f_number", "exposure_s", "focus_mm", "focus_near_mm", "
             "plan_front_mm", "plan_back_mm", "planned_focal_mm", "planned_f_number", "planned_focus_mm")
 
 
-def _frames_statement(session: Session, where: FrameFilter):
-    """The one query of the frames matching ``where`` (all but the verdict), every filter
-    in SQL, in capture order, with the blur measurement outer-joined."""
-    from sqlalchemy import select
-
-    from sharpzone.analysis.blur_checks import blur_select
-    from sharpzone.catalog.models import Frame, FrameBlur
-    from sharpzone.catalog.service import get_body, get_lens, get_shoot
-
-    # Frames carry ids; shoots, bodies (with formats) and lenses are few and are fetched on
-    # their own and joined here, which keeps the wide per-frame fetch narrow.
-    statement = (
-        select(
-            Frame.id.label("frame_id"), Frame.path, Frame.shoot_id, Frame.body_id, Frame.lens_id, Frame.focal_mm,
-            Frame.f_number, Frame.exposure_s, Frame.iso, Frame.focus_mm, Frame.focus_source, Frame.captured_at,
-            Frame.utc_offset_minutes, Frame.focus_near_mm, Frame.focus_far_mm, Frame.focus_key,
-            Frame.subject_distance_range, *blur_select(),
-        )
-        .outerjoin(FrameBlur, FrameBlur.frame_id == Frame.id)
-        .order_by(Frame.captured_at, Frame.path, Frame.id)
-    )
-    # Named things are looked up first so a misspelt name is an error, not an empty list.
-    if where.shoot:
-        statement = statement.where(Frame.shoot_id == get_shoot(session, where.shoot).id)
-    if where.body:
-        statement = statement.where(Frame.body_id == get_body(session, where.body).id)
-    if where.lens:
-        statement = statement.where(Frame.lens_id == get_lens(session, where.lens).id)
-    if where.date_from:
-        statement = statement.where(Frame.captured_at >= dt.datetime.combine(where.date_from, dt.time.min))
-    if where.date_to:
-        statement = statement.where(Frame.captured_at < dt.datetime.combine(where.date_to, dt.time.min)
-                                    + dt.timedelta(days=1))
-    if where.f_number_min is not None:
-        statement = statement.where(Frame.f_number >= where.f_number_min)
-    if where.f_number_max is not None:
-        statement = statement.where(Frame.f_number <= where.f_number_max)
-    if where.focal_min_mm is not None:
-        statement = statement.where(Frame.focal_mm >= where.focal_min_mm)
-    if where.focal_max_mm is not None:
-        statement = statement.where(Frame.focal_mm <= where.focal_max_mm)
-    return statement
+_COUNTS = ("iso", "utc_offset_minutes", "frame_id")
 
 
 def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
@@ -107,98 +71,93 @@ def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
     at most ``chunk_rows`` rows (``None``: one DataFrame of all), with the columns
     ``analysis.zones`` and ``analysis.checks`` read; lengths in mm.
 
-    One query with the filters in SQL; its rows are read from the driver's cursor a chunk
-    at a time (a server-side cursor on PostgreSQL), so memory follows the chunk, not the
-    catalogue. Yields at least one (perhaps empty) DataFrame."""
-    statement = _frames_statement(session, where)
-    small = _small_tables(session)
-    connection = session.connection()
-    # SQLite's cursor already steps through the result as it is fetched; PostgreSQL's
-    # client-side cursor would hold every row, so there a server-side cursor is asked for
-    # (whose first rows SQLAlchemy buffers, so it is read through the result).
-    server_side = chunk_rows is not None and connection.dialect.supports_server_side_cursors
-    if server_side:
-        connection = connection.execution_options(stream_results=True)
-    result = connection.execute(statement)
-    names = list(result.keys())
-    # Otherwise rows come straight from the driver's cursor: SQLAlchemy's per-value result
-    # processing costs more than the query itself at 100,000 frames. Types are fixed up per
-    # column below.
-    source = result if server_side else result.cursor
+    One query with the filters in SQL (``catalog.frame_query``); its rows are read from the
+    driver's cursor a chunk at a time (a server-side cursor on PostgreSQL), so memory
+    follows the chunk, not the catalogue. With ``chunk_rows=None`` yields one (perhaps
+    empty) DataFrame; in chunks, none when no frame matches (and pandas is not loaded)."""
+    from sharpzone.catalog.frame_query import has_frames, iter_frame_rows, small_tables
+
+    if chunk_rows is not None and not has_frames(session, where):
+        return  # one LIMIT 1 query; the blur columns' module and numpy are not loaded
+    from sharpzone.analysis.blur_checks import blur_select
+
+    small = None
+    blur_columns = blur_select()
+    expected = [column.name for column in blur_columns]
+    for names, rows in iter_frame_rows(session, where, blur_columns, chunk_rows=chunk_rows):
+        if not rows and chunk_rows is not None:
+            return
+        if small is None:
+            small = _small_tables(small_tables(session))
+        yield _frames_table(names, rows, small, expected)
+
+
+def _floats(values) -> np.ndarray:
+    """Values as the driver gave them as floats, NaN for unknown (and for what is no number)."""
+    import numpy as np
+
     try:
-        first = True
-        while True:
-            rows = source.fetchall() if chunk_rows is None else source.fetchmany(chunk_rows)
-            if not rows and not first:
-                return
-            first = False
-            yield _frames_table(names, rows, small)
-            if chunk_rows is None or len(rows) < chunk_rows:
-                return
-    finally:
-        result.close()
+        return np.array(values, dtype=float)  # None → NaN
+    except (TypeError, ValueError):
+        import pandas as pd
+
+        return pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").to_numpy(dtype=float)
 
 
-def load_frames(session: Session, where: FrameFilter = FrameFilter()) -> pd.DataFrame:
-    """Frames matching ``where`` (all but the verdict, which needs the zones) as one
-    DataFrame with the columns ``analysis.zones`` and ``analysis.checks`` read; lengths in mm."""
-    return next(iter_frames(session, where, chunk_rows=None))
-
-
-def _frames_table(names: list[str], rows: list[tuple], small) -> pd.DataFrame:
+def _frames_table(names: list[str], rows: list[tuple], small, expected: list[str] = ()) -> pd.DataFrame:
+    """The frames DataFrame of one chunk of query rows: numbers as floats (NaN unknown), the
+    counts as integers where all are known, times as timestamps, the shoot, body/format and
+    lens columns joined by id; the ``expected`` columns the query left out (no blur measured
+    yet) all unknown."""
+    import numpy as np
     import pandas as pd
 
     from sharpzone.analysis.blur_checks import blur_types
 
     columns = list(zip(*rows)) if rows else [() for _ in names]
-    frame = pd.DataFrame({name: pd.Series(values, dtype=object) for name, values in zip(names, columns)})
-    frame["captured_at"] = pd.to_datetime(frame["captured_at"], errors="coerce")
-    frame = _join_small_tables(frame, small)
-    frame = blur_types(frame)
-    for column in _NUMERIC:
-        frame[column] = pd.to_numeric(frame[column], errors="coerce").astype(float)
-    for column in ("iso", "utc_offset_minutes", "frame_id"):
-        frame[column] = pd.to_numeric(frame[column], errors="coerce")
-    return frame
+    data = {}
+    for name, values in zip(names, columns):
+        if name in _NUMERIC:
+            data[name] = _floats(values)
+        elif name in _COUNTS:
+            data[name] = pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").to_numpy()
+        elif name == "captured_at":
+            data[name] = pd.to_datetime(pd.Series(values, dtype=object), errors="coerce")
+        else:
+            data[name] = np.array(values, dtype=object) if values else np.empty(0, dtype=object)
+    for name in expected:
+        if name not in data:
+            data[name] = np.full(len(rows), None, dtype=object)
+    for key, index, table in small:
+        # Each frame's row of the small table (its last row, all unknown, where none matches).
+        positions = index.get_indexer(_floats(data[key]))
+        for column, values in table.items():
+            data[column] = values[positions]
+    return blur_types(pd.DataFrame(data))
 
 
-def _small_tables(session: Session):
-    """Shoots, bodies (with formats) and lenses by id: few rows, fetched once."""
-    import pandas as pd
-    from sqlalchemy import select
-
-    from sharpzone.catalog.models import Body, Lens, SensorFormatRow, Shoot
-
-    def table(statement, key):
-        result = session.execute(statement)
-        small = pd.DataFrame(result.all(), columns=list(result.keys()))
-        return small.set_index(key)
-
-    shoots = table(select(
-        Shoot.id.label("shoot_id"), Shoot.name.label("shoot"), Shoot.coc_policy.label("shoot_coc_policy"),
-        Shoot.plan_kind, Shoot.plan_near_mm, Shoot.plan_far_mm, Shoot.plan_front_mm, Shoot.plan_back_mm,
-        Shoot.planned_focal_mm, Shoot.planned_f_number, Shoot.planned_focus_mm), "shoot_id")
-    bodies = table(select(
-        Body.id.label("body_id"), Body.name.label("body"), Body.pixel_width, Body.pixel_height,
-        SensorFormatRow.name.label("format_name"), SensorFormatRow.width_mm.label("format_width_mm"),
-        SensorFormatRow.height_mm.label("format_height_mm"), SensorFormatRow.coc_divisor.label("format_coc_divisor"),
-    ).outerjoin(SensorFormatRow, Body.format_id == SensorFormatRow.id), "body_id")  # a body may lack a format
-    lenses = table(select(
-        Lens.id.label("lens_id"), Lens.name.label("lens"), Lens.pupil_magnification,
-        Lens.min_aperture.label("lens_min_aperture"), Lens.close_focus_mm.label("lens_close_focus_mm"),
-        Lens.max_magnification.label("lens_max_magnification")), "lens_id")
-    return (("shoot_id", shoots), ("body_id", bodies), ("lens_id", lenses))
-
-
-def _join_small_tables(frame: pd.DataFrame, small) -> pd.DataFrame:
-    """Add shoot, body/format and lens columns to the frames by their ids."""
+def _small_tables(tables):
+    """The shoots, bodies and lenses (``frame_query.small_tables``) as ``(id column, index of
+    the ids, {column: values with one unknown row after the last})``: a frame's columns are
+    then taken by position."""
+    import numpy as np
     import pandas as pd
 
-    for key, table in small:
-        ids = pd.to_numeric(frame[key], errors="coerce")
-        for column in table.columns:
-            frame[column] = ids.map(table[column]).astype(object)
-    return frame
+    prepared = []
+    for key, names, rows in tables:
+        columns = list(zip(*rows)) if rows else [() for _ in names]
+        index = pd.Index(_floats(columns[0]))
+        table = {}
+        for name, values in zip(names[1:], columns[1:]):
+            if name in _NUMERIC:
+                table[name] = np.append(_floats(values), np.nan)
+            else:
+                column = np.empty(len(values) + 1, dtype=object)
+                column[:-1] = values
+                column[-1] = np.nan
+                table[name] = column
+        prepared.append((key, index, table))
+    return prepared
 
 
 def _keep_verdict(checked: pd.DataFrame, verdict: str | None) -> pd.DataFrame:
@@ -225,26 +184,27 @@ class CheckResult:
         """Frames whose outcome is flagged (judged and missed)."""
         return self.frames[self.frames["outcome"].to_numpy(dtype=object) == "flagged"]
 
-    @property
-    def noted(self) -> pd.DataFrame:
-        """Frames with any verdict: flagged, uncertain or not judged."""
-        return self.frames[self.frames["flags"].map(len).to_numpy() > 0]
-
     def summary_by_verdict(self) -> dict[str, int]:
         """How many frames carry each verdict, plus ``frames`` and the count of each outcome
         (``passed``, ``flagged``, ``uncertain``, ``unjudged``)."""
+        from sharpzone.analysis.checks import FLAGS
+
         counts = {flag: 0 for flag in FLAGS}
         for flags in self.frames["flags"]:
             for flag in flags:
                 counts[flag] += 1
+        from sharpzone.analysis.checks import OUTCOMES
+
         outcomes = self.frames["outcome"].value_counts()
         summary = {"frames": len(self.frames)}
-        summary.update({name: int(outcomes.get(name, 0)) for name in ("passed", "flagged", "uncertain", "unjudged")})
+        summary.update({name: int(outcomes.get(name, 0)) for name in OUTCOMES})
         return {**summary, **{k: v for k, v in counts.items() if v}}
 
     def summary_by_lens(self) -> list[dict]:
         """Per lens: frames, flagged, uncertain, not judged, and the share flagged of the
         judged frames (``checks.flagged_share``; ``None`` when none was judged)."""
+        from sharpzone.analysis.checks import flagged_share
+
         frames = self.frames.assign(lens=self.frames["lens"].fillna("(unknown lens)"))
         summary = []
         for lens, rows in frames.groupby("lens", sort=True):
@@ -271,26 +231,26 @@ def iter_checked(session: Session, where: FrameFilter = FrameFilter(), *, coc_po
                  requirement: Requirement | None = None, chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
     """``frames_with_zones`` a chunk at a time (see ``iter_frames``): the frames of
     ``CheckResult.frames`` in the same order, as DataFrames of at most ``chunk_rows`` rows,
-    for output that is written as it is computed. Yields at least one (perhaps empty)."""
+    for output that is written as it is computed; none when no frame matches (``iter_frames``)."""
+    from sharpzone.optics.coc import parse_coc_policy
+
     policy = parse_coc_policy(coc_policy) if coc_policy else None
     for frames in iter_frames(session, where, chunk_rows=chunk_rows):
+        from sharpzone.analysis.checks import check_frames  # with the first frames
+        from sharpzone.analysis.zones import add_zones
+
         yield _keep_verdict(check_frames(add_zones(frames, policy), requirement), where.verdict)
 
 
 def require_plan(session: Session, where: FrameFilter, requirement: Requirement | None) -> None:
     """Refuse with a clear message when neither ``requirement`` nor any matching frame's
     shoot plan says what had to be sharp (asked of the database, before any frame is read)."""
-    from sqlalchemy import select
-
-    from sharpzone.catalog.models import Shoot
+    from sharpzone.catalog.frame_query import plan_status
 
     if requirement is not None:
         return
-    matching = _frames_statement(session, where).order_by(None).subquery()
-    any_frame = session.execute(select(matching.c.frame_id).limit(1)).first()
-    planned = session.execute(select(matching.c.frame_id).where(matching.c.shoot_id.in_(
-        select(Shoot.id).where(Shoot.plan_kind.is_not(None)))).limit(1)).first()
-    if any_frame is not None and planned is None:
+    any_frame, planned = plan_status(session, where)
+    if any_frame and not planned:
         shoot = f"shoot {where.shoot!r} has" if where.shoot else "these shoots have"
         raise InvalidValue(
             f"{shoot} no plan, so nothing says what had to be sharp",

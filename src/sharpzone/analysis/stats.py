@@ -7,11 +7,7 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-import numpy as np
-
-from sharpzone.analysis.checks import flagged_share
 from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
-from sharpzone.optics.stops import round_up_to_stops
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -47,6 +43,11 @@ class StatsResult:
 
 
 def _group_stats(kind: str, name: str, rows) -> GroupStats:
+    import numpy as np
+
+    from sharpzone.analysis.checks import flagged_share
+    from sharpzone.optics.stops import round_up_to_stops
+
     f_numbers = rows["f_number"].to_numpy(dtype=float)
     known = f_numbers[~np.isnan(f_numbers)]
     # Each recorded f-number counts at the nearest marked third stop at or above it, so
@@ -72,6 +73,10 @@ def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_pol
                 requirement: Requirement | None = None) -> StatsResult:
     """``sharpzone stats``: per lens and per body, frames, f-numbers used, share flagged
     (against ``requirement`` or each shoot's plan) and typical focus distances."""
+    from sharpzone.catalog.frame_query import has_frames
+
+    if not has_frames(session, where):  # nothing to count: asked of the database, no frames table
+        return StatsResult((), (), False)
     result: CheckResult = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
     frames = result.frames
     groups = {}

@@ -28,16 +28,26 @@ def frames(
     csv: CsvOpt = False, wide: WideOpt = False,
 ) -> None:
     """Every frame's sharp zone: near and far limits, hyperfocal distance, CoC used."""
-    from sharpzone.analysis.frames import frames_with_zones, iter_checked
+    def render(result) -> None:
+        from sharpzone.report import frames_render
 
+        frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+
+    _frames_or_check(ctx, where, judging, checked=False, json=json, jsonl=jsonl, csv=csv, render=render)
+
+
+def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: bool, csv: bool, render) -> None:
+    """Call the service of ``frames`` or (``checked``) ``check``: streamed for machine output
+    (written a chunk of frames at a time), else whole and handed to ``render``."""
+    from sharpzone.analysis import frames as service
+
+    options = {"coc_policy": judging.coc_policy, "requirement": judging.requirement}
     with catalog_session(ctx) as session:
-        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
-            chunks = iter_checked(session, where, coc_policy=judging.coc_policy, requirement=judging.requirement)
-            return _stream(chunks, json=json, jsonl=jsonl, checked=False)
-        result = frames_with_zones(session, where, coc_policy=judging.coc_policy, requirement=judging.requirement)
-    from sharpzone.report import frames_render
-
-    frames_render.render_frames(result.frames, imperial=imperial, wide=wide)
+        if json or jsonl or csv:
+            chunks = (service.iter_check_shoot if checked else service.iter_checked)(session, where, **options)
+            return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
+        result = (service.check_shoot if checked else service.frames_with_zones)(session, where, **options)
+    render(result)
 
 
 def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
@@ -61,16 +71,12 @@ def check(
     csv: CsvOpt = False, wide: WideOpt = False, all_frames: AllOpt = False,
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
-    from sharpzone.analysis.frames import check_shoot, iter_check_shoot
+    def render(result) -> None:
+        from sharpzone.report import frames_render
 
-    with catalog_session(ctx) as session:
-        if json or jsonl or csv:  # streamed: written a chunk of frames at a time
-            chunks = iter_check_shoot(session, where, requirement=judging.requirement, coc_policy=judging.coc_policy)
-            return _stream(chunks, json=json, jsonl=jsonl, checked=True)
-        result = check_shoot(session, where, requirement=judging.requirement, coc_policy=judging.coc_policy)
-    from sharpzone.report import frames_render
+        frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
 
-    frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
+    _frames_or_check(ctx, where, judging, checked=True, json=json, jsonl=jsonl, csv=csv, render=render)
 
 
 @uses(FILTERS, JUDGING)

@@ -124,7 +124,7 @@ class Judging:
 
 
 def _judging(coc_policy=None, near=None, far=None, front=None, back=None) -> Judging:
-    from sharpzone.analysis.checks import Requirement
+    from sharpzone.analysis.requirement import Requirement
 
     requirement = Requirement.from_options(
         near_mm=optional_distance(near, "--near"), far_mm=optional_distance(far, "--far"),

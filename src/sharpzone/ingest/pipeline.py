@@ -95,7 +95,7 @@ class _Stored:
 
 def _stored_frames(session: Session, roots: Sequence[str]) -> dict[str, _Stored]:
     """Frames already catalogued under ``roots`` (folders or files), by path."""
-    from sqlalchemy import or_, select
+    from sqlalchemy import or_
 
     from sharpzone.catalog.models import Frame
 

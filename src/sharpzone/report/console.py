@@ -19,7 +19,7 @@ import re
 import sys
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich import box
 from rich.cells import cell_len
@@ -27,9 +27,11 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from sharpzone.analysis.setting import SettingReport, StackReport
 from sharpzone.report.inert import inert
 from sharpzone.units import format_distance, format_f_number, format_length_mm
+
+if TYPE_CHECKING:
+    from sharpzone.analysis.setting import SettingReport, StackReport
 
 
 class SafeConsole(Console):

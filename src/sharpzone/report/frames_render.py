@@ -8,19 +8,16 @@ import os
 from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
-from rich.table import Table
 from rich.text import Text
 
-from sharpzone.analysis.blur_checks import BLUR_FLAGS
-from sharpzone.analysis.checks import count_problems
-from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
-from sharpzone.report.spreadsheet import safe_cell
+from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 from sharpzone.report.jsonout import metres, plain
-from sharpzone.report.verdicts import blur_size, describe_flag
 from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
 
+# The verdicts' words, the checks and numpy are imported by the functions that use them, so
+# a command whose selection holds no frame does without them.
 if TYPE_CHECKING:
     from collections.abc import Iterable, Iterator
 
@@ -165,7 +162,7 @@ def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     return _objects(_FRAME_KEYS, _frame_columns(frames))
 
 
-def _frame_columns(frames: pd.DataFrame) -> list[list]:
+def _blur_column(frames: pd.DataFrame) -> list:
     count = len(frames)
     measured = frames.index[frames["blur_analysed_long_px"].notna()] if "blur_analysed_long_px" in frames else []
     blur: list = [None] * count
@@ -173,18 +170,40 @@ def _frame_columns(frames: pd.DataFrame) -> list[list]:
         positions = frames.index.get_indexer(measured)
         for position, row in zip(positions, _records(frames.iloc[positions])):
             blur[position] = plain(blur_json(row))
-    columns = [
-        _texts(frames, "path"), _texts(frames, "shoot"), _texts(frames, "body"), _texts(frames, "lens"),
-        _numbers(frames, "focal_mm"), _numbers(frames, "f_number"), _numbers(frames, "exposure_s"),
-        _whole(frames, "iso"), _timestamps(frames, "captured_at"), _whole(frames, "utc_offset_minutes"),
-        _metres(frames, "focus_mm"), _bracket(frames, "focus_near_mm"), _bracket(frames, "focus_far_mm"),
-        _texts(frames, "focus_key", strings_only=True), _texts(frames, "focus_source"),
-        _texts(frames, "format_name"), _numbers(frames, "coc_mm"), _texts(frames, "coc_policy"),
-        _texts(frames, "coc_from"), _metres(frames, "near_mm"), _metres(frames, "far_mm"),
-        _metres(frames, "hyperfocal_mm"), _metres(frames, "total_mm"), _numbers(frames, "magnification"),
-        _numbers(frames, "effective_f_number"), _numbers(frames, "airy_disk_mm"), blur,
-        [list(flags) for flags in frames["flags"].tolist()],
-    ]
+    return blur
+
+
+def _flag_lists(frames: pd.DataFrame, name: str) -> list:
+    # The lists as they are (rows with the same flags share one; nothing changes them).
+    return [flags if type(flags) is list else list(flags) for flags in frames[name].tolist()]
+
+
+def _strings(frames: pd.DataFrame, name: str) -> list:
+    return _texts(frames, name, strings_only=True)
+
+
+# Each key of a frame's object: the function that makes its column and the frames column it reads.
+_FRAME_COLUMNS = {
+    "path": (_texts, "path"), "shoot": (_texts, "shoot"), "body": (_texts, "body"), "lens": (_texts, "lens"),
+    "focal_mm": (_numbers, "focal_mm"), "f_number": (_numbers, "f_number"), "exposure_s": (_numbers, "exposure_s"),
+    "iso": (_whole, "iso"), "captured_at": (_timestamps, "captured_at"),
+    "utc_offset_minutes": (_whole, "utc_offset_minutes"), "focus_m": (_metres, "focus_mm"),
+    "focus_near_m": (_bracket, "focus_near_mm"), "focus_far_m": (_bracket, "focus_far_mm"),
+    "focus_key": (_strings, "focus_key"), "focus_source": (_texts, "focus_source"),
+    "format": (_texts, "format_name"), "coc_mm": (_numbers, "coc_mm"), "coc_policy": (_texts, "coc_policy"),
+    "coc_from": (_texts, "coc_from"), "near_m": (_metres, "near_mm"), "far_m": (_metres, "far_mm"),
+    "hyperfocal_m": (_metres, "hyperfocal_mm"), "total_m": (_metres, "total_mm"),
+    "magnification": (_numbers, "magnification"), "effective_f_number": (_numbers, "effective_f_number"),
+    "airy_disk_mm": (_numbers, "airy_disk_mm"), "blur": (_blur_column, None), "flags": (_flag_lists, "flags"),
+}
+
+
+def _frame_columns(frames: pd.DataFrame, keys: tuple[str, ...] = _FRAME_KEYS) -> list[list]:
+    """The columns of the frames' objects for ``keys`` (all of them unless told)."""
+    columns = []
+    for key in keys:
+        make, name = _FRAME_COLUMNS[key]
+        columns.append(make(frames) if name is None else make(frames, name))
     return columns
 
 
@@ -238,13 +257,9 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """Checked frames in the machine interface: each frame's object (``frames_records``)
     plus the requirement and remedies, built a column at a time; the remedies' words only
     for frames with a verdict."""
-    count = len(frames)
-    flag_lists = frames["flags"].tolist()
-    remedies: list = [[] for _ in range(count)]
-    noted = [position for position, flags in enumerate(flag_lists) if len(flags)]
-    if noted:
-        for position, row in zip(noted, _records(frames.iloc[noted])):
-            remedies[position] = [{"flag": flag, "text": describe_flag(flag, row)} for flag in row["flags"]]
+    from sharpzone.report.verdicts import describe_flags
+
+    remedies = describe_flags(frames)
     remedy = [value or None for value in _texts(frames, "remedy")]
     columns = [
         _metres(frames, "required_near_mm"), _metres(frames, "required_far_mm"), _numbers(frames, "needed_f_number"),
@@ -265,21 +280,16 @@ CSV_COLUMNS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "focus_m
                "coc_policy", "near_m", "far_m", "hyperfocal_m", "total_m", "effective_f_number", "flags")
 
 
-def frames_csv(frames: pd.DataFrame) -> str:
-    """Frames as CSV text: distances in metres, ``inf`` for infinity, flags joined by ``;``."""
-    return "".join(stream_csv([frames]))
-
-
 def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
-    """CSV text of ``frames_csv``, a piece per chunk of frames (the header first)."""
+    """Frames as CSV text (distances in metres, ``inf`` for infinity, flags joined by ``;``),
+    a piece per chunk of frames (the header first)."""
     import csv
 
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
     for frames in chunks:
-        records = frames_records(frames)
-        writer.writerows([_csv_cell(row[column]) for column in CSV_COLUMNS] for row in records)
+        writer.writerows(zip(*(_csv_cells(column) for column in _frame_columns(frames, CSV_COLUMNS))))
         yield buffer.getvalue()
         buffer.seek(0)
         buffer.truncate()
@@ -287,12 +297,14 @@ def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
         yield buffer.getvalue()
 
 
-def _csv_cell(value: Any) -> Any:
-    if value is None:
-        return ""
-    if isinstance(value, list):
-        value = ";".join(value)
-    return safe_cell(value)
+def _csv_cells(values: list) -> list:
+    """A column of machine values as CSV cells, a column at a time: unknown empty (the
+    writer's None), lists joined by ``;``, text a spreadsheet would run marked (``safe_cell``)."""
+    if any(type(value) is list for value in values):
+        values = [";".join(value) if type(value) is list else value for value in values]
+    # Only text that starts like a formula goes through safe_cell (which then decides).
+    return [safe_cell(value) if type(value) is str and value.startswith(FORMULA_STARTS) else value
+            for value in values]
 
 
 def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
@@ -335,6 +347,8 @@ def _flag_style(flag: str) -> str:
 
 def _flags_text(flags: list[str], separator: str = " ") -> Text:
     parts = [styled(flag, _flag_style(flag)) for flag in flags]
+    from sharpzone.analysis.checks import count_problems
+
     if not count_problems(flags):  # no verdict, or only notes and good news
         parts.insert(0, styled("passed", PASSED_STYLE))
     return Text(separator).join(parts)
@@ -345,6 +359,8 @@ def _measured(rows) -> bool:
 
 
 def _blur_at_focus(row) -> str:
+    from sharpzone.report.verdicts import blur_size
+
     return blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc")))
 
 
@@ -352,6 +368,8 @@ _focal_text = format_focal_length  # as lenses are marked: 35 mm, 4.5 mm
 
 
 def _closeup(row) -> bool:
+    from sharpzone.optics.dof import CLOSEUP_MAGNIFICATION
+
     return (_number(row["magnification"]) or 0) >= CLOSEUP_MAGNIFICATION
 
 
@@ -442,8 +460,8 @@ def _plans_line(frames: pd.DataFrame, imperial: bool) -> str:
     plans = []
     columns = ["shoot", "plan_kind", "plan_near_mm", "plan_far_mm", "plan_front_mm", "plan_back_mm"]
     for shoot, kind, near, far, front, back in frames[columns].drop_duplicates().itertuples(index=False):
-        if kind in ("range", "depth"):
-            requirement = Requirement(kind, near_mm=near, far_mm=far, front_mm=front, back_mm=back)
+        requirement = Requirement.from_plan(kind, near, far, front, back)
+        if requirement is not None:
             plans.append(f"{shoot}: {requirement.describe(imperial)}")
     return "; ".join(plans)
 
@@ -474,6 +492,8 @@ def _zone_lines(row, imperial: bool) -> str:
 
 
 def _remedies_text(row, imperial: bool) -> Text:
+    from sharpzone.report.verdicts import describe_flag
+
     return Text("\n").join(line(styled(flag, _flag_style(flag)), ": ", describe_flag(flag, row, imperial=imperial))
                            for flag in row["flags"])
 
@@ -509,8 +529,9 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
                                  styled(f"{summary['passed']} passed", PASSED_STYLE), counts),
                             console.width))
     console.print(styled(_policy_line(frames) + " Distances from the sensor plane.", "dim"))
-    verdict_rows = [(flag, count) for flag, count in summary.items()
-                    if flag not in ("frames", "passed", "flagged", "uncertain", "unjudged")]
+    from sharpzone.analysis.checks import OUTCOMES
+
+    verdict_rows = [(flag, count) for flag, count in summary.items() if flag != "frames" and flag not in OUTCOMES]
     if verdict_rows:
         console.print()
         print_fitted(console, fit_table([
@@ -541,6 +562,8 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
     if len(shown) < len(records):
         console.print(styled(f"{len(records) - len(shown)} more flagged frames not shown: --all lists every one "
                              "(--json gives them all to scripts).", "dim"))
+    from sharpzone.analysis.blur_checks import BLUR_FLAGS
+
     if any(flag in BLUR_FLAGS for row in shown for flag in row["flags"]):
         console.print(styled(BLUR_CAUTION, "dim"))
 

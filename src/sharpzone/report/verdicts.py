@@ -86,10 +86,14 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
         return f"{what} — cannot judge; confirm the body and lens"
     if flag == "no-requirement":
         return "nothing says what had to be sharp — set the shoot's plan or give --near/--far or --front/--back"
+    if flag == "past-diffraction":
+        return (f"stopped down past the diffraction limit (about f/{row['diffraction_f_number']:.1f} here): "
+                "the plane of focus is softer than the CoC allows")
+    if flag == "outside-plan":
+        return f"subject at {dist(row['focus_mm'])} lies outside the zone the plan's settings give"
     required = f"{dist(row['required_near_mm'])}–{dist(row['required_far_mm'])}"
-    bracket = describe_bracket(row, imperial=imperial)
-    over = " for any distance in the camera's bracket" if bracket else ""
     if flag == "too-wide-open":
+        over = " for any distance in the camera's bracket" if _bracketed(row) else ""
         return f"shot too wide open for {required}: {_stopping_down(row, dist, over)}"
     if flag == "focus-misplaced":
         if row.get("remedy") == "focus-on-subject":
@@ -102,6 +106,7 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
     if flag == "out-of-reach":
         return f"out of reach at {row['focal_mm']:g} mm with one frame: {_stack(row, required)}"
     if flag == "distance-uncertain":
+        bracket = describe_bracket(row, imperial=imperial)
         share = _value(row, "holds_share") or 0.0
         text = (f"focus distance known only as {bracket or 'a bracket'}: the zone holds {required} over "
                 f"{share:.0%} of it")
@@ -112,12 +117,140 @@ def describe_flag(flag: str, row, *, imperial: bool = False) -> str:
             return (f"{text}; focusing at {dist(row['better_focus_mm'])} with "
                     f"{format_f_number(row['better_f_number'])} (a distance set, not measured) would have held it")
         return f"{text}; {_stack(row, required)}"
-    if flag == "past-diffraction":
-        return (f"stopped down past the diffraction limit (about f/{row['diffraction_f_number']:.1f} here): "
-                "the plane of focus is softer than the CoC allows")
-    if flag == "outside-plan":
-        return f"subject at {dist(row['focus_mm'])} lies outside the zone the plan's settings give"
     raise ValueError(f"unknown flag {flag!r}")
+
+
+def _bracketed(row) -> bool:
+    """Whether the frame's focus distance is a bracket (``describe_bracket`` says one)."""
+    nearest, farthest = _value(row, "focus_nearest_mm"), _value(row, "focus_farthest_mm")
+    return nearest is not None and farthest is not None and farthest > nearest * (1 + 1e-9)
+
+
+# The row values each verdict's words read (``describe_flag``), so that ``describe_flags``
+# says each distinct sentence once: a frame's words are those of the first frame whose
+# values read the same. Each value is compared as the words show it: ``"distance"`` as
+# ``format_distance`` prints it, a format such as ``".0f"`` as that format prints it, else
+# as it is. ``None``: words made for every frame (the blur verdicts, on few frames).
+# ``focus_bracketed`` stands for whether ``focus_nearest_mm``/``focus_farthest_mm`` make a
+# bracket (``_bracketed``). A test checks that each sentence reads nothing else.
+_REQUIRED = (("required_near_mm", "distance"), ("required_far_mm", "distance"))
+_STOP = (("needed_f_number", None), ("better_focus_mm", "distance"), ("better_f_number", None))
+_STACK = (("single_frame_f_number", None), ("max_f_number", None), ("lens_min_known", None),
+          ("diffraction_f_number", ".0f"), ("stack_frames", None), ("stack_f_number", None))
+FLAG_INPUTS: dict[str, tuple[tuple[str, str | None], ...] | None] = {
+    "distance-unknown": (("focus_mm", "distance"), ("focal_mm", None), ("subject_distance_range", None)),
+    "settings-unknown": (("settings_missing", None), ("body", None)),
+    "no-requirement": (),
+    "too-wide-open": (*_REQUIRED, ("focus_bracketed", None), *_STOP),
+    "focus-misplaced": (*_REQUIRED, ("remedy", None), ("better_focus_mm", "distance"), ("better_f_number", None)),
+    "out-of-reach": (*_REQUIRED, ("focal_mm", None), *_STACK),
+    "distance-uncertain": (*_REQUIRED, ("focus_nearest_mm", "distance"), ("focus_farthest_mm", "distance"),
+                           ("focus_bracketed", None), ("focus_key", None), ("holds_share", ".0%"),
+                           ("remedy", None), *_STOP, *_STACK),
+    "past-diffraction": (("diffraction_f_number", ".1f"),),
+    "outside-plan": (("focus_mm", "distance"),),
+}
+DERIVED_INPUTS = {"focus_bracketed": ("focus_nearest_mm", "focus_farthest_mm")}
+
+
+def _key_values(frames, name: str, form: str | None, positions, imperial: bool) -> list:
+    """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``), as
+    hashable keys: unknown (NaN, None) → ``None``."""
+    if name == "focus_bracketed":
+        with np.errstate(invalid="ignore"):
+            nearest = _float_column(frames, "focus_nearest_mm")[positions]
+            farthest = _float_column(frames, "focus_farthest_mm")[positions]
+            return (farthest > nearest * (1 + 1e-9)).tolist()  # NaN compares false: no bracket
+    if name not in frames:
+        return [None] * len(positions)
+    if form is not None:
+        values = _float_column(frames, name)[positions]
+        distinct, inverse = np.unique(values, return_inverse=True)
+        if form == "distance":
+            shown = [format_distance(value, imperial=imperial) for value in distinct.tolist()]
+        else:
+            shown = [None if value != value else format(value, form) for value in distinct.tolist()]
+        return np.asarray(shown, dtype=object)[inverse.reshape(-1)].tolist()
+    values = frames[name].to_numpy()[positions]
+    if values.dtype.kind == "f":
+        out = values.astype(object)
+        out[np.isnan(values)] = None
+        return out.tolist()
+    return [None if value is None or value != value else value for value in values.tolist()]
+
+
+def _float_column(frames, name: str) -> np.ndarray:
+    import pandas as pd
+
+    if name not in frames:
+        return np.full(len(frames), np.nan)
+    return pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+
+
+def _read_by(flag: str, frames) -> list[str]:
+    """The columns the words of ``flag`` read (every column for a verdict without a key)."""
+    inputs = FLAG_INPUTS.get(flag)
+    if inputs is None:
+        return list(frames.columns)
+    names = dict.fromkeys(source for name, _ in inputs for source in DERIVED_INPUTS.get(name, (name,)))
+    return [name for name in names if name in frames]
+
+
+def _rows(frames, positions: list[int], names: list[str]) -> list[dict]:
+    """The rows at ``positions`` as dicts of the ``names`` columns, a column at a time."""
+    if not names:
+        return [{} for _ in positions]
+    values = [frames[name].iloc[positions].tolist() for name in names]
+    return [dict(zip(names, row)) for row in zip(*values)]
+
+
+def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str]]]:
+    """Per row of ``frames`` (checked frames): ``{"flag", "text"}`` for each of its ``flags``,
+    the text from ``describe_flag``, said once per distinct combination of the values it
+    reads (``FLAG_INPUTS``), so a hundred thousand frames cost a few hundred sentences.
+    Rows with the same words share one list (read-only, like the ``flags`` lists)."""
+    flag_lists = frames["flags"].tolist()
+    count = len(flag_lists)
+    combinations: dict[tuple[str, ...], list[int]] = {}  # the rows of each combination of flags
+    for position, flags in enumerate(flag_lists):
+        if flags:
+            combinations.setdefault(tuple(flags), []).append(position)
+    by_flag: dict[str, list[int]] = {}
+    for combination, positions in combinations.items():
+        for flag in combination:
+            by_flag.setdefault(flag, []).extend(positions)
+    # Each row's sentence number for each flag, the first row saying each sentence, then those
+    # rows (a column at a time) and the sentences.
+    sentence_of: dict[str, np.ndarray] = {}
+    first_rows: dict[str, list[int]] = {}
+    for flag, positions in by_flag.items():
+        index = np.asarray(positions, dtype=np.int64)
+        inputs = FLAG_INPUTS.get(flag)
+        if inputs is None:
+            which = np.arange(len(positions))
+        elif not inputs:
+            which = np.zeros(len(positions), dtype=np.int64)
+        else:
+            number: dict = {}
+            keys = zip(*(_key_values(frames, name, form, index, imperial) for name, form in inputs))
+            which = np.fromiter((number.setdefault(key, len(number)) for key in keys), dtype=np.int64,
+                                count=len(positions))
+        _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
+        first_rows[flag] = index[first].tolist()
+        sentence_of[flag] = np.full(count, -1, dtype=np.int64)
+        sentence_of[flag][index] = which
+    said = {flag: [{"flag": flag, "text": describe_flag(flag, row, imperial=imperial)}
+                   for row in _rows(frames, positions, _read_by(flag, frames))]
+            for flag, positions in first_rows.items()}
+    remedies: list = [[] for _ in range(count)]
+    for combination, positions in combinations.items():
+        index = np.asarray(positions, dtype=np.int64)
+        numbers = np.column_stack([sentence_of[flag][index] for flag in combination])
+        distinct, inverse = np.unique(numbers, axis=0, return_inverse=True)
+        shared = [[said[flag][number] for flag, number in zip(combination, row)] for row in distinct.tolist()]
+        for position, which in zip(positions, inverse.reshape(-1).tolist()):
+            remedies[position] = shared[which]
+    return remedies
 
 
 # The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the

@@ -1,0 +1,70 @@
+"""Each command imports only what it needs (issue 16 part 3), checked by the modules loaded,
+not by timing: ``--help`` and ``dof`` without a catalogue load no database library, the
+catalogue's list commands no pandas, no numpy and no bundle code, and no read command on a
+current catalogue loads Alembic, pandas or numpy when no frame matches. Each runs in a fresh
+interpreter, as the console script does."""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+import textwrap
+
+import pytest
+
+LOADED = textwrap.dedent("""
+    import contextlib, io, json, sys
+    sys.argv = ["sharpzone", *sys.argv[1:]]
+    from sharpzone.cli.main import run
+    with contextlib.redirect_stdout(io.StringIO()):
+        try:
+            run()
+        except SystemExit as exit_:
+            code = exit_.code
+    heavy = ("sqlalchemy", "pandas", "numpy", "alembic", "rich", "sharpzone.catalog.service.bundle")
+    print(json.dumps({"code": code, "loaded": [name for name in heavy if name in sys.modules]}))
+""")
+
+
+def _loaded(env: dict[str, str], *args: str) -> set[str]:
+    done = subprocess.run([sys.executable, "-c", LOADED, *args], capture_output=True, text=True, env=env, check=True)
+    figures = json.loads(done.stdout.strip().splitlines()[-1])
+    assert figures["code"] == 0, done.stderr
+    return set(figures["loaded"])
+
+
+@pytest.fixture(scope="module")
+def env(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("budget")
+    environment = {**os.environ, "SHARPZONE_CATALOG": str(folder / "empty.sqlite"), "COLUMNS": "120"}
+    subprocess.run([sys.executable, "-m", "sharpzone", "shoot", "add", "Empty"], check=True, capture_output=True,
+                   env=environment)
+    return environment
+
+
+def test_help_loads_no_library_of_the_commands(env):
+    assert not _loaded(env, "--help") & {"sqlalchemy", "pandas", "numpy", "alembic", "rich"}
+
+
+def test_dof_without_a_catalogue_loads_no_database_library(env, tmp_path):
+    none_yet = {**env, "SHARPZONE_CATALOG": str(tmp_path / "none-yet.sqlite")}
+    assert not _loaded(none_yet, "dof", "-f", "50", "-a", "8", "-d", "3m", "--json") & {"sqlalchemy", "pandas",
+                                                                                         "alembic"}
+
+
+@pytest.mark.parametrize("command", [["body", "list"], ["format", "list"], ["shoot", "show", "Empty"],
+                                     ["catalog", "info"]])
+def test_catalogue_lists_load_neither_pandas_numpy_nor_the_bundle_code(env, command):
+    assert not _loaded(env, *command) & {"pandas", "numpy", "alembic", "sharpzone.catalog.service.bundle"}
+
+
+@pytest.mark.parametrize("command", [["frames", "--json"], ["frames", "--csv"], ["check", "--json"],
+                                     ["check", "--jsonl"], ["stats"], ["stats", "--json"]])
+def test_read_commands_with_no_frame_to_read_load_neither_pandas_numpy_nor_alembic(env, command):
+    assert not _loaded(env, *command) & {"pandas", "numpy", "alembic"}
+
+
+def test_lens_list_loads_no_pandas_nor_alembic(env):
+    assert not _loaded(env, "lens", "list") & {"pandas", "alembic"}

@@ -1,0 +1,103 @@
+"""``describe_flags`` says each distinct sentence once (issue 16 part 2): over frames of every
+kind of verdict its words are, frame by frame, the words ``describe_flag`` gives that frame on
+its own, in metric and imperial, and each verdict's words read only the values its key names
+(``FLAG_INPUTS``), so two frames with the same key cannot need different words. Invented data."""
+
+from __future__ import annotations
+
+import itertools
+import math
+
+import pytest
+
+from sharpzone.analysis.checks import Requirement, check_frames
+from sharpzone.analysis.zones import add_zones
+from sharpzone.report.verdicts import DERIVED_INPUTS, FLAG_INPUTS, describe_flag, describe_flags
+from tests.analysis.frames_factory import frames_frame
+
+PLANS = (
+    {"plan_kind": "range", "plan_near_mm": 2000.0, "plan_far_mm": 6000.0},
+    {"plan_kind": "depth", "plan_front_mm": 80.0, "plan_back_mm": 150.0},
+    {"plan_kind": "range", "plan_near_mm": 2000.0, "plan_far_mm": 6000.0, "planned_focal_mm": 50.0,
+     "planned_f_number": 8.0, "planned_focus_mm": 3000.0},
+    {},  # no plan
+)
+
+
+def _varied_frames():
+    rows = []
+    for focal, n, focus, spread, plan in itertools.product(
+            (24.0, 100.0, 200.0), (2.8, 8.0, 32.0), (None, 150.0, 450.0, 1500.0, 2900.0, 9000.0, math.inf),
+            (None, 0.04, 0.3), PLANS):
+        row = {"focal_mm": focal, "f_number": n, "focus_mm": focus, **plan}
+        if focus is not None and math.isfinite(focus) and spread:
+            row.update(focus_near_mm=focus / (1 + spread), focus_far_mm=focus * (1 + spread),
+                       focus_key="Exif.Invented.FocusDistance")
+        rows.append(row)
+    rows.append({"format_name": None, "format_width_mm": math.nan, "format_height_mm": math.nan})
+    rows.append({"body": None, "format_name": None, "format_width_mm": math.nan, "format_height_mm": math.nan})
+    rows.append({"focus_mm": None, "subject_distance_range": "distant"})
+    return check_frames(add_zones(frames_frame(*rows)))
+
+
+@pytest.fixture(scope="module")
+def varied():
+    return _varied_frames()
+
+
+def _one_by_one(frames, imperial):
+    rows = frames.to_dict("records")
+    return [[{"flag": flag, "text": describe_flag(flag, row, imperial=imperial)} for flag in row["flags"]]
+            for row in rows]
+
+
+def test_the_frames_cover_every_optical_verdict(varied):
+    seen = {flag for flags in varied["flags"] for flag in flags}
+    assert set(FLAG_INPUTS) <= seen, set(FLAG_INPUTS) - seen
+
+
+@pytest.mark.parametrize("imperial", [False, True])
+def test_each_frame_gets_the_words_it_gets_on_its_own(varied, imperial):
+    assert describe_flags(varied, imperial=imperial) == _one_by_one(varied, imperial)
+
+
+def test_a_command_requirement_gives_the_same_words_too():
+    frames = frames_frame(*({"focus_mm": focus, "f_number": n} for focus in (1200.0, 2500.0, 7000.0)
+                            for n in (2.8, 5.6, 16.0)))
+    checked = check_frames(add_zones(frames), Requirement("depth", front_mm=40.0, back_mm=90.0))
+    assert describe_flags(checked) == _one_by_one(checked, False)
+
+
+class _Reading(dict):
+    """A row that remembers which values were read."""
+
+    def __init__(self, *args):
+        super().__init__(*args)
+        self.read: set[str] = set()
+
+    def __getitem__(self, key):
+        self.read.add(key)
+        return super().__getitem__(key)
+
+    def get(self, key, default=None):
+        self.read.add(key)
+        return super().get(key, default)
+
+    def __contains__(self, key):
+        self.read.add(key)
+        return super().__contains__(key)
+
+
+def test_each_verdicts_words_read_only_what_its_key_names(varied):
+    for row in varied.to_dict("records"):
+        for flag in row["flags"]:
+            inputs = FLAG_INPUTS.get(flag)
+            if inputs is None:
+                continue
+            allowed = set()
+            for name, _ in inputs:
+                allowed.update(DERIVED_INPUTS.get(name, (name,)))
+            reading = _Reading(row)
+            describe_flag(flag, reading)
+            describe_flag(flag, reading, imperial=True)
+            assert reading.read <= allowed, (flag, reading.read - allowed)
