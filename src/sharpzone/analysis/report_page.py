@@ -272,7 +272,7 @@ def make_thumbnails(paths: list[str], *, long_side_px: int = THUMBNAIL_LONG_SIDE
 
     # Contained workers: a decoder that crashes or hangs on a file costs only that file.
     with ContainedPool(_thumbnail_at, min(jobs, total), problem=_no_thumbnail, doer=PICTURE_DECODER,
-                       time_limit_s=STALL_SECONDS) as pool:
+                       time_limit_s=STALL_SECONDS, depth=4, answer_batch=1) as pool:
         for path, thumbnail in pool.read(items):
             results[path] = thumbnail
             notify("Making thumbnails", len(results), total)

@@ -97,6 +97,7 @@ class _Job:
     doer: str  # who works, as the reasons name it ("the metadata reader")
     packed: Callable | None = None  # an answer as it crosses the pipe, and back
     unpacked: Callable | None = None
+    answer_batch: int = RESULT_BATCH  # answers sent at once at most
 
 
 def _worker_main(connection, job: _Job, parent_pid: int, finished) -> None:
@@ -123,7 +124,7 @@ def _worker_main(connection, job: _Job, parent_pid: int, finished) -> None:
                     result = job.problem(task, f"{job.doer} failed on this file ({type(error).__name__})")
                 answers.append(job.packed(result) if job.packed else result)
                 finished.value += 1
-                if len(answers) >= RESULT_BATCH:
+                if len(answers) >= job.answer_batch:
                     connection.send(answers)
                     answers = []
             if answers:
@@ -205,13 +206,16 @@ class ContainedPool:
     ``work`` is a module-level function whose task's first item names the file it opens;
     ``problem(task, reason)`` (module-level too) is the answer for a task whose worker
     crashed, hung past ``time_limit_s`` or raised, and ``doer`` names the worker in those
-    reasons ("the picture decoder crashed on this file").
+    reasons ("the picture decoder crashed on this file"). Tasks of a few tens of
+    milliseconds or more (a picture decoded) want a small ``depth`` and an ``answer_batch``
+    of 1, so progress shows every file and an interrupt finds no finished work unsent.
     """
 
     def __init__(self, work: Callable, workers: int, *, problem: Callable[[Task, str], object],
                  doer: str, time_limit_s: float = TIME_LIMIT_S, depth: int = DEPTH,
-                 packed: Callable | None = None, unpacked: Callable | None = None) -> None:
-        self._job = _Job(work, problem, doer, packed, unpacked)
+                 packed: Callable | None = None, unpacked: Callable | None = None,
+                 answer_batch: int = RESULT_BATCH) -> None:
+        self._job = _Job(work, problem, doer, packed, unpacked, max(1, answer_batch))
         self.size = max(1, workers)
         self.time_limit_s = time_limit_s
         self.depth = max(1, depth)
@@ -295,7 +299,7 @@ class ContainedPool:
         while True:
             # Top up in batches, not file by file, and in turns of at most RESULT_BATCH
             # files each, so a short run is shared between the workers too.
-            chunk = min(RESULT_BATCH, max(1, self.depth // 4))
+            chunk = min(self._job.answer_batch, max(1, self.depth // 4))
             sent = True
             while sent:
                 sent = False

@@ -132,7 +132,7 @@ def _results(tasks: list[_Task], jobs: int) -> Iterator[tuple[int, BlurMeasureme
     # is reported and the run goes on); they leave Ctrl-C to this process, which saves what
     # was measured and stops them.
     with ContainedPool(_measure_at, jobs, problem=_not_measured, doer=PICTURE_DECODER,
-                       time_limit_s=TIME_LIMIT_S) as pool:
+                       time_limit_s=TIME_LIMIT_S, depth=2, answer_batch=1) as pool:
         yield from pool.read((task.path, task) for task in tasks)
 
 
