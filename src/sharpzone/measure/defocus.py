@@ -20,11 +20,25 @@ then reads as a disk of about 2√2 σ, the spread-parameter equivalence σ = r/
 depth-from-defocus literature (M. Subbarao, ICCV 1988; from memory).
 
 Range. The ratio's sensitivity falls as σ outgrows σ0 (an error in R is multiplied by
-1 + σ²/σ0² in σ), and neighbouring edges start to overlap the re-blur: with σ0 = 1.5 px,
-12-px disks read up to a quarter low. So each picture is also measured reduced by half (2 × 2
-pixel means, pixel-area sampling again, so the same table holds), where the same σ0 reaches
-twice as far: a region whose own reading is above ``COARSE_FROM_PX`` takes the half-size
-reading, wholly from ``COARSE_FULL_PX``, blended linearly between.
+1 + σ²/σ0² in σ), and where edges are closer than the blur's extent (fine texture: gravel,
+grass, brick) each one's gradient hump is narrowed by its neighbours', so the ratio reads
+large blurs low however the re-blur is scaled (the overlap is the same at any picture scale;
+a second pass at half size, the previous version, still read 12-px disks on textures 40–48 %
+low). Large blurs are therefore also read a second way, per edge, from the spacing of the
+extrema of the second derivative across the edge, after J. H. Elder and S. W. Zucker, "Local
+scale control for edge detection and blur estimation", IEEE Trans. PAMI 20 (1998) 699–716:
+a step blurred by a Gaussian σ, under a second-derivative filter of scale s, has its two
+extrema 2√(σ² + s²) apart (the second derivative of the step smoothed by both is the
+derivative of a Gaussian of √(σ² + s²), extreme at ± that; the paper's relation, from
+memory). Here s = ``SPACING_SIGMA_PX`` along the edge's gradient direction, each extremum
+looked for up to where the second derivative changes sign beyond it, and the spacing
+converted to a disk diameter with the disk's own edge response again (``spacing_diameter_px``;
+a disk edge's second derivative peaks at its blur circle's rim, ±r). Neighbours cut the
+extrema's search short only when their own lobes reach them, which leaves this reading far
+less biased on texture than the curvature the ratio measures; but it cannot resolve blurs
+under about 4 px (its table is flat there: the filter's own 2 s). So a region whose larger
+reading is above ``SPACING_FROM_PX`` blends from the ratio's to the spacing's reading, wholly
+the spacing's from ``SPACING_FULL_PX``.
 
 Our choices beyond the paper: the gradient magnitude is the larger of the two one-sided
 differences on each axis (a sharp step keeps its full height, so blurs of 2 px still give
@@ -36,8 +50,9 @@ are used, and a region's blur is the ``BLUR_PERCENTILE`` of their readings; blur
 as a disk diameter in pixels of the analysed picture.
 
 Speed (a 1,600-px preview in about 25 ms of one core): the re-blur is computed only at the
-edge pixels, from each one's own small patch, not over the whole picture; whole-picture passes
-go a strip of rows at a time; a busy large picture is sampled (``MAX_EDGE_CANDIDATES``).
+edge pixels, from each one's own small patch, not over the whole picture; the spacing only
+at the edges a region's figure uses; whole-picture passes go a strip of rows at a time; a
+busy large picture is sampled (``MAX_EDGE_CANDIDATES``).
 """
 
 from __future__ import annotations
@@ -56,7 +71,9 @@ __all__ = ["BlurMeasurement", "EdgeBlur", "disk_diameter_px", "edge_blur", "edge
 METHOD = "zhuo-sim-2011-edge-reblur"
 # 2: large blurs read again at half size, the disk table pooled over sub-pixel positions,
 # the 63rd percentile (1 read 2–12 px disks within 25 %, Gaussian blur up to 31 % high).
-METHOD_VERSION = 2
+# 3: large blurs read by the second derivative's extrema spacing instead of at half size
+# (2 read fine textures blurred by 6–12 px 24–48 % low; 3 reads them at most 21 % low).
+METHOD_VERSION = 3
 # The re-blur σ0 in pixels (the paper re-blurs with a σ0 of about one pixel; 1.5 gave the
 # smallest error over 2–12 px disks on the validation images, see docs/measured-blur.md).
 REBLUR_SIGMA_PX = 1.5
@@ -64,11 +81,11 @@ REBLUR_SIGMA_PX = 1.5
 STRONG_EDGE_SHARE = 0.5
 # A region's blur is this percentile of its strong edges' estimates. Neighbouring structure
 # biases single estimates both ways: an opposite edge within a disk's reach lowers them, the
-# long tails of a Gaussian-like blur over parallel structure raise them. With large blurs
-# read at half size (``COARSE_FROM_PX``) the low bias is small. On the validation pictures
-# (tests/measure/test_validation.py) every percentile from 60 to 65 keeps every 2–12 px disk
-# and every Gaussian σ 1–3 px within 20 %: below 60 noisy soft frames start to read sharp,
-# above 65 Gaussian blur reads over 20 % high (80, the first version's, read it 31 % high).
+# long tails of a Gaussian-like blur over parallel structure raise them. On the validation
+# pictures (tests/measure/test_validation.py, method version 2) every percentile from 60 to
+# 65 kept every 2–12 px disk on objects and every Gaussian σ 1–3 px within 20 %: below 60
+# noisy soft frames start to read sharp, above 65 Gaussian blur reads over 20 % high (80, the
+# first version's, read it 31 % high). The spacing's reading takes the same percentile.
 BLUR_PERCENTILE = 63
 # An edge must step by at least this many grey levels (of 255) per pixel to count: below
 # it, sensor noise and JPEG blocks dominate.
@@ -91,12 +108,14 @@ GRID_LONG, GRID_SHORT = 6, 4
 # the picture's long side on each side.
 MIN_FOCUS_REGION = 0.16
 _BORDER = 4
-# A region whose own reading is above this many pixels is read again on the picture reduced
-# by half, and wholly from there above the second figure (see ``_two_scale_blur``). Below
-# 4 px the half-size picture is near its own floor (a blur of one of its pixels is two of the
-# picture's); from 8 px (σ about 4 px) an error in the full-size ratio is multiplied by
-# 1 + σ²/σ0² ≈ 8, and 2–12 px disks on the validation pictures read lowest there.
-COARSE_FROM_PX, COARSE_FULL_PX = 4.0, 8.0
+# A region whose larger reading (ratio or spacing) is above this many pixels blends over to
+# the spacing's reading, wholly from the second figure (see ``_region_figure``). Below 4 px
+# the spacing's ideal-edge table is flat (under 0.6 px of spacing per px of blur; the
+# ratio's error factor 1 + σ²/σ0² is under 2 there); from 8 px the ratio's factor is about 6
+# and the spacing's table rises 0.9 px per px. (The same 4 and 8 px the previous version's
+# half-size pass used; on the validation pictures 4 and 7 read textures a little better and
+# the soft cat picture's 6-px disk over 20 % high, see docs/measured-blur.md.)
+SPACING_FROM_PX, SPACING_FULL_PX = 4.0, 8.0
 _MAX_DIAMETER_PX = 40.0
 _PATCH_BLOCK = 256
 # Whole-picture passes go a strip of this many rows at a time (a strip of a 1,600-px picture
@@ -106,10 +125,11 @@ _STRIP_ROWS = 32
 
 @dataclass(frozen=True)
 class EdgeBlur:
-    """Every measured edge pixel of a picture: row, column, strength (grey levels per pixel
-    of the scale it was measured at), blur as a disk diameter in pixels (``inf`` where the
-    edge showed no blur limit) and whether it was measured on the picture reduced by half
-    (``coarse``; its row, column and diameter are given in the full picture's pixels)."""
+    """Every measured edge pixel of a picture: row, column, strength (grey levels per pixel),
+    blur as a disk diameter in pixels by the gradient ratio (``inf`` where the edge showed no
+    blur limit) and by the spacing of the second derivative's extrema across the edge
+    (``spacing_diameter_px``: ``nan`` where not found; read on demand, only for the edges a
+    region's figure uses, see ``spacing_at``)."""
 
     rows: np.ndarray
     cols: np.ndarray
@@ -117,7 +137,19 @@ class EdgeBlur:
     diameter_px: np.ndarray
     height: int
     width: int
-    coarse: np.ndarray
+    grey: np.ndarray
+    across: np.ndarray
+    spacing_diameter_px: np.ndarray
+    spacing_read: np.ndarray
+
+    def spacing_at(self, index: np.ndarray) -> np.ndarray:
+        """The spacing's disk diameter of the edges ``index``, read now where not yet read."""
+        unread = index[~self.spacing_read[index]]
+        if len(unread):
+            self.spacing_diameter_px[unread] = spacing_diameter_px(
+                _spacing_px(self.grey, self.rows[unread], self.cols[unread], self.across[unread]))
+            self.spacing_read[unread] = True
+        return self.spacing_diameter_px[index]
 
 
 @dataclass(frozen=True)
@@ -208,9 +240,9 @@ def _random_levels(shape: tuple[int, int]) -> np.ndarray:
     return np.random.default_rng(20110601).integers(0, _LEVELS, size=shape, dtype=np.uint16)
 
 
-def _edge_pixels(image: np.ndarray, index: np.ndarray) -> np.ndarray:
+def _edge_pixels(image: np.ndarray, index: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Those of the flat ``index`` that are local maxima of the central-difference gradient
-    along its direction."""
+    along its direction, and each one's flat step to its neighbour across the edge."""
     flat = image.ravel()
     width = image.shape[1]
 
@@ -227,7 +259,7 @@ def _edge_pixels(image: np.ndarray, index: np.ndarray) -> np.ndarray:
     ahead_x, ahead_y = central(index + step)
     behind_x, behind_y = central(index - step)
     keep = (centre >= ahead_x * ahead_x + ahead_y * ahead_y) & (centre > behind_x * behind_x + behind_y * behind_y)
-    return index[keep]
+    return index[keep], step[keep]
 
 
 def _gradient_squared_at(image: np.ndarray, index: np.ndarray) -> np.ndarray:
@@ -298,6 +330,75 @@ class _Readings:
     cols: np.ndarray
     strength: np.ndarray
     sigma: np.ndarray
+    across: np.ndarray
+
+
+# The second-derivative filter's scale s (px) and how many steps from the edge each extremum
+# is looked for (a disk's extremum lies at its rim, r + about s from the edge: 14 steps reach
+# disks of about 25 px, the rest read by the ratio alone).
+SPACING_SIGMA_PX = 1.0
+SPACING_REACH = 14
+
+
+def _spacing_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: np.ndarray,
+                smoothing_px: float = SPACING_SIGMA_PX, reach: int = SPACING_REACH) -> np.ndarray:
+    """The distance (px) between the two extrema of the second derivative across each edge
+    pixel, along its (binned) gradient direction, of the profile smoothed by a Gaussian of
+    ``smoothing_px``; each extremum is looked for only up to where the second derivative
+    changes sign beyond it (another edge's). ``nan`` where the profile leaves the picture or
+    an extremum is not found within ``reach`` steps."""
+    height, width = image.shape
+    flat = image.ravel()
+    down = (across >= width - 1).astype(np.int64)
+    right = across - down * width
+    second = {False: _second_derivative_taps(smoothing_px), True: _second_derivative_taps(smoothing_px / np.sqrt(2.0))}
+    extent = reach + 1 + len(second[False]) // 2
+    # The path across the edge is straight: inside the picture if both its ends are.
+    inside = ((rows - extent * down >= 0) & (rows + extent * down < height)
+              & (cols - extent * np.abs(right) >= 0) & (cols + extent * np.abs(right) < width))
+    out = np.full(len(rows), np.nan)
+    offsets = np.arange(-extent, extent + 1)
+    diagonal = (down != 0) & (right != 0)
+    for is_diagonal, length in ((False, 1.0), (True, float(np.sqrt(2.0)))):
+        chosen = np.flatnonzero((diagonal == is_diagonal) & inside)
+        if not len(chosen):
+            continue
+        taps = second[is_diagonal]
+        half = len(taps) // 2
+        profile = flat[(rows[chosen] * width + cols[chosen])[:, None] + offsets[None, :] * across[chosen, None]]
+        # The second derivative at offsets −reach … reach, rising edges made positive first.
+        rising = np.where(profile[:, extent + 1] >= profile[:, extent - 1], np.float32(1), np.float32(-1))
+        curve = np.lib.stride_tricks.sliding_window_view(profile, len(taps), axis=1)[:, extent - half - reach - 1:
+                                                                                    extent - half + reach + 2] @ taps
+        curve *= rising[:, None]
+        spacing = np.zeros(len(chosen))
+        found = np.ones(len(chosen), dtype=bool)
+        at = np.arange(len(chosen))
+        # Below the edge the rising profile bends up (second derivative > 0), above it down.
+        for sign, side in ((1.0, curve[:, reach + 1::-1]), (-1.0, curve[:, reach + 1:])):
+            # side[:, 0] is the edge pixel's own offset, side[:, k] k steps away from it.
+            value = sign * side
+            beyond = np.cumsum(value[:, 1:reach + 1] < 0, axis=1) > 0
+            look = np.where(beyond, -np.inf, value[:, 1:reach + 1])
+            step = np.argmax(look, axis=1)
+            peak = look[at, step]
+            found &= (peak > 0) & (step < reach - 1)
+            before, after = value[at, step], value[at, step + 2]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                bend = before - 2 * peak + after
+                shift = np.where(bend < 0, 0.5 * (before - after) / bend, 0.0)
+            spacing += step + 1 + np.clip(shift, -0.5, 0.5)
+        out[chosen] = np.where(found, spacing * length, np.nan)
+    return out
+
+
+@functools.cache
+def _second_derivative_taps(sigma_steps: float) -> np.ndarray:
+    """The second difference of a sampled Gaussian of ``sigma_steps`` (normalised to sum 1,
+    radius 3σ + 1): one correlation gives the second derivative of the smoothed profile."""
+    radius = int(3.0 * sigma_steps + 0.5) + 1
+    taps = np.exp(-0.5 * (np.arange(-radius, radius + 1) / sigma_steps) ** 2)
+    return np.convolve(taps / taps.sum(), [1.0, -2.0, 1.0]).astype(np.float32)
 
 
 def _readings(grey: np.ndarray, reblur_sigma_px: float, max_candidates: int | None = None) -> _Readings:
@@ -311,13 +412,13 @@ def _readings(grey: np.ndarray, reblur_sigma_px: float, max_candidates: int | No
     index = _candidates(grey, step, _border(reblur_sigma_px), max_candidates or grey.size)
     sharp_at = _gradient_squared_at(grey, index)
     index = index[sharp_at >= step * step]
-    index = _edge_pixels(grey, index)
+    index, across = _edge_pixels(grey, index)
     rows, cols = np.divmod(index, grey.shape[1])
     sharp_at = _gradient_squared_at(grey, index)
     reblurred_at = _reblurred_gradient_squared_at(grey, rows, cols, reblur_sigma_px)
     # A real edge keeps a gradient through the re-blur; noise mostly does not.
     keep = reblurred_at >= MIN_REBLURRED_STEP * MIN_REBLURRED_STEP
-    rows, cols = rows[keep], cols[keep]
+    rows, cols, across = rows[keep], cols[keep], across[keep]
     sharp_at, reblurred_at = sharp_at[keep], reblurred_at[keep]
     # Noise adds its own power to both gradients (far more to the sharp one): take out what
     # it adds on average, so noise does not pass for sharpness.
@@ -327,15 +428,14 @@ def _readings(grey: np.ndarray, reblur_sigma_px: float, max_candidates: int | No
     strength = np.sqrt(reblurred_at)
     with np.errstate(invalid="ignore", divide="ignore"):
         sigma = np.where(ratio_squared > 1.0, reblur_sigma_px / np.sqrt(ratio_squared - 1.0), np.inf)
-    return _Readings(rows, cols, strength, sigma.astype(np.float64))
+    return _Readings(rows, cols, strength, sigma.astype(np.float64), across)
 
 
 def edge_sigmas(grey: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA_PX) -> EdgeBlur:
     """Zhuo–Sim's Gaussian σ (px) at every edge pixel of ``grey``, at the picture's own scale
     and before the conversion to a disk diameter (``EdgeBlur.diameter_px`` holds σ here)."""
-    read = _readings(grey, reblur_sigma_px)
-    return EdgeBlur(read.rows, read.cols, read.strength, read.sigma, grey.shape[0], grey.shape[1],
-                    np.zeros(len(read.rows), dtype=bool))
+    grey = np.ascontiguousarray(grey, dtype=np.float32)
+    return _edge_set(grey, _readings(grey, reblur_sigma_px), None)
 
 
 def noise_level(grey: np.ndarray) -> float:
@@ -370,25 +470,58 @@ def _table_diameters() -> np.ndarray:
                            np.arange(20.0, _MAX_DIAMETER_PX + 0.01, 1.0)])
 
 
+def _on_ideal_disk_edges(read, reblur_sigma_px: float) -> np.ndarray:
+    """What ``read(picture) -> (columns, values)`` gives on an ideal straight edge blurred by a
+    uniform disk of each of ``_table_diameters()``: the median at the edge, pooled over four
+    sub-pixel positions of the edge (where the edge falls within a pixel changes the reading
+    of small blurs). The edge is made tall enough for the re-blur's patch and padded by its
+    plateaus for the spacing's profile."""
+    rows = 2 * _border(reblur_sigma_px) + 6
+    values = []
+    for diameter in _table_diameters():
+        found = []
+        for phase in (0.0, 0.25, 0.5, 0.75):
+            profile = np.pad(_disk_edge_profile(diameter, phase), 2 * SPACING_REACH, mode="edge")
+            columns, read_here = read(np.repeat(profile[None, :], rows, axis=0))
+            at = np.abs(columns - (len(profile) // 2 - phase)) <= 0.5
+            found.append(read_here[at] if at.any() else read_here)
+        pooled = np.concatenate(found)
+        pooled = pooled[np.isfinite(pooled)]
+        values.append(float(np.median(pooled)) if len(pooled) else np.nan)
+    return np.asarray(values)
+
+
 @functools.cache
 def _disk_table(reblur_sigma_px: float) -> tuple[np.ndarray, np.ndarray]:
     """(σ read, disk diameter): Zhuo–Sim's σ as this implementation reads it on an ideal
     straight edge blurred by a uniform disk of each diameter (0.25–40 px)."""
-    diameters = _table_diameters()
-    rows = 2 * _border(reblur_sigma_px) + 6
-    sigmas = []
-    for diameter in diameters:
-        # Where the edge falls within a pixel changes the reading of small blurs: the edge is
-        # made at four sub-pixel positions and the readings pooled.
-        read = []
-        for phase in (0.0, 0.25, 0.5, 0.75):
-            profile = _disk_edge_profile(diameter, phase)
-            measured = _readings(np.repeat(profile[None, :], rows, axis=0), reblur_sigma_px)
-            at = np.abs(measured.cols - (len(profile) // 2 - phase)) <= 0.5
-            read.append(measured.sigma[at] if at.any() else measured.sigma)
-        sigmas.append(float(np.median(np.concatenate(read))))
+    def read(picture: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        measured = _readings(picture, reblur_sigma_px)
+        return measured.cols, measured.sigma
+
     # Below about two pixels the ratio saturates: keep the table monotonic for inversion.
-    return np.maximum.accumulate(np.asarray(sigmas)), diameters
+    return np.maximum.accumulate(_on_ideal_disk_edges(read, reblur_sigma_px)), _table_diameters()
+
+
+@functools.cache
+def _spacing_table() -> tuple[np.ndarray, np.ndarray]:
+    """(second-derivative extrema spacing read, disk diameter) on the same ideal disk edges,
+    where the spacing is found (up to about 25 px)."""
+    def read(picture: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        measured = _readings(picture, REBLUR_SIGMA_PX)
+        return measured.cols, _spacing_px(picture, measured.rows, measured.cols, measured.across)
+
+    spacing = _on_ideal_disk_edges(read, REBLUR_SIGMA_PX)
+    found = np.isfinite(spacing)
+    return np.maximum.accumulate(spacing[found]), _table_diameters()[found]
+
+
+def spacing_diameter_px(spacing_px: np.ndarray) -> np.ndarray:
+    """The disk diameter whose ideal edge gives the second-derivative extrema ``spacing_px``
+    (``nan`` stays nan; beyond the table: ``inf``)."""
+    table_spacing, table_diameter = _spacing_table()
+    spacing_px = np.asarray(spacing_px, dtype=float)
+    return np.where(np.isnan(spacing_px), np.nan, np.interp(spacing_px, table_spacing, table_diameter, right=np.inf))
 
 
 def _disk_edge_profile(diameter_px: float, phase_px: float = 0.0, supersample: int = 64) -> np.ndarray:
@@ -414,68 +547,64 @@ def disk_diameter_px(sigma_px: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA
     return np.where(np.isfinite(sigma_px), diameters, np.inf)
 
 
-def _reduce_half(grey: np.ndarray) -> np.ndarray:
-    """The picture reduced by half each way, each pixel the mean of a 2 × 2 block (pixel-area
-    sampling again, so the disk table holds at this scale too)."""
-    g = grey[:(grey.shape[0] // 2) * 2, :(grey.shape[1] // 2) * 2]
-    return (g[0::2, 0::2] + g[0::2, 1::2] + g[1::2, 0::2] + g[1::2, 1::2]) * np.float32(0.25)
-
-
 def edge_blur(grey: np.ndarray, reblur_sigma_px: float = REBLUR_SIGMA_PX) -> EdgeBlur:
     """Every edge pixel of ``grey`` (2-D grey levels 0..255) with its blur as a disk diameter,
-    measured at two scales: the picture itself and the picture reduced by half, where the same
-    re-blur reaches twice the blur (``EdgeBlur.coarse``)."""
+    read twice: by the gradient ratio and by the spacing of the second derivative's extrema
+    across the edge (``EdgeBlur.spacing_diameter_px``, read on demand)."""
     grey = np.asarray(grey)
     if grey.ndim != 2 or min(grey.shape) < 2 * _BORDER + 3:
         raise ValueError(f"expected a 2-D picture of at least {2 * _BORDER + 3} px a side, got {grey.shape}")
     grey = np.ascontiguousarray(grey, dtype=np.float32)
     # Only a large picture is sampled: a small one costs little and needs every edge it has.
     most = MAX_EDGE_CANDIDATES if grey.size >= SAMPLE_FROM_PIXELS else None
-    fine = _readings(grey, reblur_sigma_px, most)
-    parts = [(fine.rows, fine.cols, fine.strength, disk_diameter_px(fine.sigma, reblur_sigma_px),
-              np.zeros(len(fine.rows), dtype=bool))]
-    if min(grey.shape) >= 2 * (2 * _border(reblur_sigma_px) + 3):
-        # The same density of candidates as at full size: a quarter as many.
-        coarse = _readings(_reduce_half(grey), reblur_sigma_px, most and most // 4)
-        parts.append((2 * coarse.rows, 2 * coarse.cols, coarse.strength,
-                      2 * disk_diameter_px(coarse.sigma, reblur_sigma_px),
-                      np.ones(len(coarse.rows), dtype=bool)))
-    rows, cols, strength, diameter, is_coarse = (np.concatenate(column) for column in zip(*parts))
-    return EdgeBlur(rows, cols, strength, diameter, grey.shape[0], grey.shape[1], is_coarse)
+    return _edge_set(grey, _readings(grey, reblur_sigma_px, most), reblur_sigma_px)
+
+
+def _edge_set(grey: np.ndarray, read: _Readings, reblur_sigma_px: float | None) -> EdgeBlur:
+    """The ``EdgeBlur`` of ``read``: ratio readings as disk diameters (as σ when
+    ``reblur_sigma_px`` is ``None``), the spacing still to be read."""
+    diameter = read.sigma if reblur_sigma_px is None else disk_diameter_px(read.sigma, reblur_sigma_px)
+    return EdgeBlur(read.rows, read.cols, read.strength, diameter, grey.shape[0], grey.shape[1], grey,
+                    read.across, np.full(len(read.rows), np.nan), np.zeros(len(read.rows), dtype=bool))
 
 
 def region_blur(edges: EdgeBlur, top: int, bottom: int, left: int, right: int) -> tuple[float | None, int]:
     """The blur of the region rows ``top:bottom``, columns ``left:right`` (disk diameter in
-    px; ``None`` with too few edges, see ``_two_scale_blur``) and its edge count."""
-    inside = (edges.rows >= top) & (edges.rows < bottom) & (edges.cols >= left) & (edges.cols < right)
-    return _two_scale_blur(edges.strength[inside], edges.diameter_px[inside], edges.coarse[inside])
+    px; ``None`` with too few edges, see ``_region_figure``) and its edge count."""
+    inside = np.flatnonzero((edges.rows >= top) & (edges.rows < bottom) & (edges.cols >= left) & (edges.cols < right))
+    strong = _strong_edges(edges, inside)
+    return _region_figure(edges, strong) if strong is not None else (None, len(inside))
 
 
-def _two_scale_blur(strength: np.ndarray, diameter: np.ndarray, coarse: np.ndarray) -> tuple[float | None, int]:
-    """A region's blur from its edges at both scales: the picture's own reading up to
-    ``COARSE_FROM_PX``, the half-size picture's from ``COARSE_FULL_PX`` on, a linear blend
-    between (by the picture's own reading); either alone when the other has too few edges."""
-    fine, fine_count = _robust_blur(strength[~coarse], diameter[~coarse])
-    if fine is not None and fine <= COARSE_FROM_PX:
-        return fine, fine_count
-    rough, rough_count = _robust_blur(strength[coarse], diameter[coarse])
-    if rough is None:
-        return fine, fine_count
-    if fine is None:
-        return rough, rough_count
-    share = min(1.0, (fine - COARSE_FROM_PX) / (COARSE_FULL_PX - COARSE_FROM_PX))
-    return fine + share * (rough - fine), rough_count if 2 * share >= 1 else fine_count
-
-
-def _robust_blur(strength: np.ndarray, diameter: np.ndarray) -> tuple[float | None, int]:
-    if len(strength) < MIN_EDGES:
-        return None, int(len(strength))
+def _strong_edges(edges: EdgeBlur, chosen: np.ndarray) -> np.ndarray | None:
+    """Those of the edges ``chosen`` a region's figure uses: at least ``STRONG_EDGE_SHARE`` of
+    the region's strongest (its 99th percentile), else its ``MIN_EDGES`` strongest; ``None``
+    with fewer than ``MIN_EDGES`` edges."""
+    if len(chosen) < MIN_EDGES:
+        return None
+    strength = edges.strength[chosen]
     ranked = np.sort(strength)
     strong = strength >= STRONG_EDGE_SHARE * _percentile_of_sorted(ranked, 99)
     if strong.sum() < MIN_EDGES:
         strong = strength >= ranked[-MIN_EDGES]
-    value = _percentile_of_sorted(np.sort(diameter[strong]), BLUR_PERCENTILE)
-    return min(value, _MAX_DIAMETER_PX), int(strong.sum())
+    return chosen[strong]
+
+
+def _region_figure(edges: EdgeBlur, strong: np.ndarray | None) -> tuple[float | None, int]:
+    """A region's blur from its strong edges: the gradient ratio's reading up to
+    ``SPACING_FROM_PX``; above it blended with the spacing's reading, wholly the spacing's
+    from ``SPACING_FULL_PX`` (by the larger of the two readings: both read crowded edges low,
+    neither reads them high)."""
+    if strong is None:
+        return None, 0
+    ratio = min(_percentile_of_sorted(np.sort(edges.diameter_px[strong]), BLUR_PERCENTILE), _MAX_DIAMETER_PX)
+    spaced = edges.spacing_at(strong)
+    spaced = spaced[~np.isnan(spaced)]
+    if len(spaced) < MIN_EDGES:
+        return ratio, len(strong)
+    width = min(_percentile_of_sorted(np.sort(spaced), BLUR_PERCENTILE), _MAX_DIAMETER_PX)
+    share = min(1.0, max(0.0, max(ratio, width) - SPACING_FROM_PX) / (SPACING_FULL_PX - SPACING_FROM_PX))
+    return ratio + share * (width - ratio), len(strong)
 
 
 def _percentile_of_sorted(ranked: np.ndarray, percent: float) -> float:
@@ -504,14 +633,18 @@ def measure_blur(grey: np.ndarray, focus_point: tuple[float, float, float, float
     cell = (cell_row * across + cell_col).astype(np.int16)
     order = np.argsort(cell, kind="stable")  # a radix sort for 16-bit integers
     bounds = np.searchsorted(cell[order], np.arange(down * across + 1))
+    strong = [_strong_edges(edges, order[bounds[at]:bounds[at + 1]]) for at in range(down * across)]
+    # The spacing of every region's strong edges in one pass.
+    used = [part for part in strong if part is not None]
+    if used:
+        edges.spacing_at(np.concatenate(used))
     grid: list[list[float | None]] = []
     best = (None, None, None)
     measured: list[float] = []
     for r in range(down):
         line = []
         for c in range(across):
-            chosen = order[bounds[r * across + c]:bounds[r * across + c + 1]]
-            value, _count = _two_scale_blur(edges.strength[chosen], edges.diameter_px[chosen], edges.coarse[chosen])
+            value, _count = _region_figure(edges, strong[r * across + c])
             line.append(None if value is None else round(value, 2))
             if value is not None:
                 measured.append(value)
