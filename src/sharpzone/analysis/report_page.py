@@ -271,21 +271,16 @@ def make_thumbnails(paths: list[str], *, long_side_px: int = THUMBNAIL_LONG_SIDE
     from sharpzone.ingest.workers import PICTURE_DECODER, ContainedPool
 
     # Contained workers: a decoder that crashes or hangs on a file costs only that file.
-    with ContainedPool(_thumbnail_at, min(jobs, total), problem=_no_thumbnail, doer=PICTURE_DECODER,
+    with ContainedPool(_thumbnail, min(jobs, total), problem=_no_thumbnail, doer=PICTURE_DECODER,
                        time_limit_s=STALL_SECONDS, depth=4, answer_batch=1) as pool:
-        for path, thumbnail in pool.read(items):
+        for path, thumbnail in pool.read((item,) for item in items):
             results[path] = thumbnail
             notify("Making thumbnails", len(results), total)
     return results
 
 
-def _thumbnail_at(path: str, long_side_px: int, max_bytes: int) -> tuple[str, Thumbnail]:
-    """A pool worker's call (``_thumbnail`` looked up at call time, so tests can stand in)."""
-    return _thumbnail((path, long_side_px, max_bytes))
-
-
-def _no_thumbnail(item: tuple[str, int, int], reason: str) -> tuple[str, Thumbnail]:
-    return item[0], Thumbnail(None, problem=reason)
+def _no_thumbnail(pool_task: tuple[tuple[str, int, int]], reason: str) -> tuple[str, Thumbnail]:
+    return pool_task[0][0], Thumbnail(None, problem=reason)
 
 
 def _thumbnail(item: tuple[str, int, int]) -> tuple[str, Thumbnail]:

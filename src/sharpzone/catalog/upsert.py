@@ -16,11 +16,9 @@ whenever the rows carry their own ids.
 from __future__ import annotations
 
 import datetime as dt
-
-from operator import itemgetter
-
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
+from operator import itemgetter
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:

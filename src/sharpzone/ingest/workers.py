@@ -37,7 +37,7 @@ from multiprocessing.connection import wait
 from sharpzone.ingest.records import CaptureRecord, ReadProblem
 
 Reader = Callable[[str, "float | None"], "CaptureRecord | ReadProblem"]
-Task = tuple  # the arguments of one call of the pool's function; the first names the file
+Task = tuple  # the arguments of one call of the pool's function
 
 # Files in flight per worker: enough that a worker never waits for the parent between files.
 DEPTH = 128
@@ -203,7 +203,7 @@ class ContainedPool:
     """``workers`` contained processes running ``work(*task)`` for each task; use as a
     context manager around ``read``.
 
-    ``work`` is a module-level function whose task's first item names the file it opens;
+    ``work`` is a module-level function and each task the tuple of its arguments;
     ``problem(task, reason)`` (module-level too) is the answer for a task whose worker
     crashed, hung past ``time_limit_s`` or raised, and ``doer`` names the worker in those
     reasons ("the picture decoder crashed on this file"). Tasks of a few tens of

@@ -131,18 +131,13 @@ def _results(tasks: list[_Task], jobs: int) -> Iterator[tuple[int, BlurMeasureme
     # Contained workers: a decoder that crashes or hangs on a file costs that file only (it
     # is reported and the run goes on); they leave Ctrl-C to this process, which saves what
     # was measured and stops them.
-    with ContainedPool(_measure_at, jobs, problem=_not_measured, doer=PICTURE_DECODER,
+    with ContainedPool(_measure_task, jobs, problem=_not_measured, doer=PICTURE_DECODER,
                        time_limit_s=TIME_LIMIT_S, depth=2, answer_batch=1) as pool:
-        yield from pool.read((task.path, task) for task in tasks)
+        yield from pool.read((task,) for task in tasks)
 
 
-def _measure_at(path: str, task: _Task) -> tuple[int, BlurMeasurement | str]:
-    """A pool worker's call: ``path`` names the file for the pool's reports."""
-    return _measure_task(task)
-
-
-def _not_measured(pool_task: tuple[str, _Task], reason: str) -> tuple[int, str]:
-    return pool_task[1].frame_id, reason
+def _not_measured(pool_task: tuple[_Task], reason: str) -> tuple[int, str]:
+    return pool_task[0].frame_id, reason
 
 
 def blur_row(frame_id: int, measurement: BlurMeasurement) -> dict:

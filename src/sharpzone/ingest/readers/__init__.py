@@ -23,6 +23,7 @@ before decoding them.
 
 from __future__ import annotations
 
+import functools
 import os
 from typing import Protocol
 
@@ -43,19 +44,14 @@ class Reader(Protocol):
         ...
 
 
-_defaults: tuple[Reader, ...] | None = None
-
-
+@functools.cache
 def default_readers() -> tuple[Reader, ...]:
     """libexiv2 first (maker notes, every container), then exifread (standard tags only).
     Made once: the readers keep no state between files."""
-    global _defaults
-    if _defaults is None:
-        from sharpzone.ingest.readers.exifread_reader import ExifreadReader
-        from sharpzone.ingest.readers.exiv2_reader import Exiv2Reader
+    from sharpzone.ingest.readers.exifread_reader import ExifreadReader
+    from sharpzone.ingest.readers.exiv2_reader import Exiv2Reader
 
-        _defaults = (Exiv2Reader(), ExifreadReader())
-    return _defaults
+    return (Exiv2Reader(), ExifreadReader())
 
 
 def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | None = None) -> Tags:
