@@ -317,6 +317,11 @@ def lens_spec_from_name(name: str | None) -> tuple[float | None, float | None, f
 
 def number(value) -> float | None:
     """A finite float from a tag value (first of a tuple), or ``None``."""
+    kind = type(value)  # the two common cases first: this runs dozens of times a frame
+    if kind is float:
+        return value if math.isfinite(value) else None
+    if kind is int:
+        return float(value)
     if isinstance(value, tuple):
         value = value[0] if value else None
     if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -331,6 +336,8 @@ def as_int(value) -> int | None:
 
 
 def text_value(value) -> str | None:
+    if type(value) is str:
+        return value.strip("\x00 \t\r\n") or None
     if isinstance(value, bytes):
         value = value.decode("utf-8", "replace")
     if not isinstance(value, str):
@@ -459,10 +466,11 @@ class Field:
         return self.standard + self.makernote
 
     def value(self, tags: dict, warnings: list[str]):
-        for key in self.keys:
-            if key in tags and tags[key] is not None:
-                value = tags[key]
-                return self.convert(value, key, tags, warnings) if self.convert else value
+        for keys in (self.standard, self.makernote):
+            for key in keys:
+                value = tags.get(key)
+                if value is not None:
+                    return self.convert(value, key, tags, warnings) if self.convert else value
         return None
 
 

@@ -15,7 +15,6 @@ from sharpzone.catalog.service.common import get_by_name, merged, remove_reassig
 from sharpzone.errors import Conflict, NotFound
 from sharpzone.limits import check_close_focus
 from sharpzone.optics.limits import ASSUMED_MIN_APERTURE
-from sharpzone.optics.macro import check_macro_spec
 
 
 def list_lenses(session: Session) -> list[Lens]:
@@ -142,7 +141,11 @@ def _apply(session, lens, *, max_magnification=None, **changes) -> None:
         max_magnification = lens.max_magnification
     elif max_magnification in (0, 0.0, "0", "none", ""):
         max_magnification = None
-    macro = check_macro_spec(values["focal_max_mm"], values["close_focus_mm"], max_magnification, what=label)
+    macro = None
+    if max_magnification is not None:  # (the check needs numpy: a lens registered from frames has none)
+        from sharpzone.optics.macro import check_macro_spec
+
+        macro = check_macro_spec(values["focal_max_mm"], values["close_focus_mm"], max_magnification, what=label)
     values["max_magnification"] = macro.max_magnification if macro else None
     require_name_free(session, Lens, values["name"], "lens", keep=lens)
     for column, value in values.items():
