@@ -83,7 +83,7 @@ def render_ingest(summary: IngestSummary, catalog: str) -> None:
                          ("Not images (ignored)", summary.ignored), ("Could not be read", len(summary.failed)),
                          ("Vanished since last time", len(summary.vanished)), ("Pruned", summary.pruned),
                          ("Warnings", summary.warnings)):
-        table.add_row(label, str(value))
+        table.add_row(label, f"{value:,}")
     console.print(table)
     for path, reason in summary.failed:
         console.print(line(styled("skipped", "red"), " ", path, ": ", reason))

@@ -1,0 +1,15 @@
+"""The ingest summary a person reads: counts grouped in thousands, as the rest of the
+output writes them (a card of a few thousand frames is the common case)."""
+
+from __future__ import annotations
+
+from sharpzone.ingest.pipeline import IngestSummary
+from sharpzone.report.ingest_render import render_ingest
+
+
+def test_counts_of_thousands_are_grouped(capsys):
+    summary = IngestSummary(shoot="Dock test", added=4500, unchanged=12000, ignored=3)
+    render_ingest(summary, "sqlite:///catalog.sqlite")
+    shown = capsys.readouterr().out
+    assert "4,500" in shown and "12,000" in shown
+    assert "4500" not in shown
