@@ -282,3 +282,22 @@ def test_progress_comes_every_so_many_files_and_at_the_end(tmp_path, written):
     read = [(done, total) for stage, done, total in calls if stage == "read" and done]
     assert [done for done, _ in read] == [PROGRESS_EVERY, 2 * PROGRESS_EVERY, count]
     assert read[-1] == (count, count)
+
+
+def test_the_progress_bar_knows_its_total_early_on_a_large_card(tmp_path, written, monkeypatch):
+    """More files than the readers hold at once: after the first few the folder walk is
+    finished, so every report but the earliest carries the total (a bar with a time left)."""
+    from sharpzone.catalog.location import sqlite_url
+    from sharpzone.ingest import pipeline
+
+    monkeypatch.setattr(pipeline, "WALK_AHEAD_AFTER", 8)
+    count = 300
+    picture = jpeg(exif_block())
+    for number in range(count):
+        written(f"L{number:03d}.JPG", picture, tmp_path / "large")
+    calls = []
+    with open_catalog(sqlite_url(tmp_path / "large.sqlite")) as catalog:
+        ingest_paths(catalog, [tmp_path / "large"], jobs=1, progress=lambda *call: calls.append(call))
+    totals = [total for stage, done, total in calls if stage == "read" and done]
+    assert len(totals) >= count // pipeline.PROGRESS_EVERY
+    assert totals == [count] * len(totals)
