@@ -5,6 +5,8 @@ from __future__ import annotations
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from sharpzone.ingest import fields
 
@@ -101,3 +103,23 @@ def test_keys_for_make_keep_standard_keys_and_the_makers_groups():
     assert "Exif.SubImage1.ImageWidth" in fields.keys_for_make(keys, "Canon", is_raw=True)
     # A Make the table does not know: every maker-note key is looked up.
     assert set(fields.keys_for_make(keys, "Korvath", is_raw=True)) == set(keys)
+
+
+@settings(max_examples=400, deadline=None)
+@given(st.tuples(*(st.integers(0, limit) for limit in (9999, 99, 99, 99, 99, 99))))
+def test_capture_times_read_as_the_standard_library_reads_them(parts):
+    """The capture time's fast reading against ``datetime.strptime`` with the EXIF 2.3 form
+    (CIPA DC-008 4.6.5, DateTimeOriginal "YYYY:MM:DD HH:MM:SS"): the same moment, or the
+    same refusal, for every such string, valid or not."""
+    from datetime import datetime
+
+    from sharpzone.ingest.fields import _exif_moment
+
+    text = "{:04d}:{:02d}:{:02d} {:02d}:{:02d}:{:02d}".format(*parts)
+    try:
+        expected = datetime.strptime(text, "%Y:%m:%d %H:%M:%S")
+    except ValueError:
+        with pytest.raises(ValueError):
+            _exif_moment(text)
+    else:
+        assert _exif_moment(text) == expected

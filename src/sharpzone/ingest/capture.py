@@ -49,5 +49,8 @@ def read_capture(path: str | bytes, user_focus_mm: float | None = None) -> Captu
     else:
         near, far = focus_mm, focus_mm
         key = XMP_FOCUS_KEY if source == "xmp" else None
+    if (focus_mm, source, near, far, key) == (record.focus_mm, record.focus_source, record.focus_near_mm,
+                                             record.focus_far_mm, record.focus_key) and warnings == list(record.warnings):
+        return record  # the file's own record, as normalised (the common case: no copy)
     return dataclasses.replace(record, focus_mm=focus_mm, focus_source=source, focus_near_mm=near,
                                focus_far_mm=far, focus_key=key, warnings=tuple(warnings))

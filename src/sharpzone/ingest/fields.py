@@ -582,7 +582,7 @@ def _captured_at(value, key, tags, warnings):
     if text is None:
         return None
     try:
-        moment = datetime.strptime(text, "%Y:%m:%d %H:%M:%S")
+        moment = _exif_moment(text)
     except ValueError:
         # CIPA DC-008: an unknown date and time is written as blanks or zeros.
         if text.strip(" :0") != "":
@@ -596,6 +596,18 @@ def _captured_at(value, key, tags, warnings):
         else:
             warnings.append(f"sub-second time {sub_second!r} ignored: expected digits")
     return moment
+
+
+# The form EXIF 2.3 prescribes, read without strptime (a fifth of a frame's normalising).
+_MOMENT = re.compile(r"([0-9]{4}):([0-9]{2}):([0-9]{2}) ([0-9]{2}):([0-9]{2}):([0-9]{2})")
+
+
+def _exif_moment(text: str) -> datetime:
+    """``YYYY:MM:DD HH:MM:SS`` as a datetime; other spellings as ``strptime`` reads them."""
+    match = _MOMENT.fullmatch(text)
+    if match is None:
+        return datetime.strptime(text, "%Y:%m:%d %H:%M:%S")
+    return datetime(*map(int, match.groups()))
 
 
 def _utc_offset_minutes(value, key, tags, warnings):
