@@ -351,13 +351,13 @@ class _Readings:
 # disks of about 25 px, the rest read by the ratio alone).
 SPACING_SIGMA_PX = 1.0
 SPACING_REACH = 14
-# A bar narrower than the blur (a mortar line, a hair, a grass blade): the edge across it must
+# A bar narrower than the blur (a mortar line, a hair, a grass blade): its opposite edge must
 # be about as strong as the edge read (a bar steps between the same two levels on both sides;
-# within 10 %), and the second derivative must stay on its side all the way to it, above this
-# share of its extremum (a bar's crest stays curved: on ideal bars up to two thirds of the blur
-# radius wide, blurred by disks up to the reach's 24 px, it stays above 0.15; the flat top
-# between two edges farther apart than the blur, disks of 8 px and more, drops it to 0–0.13;
-# see ``_bar_diameter_px``).
+# within 10 %), and the second derivative must stay on its side all the way to it, at least
+# this share of its extremum (a bar's crest stays curved: on ideal bars up to two thirds of
+# the blur radius wide, blurred by disks up to the reach's 24 px, it keeps 0.15 or more; the
+# flat top between two edges farther apart than the blur, disks of 8 px and more, drops it to
+# 0–0.13; see ``_bar_diameter_px`` and docs/measured-blur.md for the ranges that work).
 BAR_EDGE_SHARE = 0.9
 BAR_CREST_SHARE = 0.15
 
@@ -366,8 +366,8 @@ BAR_CREST_SHARE = 0.15
 class _Extrema:
     """Across each edge pixel (px along its gradient direction): the distance to the second
     derivative's extremum on the lower and on the upper side of the edge (``nan`` where one of
-    them is not found), and to an opposite edge inside that side's lobe (``nan``: none, see
-    ``BAR_EDGE_SHARE``)."""
+    them is not found), and to an opposite edge inside that side's lobe or where it ends
+    (``nan``: none, see ``BAR_EDGE_SHARE``); all from the edge's sub-pixel position."""
 
     lower: np.ndarray
     upper: np.ndarray
