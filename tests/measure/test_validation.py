@@ -7,9 +7,10 @@ The truth is the kernel applied, a uniform disk of known diameter (geometric opt
 circle) or a Gaussian of known σ. A photograph is not perfectly sharp itself: its own blur and
 the applied one add in quadrature (variances of independent blurs add), so up to 4 px the
 expected value is the kernel combined with the picture's own reading; from 6 px on, where
-even the softest picture's own blur moves the truth by under 10 %, the reading is also held
-to the kernel alone; and the horse silhouette (a binary mask: edges as sharp as the pixel
-grid allows) is held to the kernel alone at every size.
+the picture's own blur moves the truth by under 3 % (by 15 % on the cat picture, whose fur
+reads 3.4 px of its own), the reading is also held to the kernel alone; and the horse
+silhouette (a binary mask: edges as sharp as the pixel grid allows) is held to the kernel
+alone at every size.
 """
 
 from __future__ import annotations
@@ -114,16 +115,15 @@ def test_disk_and_gaussian_blur_of_a_sharp_silhouette_are_read_as_applied():
     assert (table["error"].abs() <= 0.20).all()
 
 
-def test_disk_blur_of_2_to_12_px_on_fine_textures_is_read_within_21_percent(disk_table):
-    """Brick, gravel and grass: edges closer than the blur's extent. The issue's goal is 20 %;
-    brick blurred by 6 and 8 px still reads about 20.5 % low (its mortar and grain crowd every
-    edge; docs/measured-blur.md states it as a limit): held where it is, so it cannot slip."""
+def test_disk_blur_of_2_to_12_px_on_fine_textures_is_read_within_20_percent(disk_table):
+    """Brick, gravel and grass: edges closer than the blur's extent, and lines narrower than it
+    (brick's mortar; method version 3 read brick blurred by 6 and 8 px 20.5 % low)."""
     textures = disk_table[(disk_table["kind"] == "texture") & disk_table["disk_px"].between(2, 12)]
     errors = textures["error_vs_combined"].abs()
     worst = textures.loc[errors.idxmax()]
     print(f"textures, 2–12 px: mean |error| {errors.mean():.0%}, within 20 % in {(errors <= 0.2).mean():.0%} of "
           f"cases, worst {worst['error_vs_combined']:+.1%} ({worst['picture']}, {worst['disk_px']} px)")
-    assert (errors <= 0.21).all()
+    assert (errors <= 0.20).all()
     assert errors.mean() <= 0.10
     # Gravel and grass, whose own blur is small, are within 20 % of the kernel alone from 6 px.
     large = textures[(textures["disk_px"] >= 6) & (textures["picture"] != "brick")]
@@ -174,7 +174,7 @@ def _verdicts(measurement, *, coc_mm=0.03, exposure_s=1 / 250, focal_mm=50.0):
     return {flag for flag, rows in flags.items() if rows[0]}, frames.iloc[0]
 
 
-# (brick reads 2.9 px when sharp, at the preview floor: too near the limit for this test;
+# (brick reads 3.5 px when sharp, above the preview floor: too near the limit for this test;
 # the rocket picture has plain sky where the focus point is: not measurable, rightly;
 # chelsea's fur reads 3.4 px when sharp, above the floor: left out for the same reason)
 @pytest.mark.parametrize("name", ["coffee", "gravel", "grass", "motorcycle", "coins"])

@@ -40,6 +40,12 @@ under about 4 px (its table is flat there: the filter's own 2 s). So a region wh
 reading is above ``SPACING_FROM_PX`` blends from the ratio's to the spacing's reading, wholly
 the spacing's from ``SPACING_FULL_PX``.
 
+Bars. A line narrower than the blur (mortar between bricks, a hair, a grass blade) is two
+opposite edges whose blur circles overlap; neither edge has a rim of its own on the line's
+side, so both readings see the line's width rather than the blur. Where an edge as strong as
+the one read lies inside the second derivative's lobe on one side, the blur circle is read
+from the geometry of the blurred bar instead (``_bar_diameter_px``).
+
 Our choices beyond the paper: the gradient magnitude is the larger of the two one-sided
 differences on each axis (a sharp step keeps its full height, so blurs of 2 px still give
 R well above 1); edges are local maxima of the central-difference gradient along its direction
@@ -73,7 +79,10 @@ METHOD = "zhuo-sim-2011-edge-reblur"
 # the 63rd percentile (1 read 2–12 px disks within 25 %, Gaussian blur up to 31 % high).
 # 3: large blurs read by the second derivative's extrema spacing instead of at half size
 # (2 read fine textures blurred by 6–12 px 24–48 % low; 3 reads them at most 21 % low).
-METHOD_VERSION = 3
+# 4: at the edges of bars narrower than the blur the spacing is read from the bar's geometry,
+# and the blend ends at 10 px (3 read brick blurred by 6 and 8 px 20.5 % low; 4 reads every
+# texture and object within 17 %).
+METHOD_VERSION = 4
 # The re-blur σ0 in pixels (the paper re-blurs with a σ0 of about one pixel; 1.5 gave the
 # smallest error over 2–12 px disks on the validation images, see docs/measured-blur.md).
 REBLUR_SIGMA_PX = 1.5
@@ -85,7 +94,9 @@ STRONG_EDGE_SHARE = 0.5
 # pictures (tests/measure/test_validation.py, method version 2) every percentile from 60 to
 # 65 kept every 2–12 px disk on objects and every Gaussian σ 1–3 px within 20 %: below 60
 # noisy soft frames start to read sharp, above 65 Gaussian blur reads over 20 % high (80, the
-# first version's, read it 31 % high). The spacing's reading takes the same percentile.
+# first version's, read it 31 % high). The spacing's reading takes the same percentile
+# (method version 4: 60–63 keep every disk on objects and textures within 20 %, 64 and 65
+# the cat picture's 6-px disk 20–22 % above the disk alone).
 BLUR_PERCENTILE = 63
 # An edge must step by at least this many grey levels (of 255) per pixel to count: below
 # it, sensor noise and JPEG blocks dominate.
@@ -111,11 +122,13 @@ _BORDER = 4
 # A region whose larger reading (ratio or spacing) is above this many pixels blends over to
 # the spacing's reading, wholly from the second figure (see ``_region_figure``). Below 4 px
 # the spacing's ideal-edge table is flat (under 0.6 px of spacing per px of blur; the
-# ratio's error factor 1 + σ²/σ0² is under 2 there); from 8 px the ratio's factor is about 6
-# and the spacing's table rises 0.9 px per px. (The same 4 and 8 px the previous version's
-# half-size pass used; on the validation pictures 4 and 7 read textures a little better and
-# the soft cat picture's 6-px disk over 20 % high, see docs/measured-blur.md.)
-SPACING_FROM_PX, SPACING_FULL_PX = 4.0, 8.0
+# ratio's error factor 1 + σ²/σ0² is under 2 there). The end is where the ratio's error
+# factor reaches 10 (σ 4.5 px, a 10-px disk; at 8 px it is about 6). Chosen on the
+# validation pictures (method version 4): every end from 10 to 12 px, with a start from 3.5
+# to 4.5 px, keeps every 2–12 px disk on objects and textures within 20 %; ending at 8 or 9
+# reads the cat picture's 6-px disk over 20 % above the disk alone (its fur's hairs are
+# read as bars), ending at 8 was version 3's (brick at 6 and 8 px 20.5 % low then).
+SPACING_FROM_PX, SPACING_FULL_PX = 4.0, 10.0
 _MAX_DIAMETER_PX = 40.0
 _PATCH_BLOCK = 256
 # Whole-picture passes go a strip of this many rows at a time (a strip of a 1,600-px picture
@@ -146,8 +159,8 @@ class EdgeBlur:
         """The spacing's disk diameter of the edges ``index``, read now where not yet read."""
         unread = index[~self.spacing_read[index]]
         if len(unread):
-            self.spacing_diameter_px[unread] = spacing_diameter_px(
-                _spacing_px(self.grey, self.rows[unread], self.cols[unread], self.across[unread]))
+            self.spacing_diameter_px[unread] = _bar_diameter_px(
+                self.grey, self.rows[unread], self.cols[unread], self.across[unread])
             self.spacing_read[unread] = True
         return self.spacing_diameter_px[index]
 
@@ -338,15 +351,37 @@ class _Readings:
 # disks of about 25 px, the rest read by the ratio alone).
 SPACING_SIGMA_PX = 1.0
 SPACING_REACH = 14
+# A bar narrower than the blur (a mortar line, a hair, a grass blade): its opposite edge must
+# be about as strong as the edge read (a bar steps between the same two levels on both sides;
+# within 10 %), and the second derivative must stay on its side all the way to it, at least
+# this share of its extremum (a bar's crest stays curved: on ideal bars up to two thirds of
+# the blur radius wide, blurred by disks up to the reach's 24 px, it keeps 0.15 or more; the
+# flat top between two edges farther apart than the blur, disks of 8 px and more, drops it to
+# 0–0.13; see ``_bar_diameter_px`` and docs/measured-blur.md for the ranges that work).
+BAR_EDGE_SHARE = 0.9
+BAR_CREST_SHARE = 0.15
 
 
-def _spacing_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: np.ndarray,
-                smoothing_px: float = SPACING_SIGMA_PX, reach: int = SPACING_REACH) -> np.ndarray:
-    """The distance (px) between the two extrema of the second derivative across each edge
-    pixel, along its (binned) gradient direction, of the profile smoothed by a Gaussian of
-    ``smoothing_px``; each extremum is looked for only up to where the second derivative
-    changes sign beyond it (another edge's). ``nan`` where the profile leaves the picture or
-    an extremum is not found within ``reach`` steps."""
+@dataclass(frozen=True)
+class _Extrema:
+    """Across each edge pixel (px along its gradient direction): the distance to the second
+    derivative's extremum on the lower and on the upper side of the edge (``nan`` where one of
+    them is not found), and to an opposite edge inside that side's lobe or where it ends
+    (``nan``: none, see ``BAR_EDGE_SHARE``); all from the edge's sub-pixel position."""
+
+    lower: np.ndarray
+    upper: np.ndarray
+    opposite_lower: np.ndarray
+    opposite_upper: np.ndarray
+
+
+def _extrema_across(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: np.ndarray,
+                    smoothing_px: float = SPACING_SIGMA_PX, reach: int = SPACING_REACH) -> _Extrema:
+    """The second derivative's extrema across each edge pixel, along its (binned) gradient
+    direction, of the profile smoothed by a Gaussian of ``smoothing_px``; each extremum looked
+    for only up to where the second derivative changes sign beyond it (another edge's lobe).
+    ``nan`` where the profile leaves the picture or an extremum is not found within ``reach``
+    steps."""
     height, width = image.shape
     flat = image.ravel()
     down = (across >= width - 1).astype(np.int64)
@@ -356,7 +391,7 @@ def _spacing_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: n
     # The path across the edge is straight: inside the picture if both its ends are.
     inside = ((rows - extent * down >= 0) & (rows + extent * down < height)
               & (cols - extent * np.abs(right) >= 0) & (cols + extent * np.abs(right) < width))
-    out = np.full(len(rows), np.nan)
+    found = [np.full(len(rows), np.nan) for _ in range(4)]
     offsets = np.arange(-extent, extent + 1)
     diagonal = (down != 0) & (right != 0)
     for is_diagonal, length in ((False, 1.0), (True, float(np.sqrt(2.0)))):
@@ -366,30 +401,90 @@ def _spacing_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: n
         taps = second[is_diagonal]
         half = len(taps) // 2
         profile = flat[(rows[chosen] * width + cols[chosen])[:, None] + offsets[None, :] * across[chosen, None]]
-        # The second derivative at offsets −reach … reach, rising edges made positive first.
+        # Offsets −reach − 1 … reach + 1, rising edges made rising first: the second
+        # derivative and the (central-difference) gradient.
         rising = np.where(profile[:, extent + 1] >= profile[:, extent - 1], np.float32(1), np.float32(-1))
         curve = np.lib.stride_tricks.sliding_window_view(profile, len(taps), axis=1)[:, extent - half - reach - 1:
                                                                                     extent - half + reach + 2] @ taps
         curve *= rising[:, None]
-        spacing = np.zeros(len(chosen))
-        found = np.ones(len(chosen), dtype=bool)
+        near = profile[:, extent - reach - 2:extent + reach + 3] * rising[:, None]
+        gradient = near[:, 2:] - near[:, :-2]
+        own = gradient[:, reach + 1]
+        # Where the edge lies within its pixel (the gradient's peak): each side's distances
+        # are taken from there (their sum, the spacing, is the same from anywhere between).
+        centre = _parabola_shift(gradient[:, reach], own, gradient[:, reach + 2])
         at = np.arange(len(chosen))
+        both = np.ones(len(chosen), dtype=bool)
+        sides = []
         # Below the edge the rising profile bends up (second derivative > 0), above it down.
-        for sign, side in ((1.0, curve[:, reach + 1::-1]), (-1.0, curve[:, reach + 1:])):
+        for sign, side, slope in ((1.0, curve[:, reach + 1::-1], gradient[:, reach + 1::-1]),
+                                  (-1.0, curve[:, reach + 1:], gradient[:, reach + 1:])):
             # side[:, 0] is the edge pixel's own offset, side[:, k] k steps away from it.
-            value = sign * side
-            beyond = np.cumsum(value[:, 1:reach + 1] < 0, axis=1) > 0
-            look = np.where(beyond, -np.inf, value[:, 1:reach + 1])
+            value = sign * side[:, 1:reach + 1]
+            beyond = np.cumsum(value < 0, axis=1) > 0
+            look = np.where(beyond, -np.inf, value)
             step = np.argmax(look, axis=1)
             peak = look[at, step]
-            found &= (peak > 0) & (step < reach - 1)
-            before, after = value[at, step], value[at, step + 2]
-            with np.errstate(invalid="ignore", divide="ignore"):
-                bend = before - 2 * peak + after
-                shift = np.where(bend < 0, 0.5 * (before - after) / bend, 0.0)
-            spacing += step + 1 + np.clip(shift, -0.5, 0.5)
-        out[chosen] = np.where(found, spacing * length, np.nan)
-    return out
+            both &= (peak > 0) & (step < reach - 1)
+            extremum = step + 1 + _parabola_shift(sign * side[at, step], peak, sign * side[at, step + 2])
+            # The strongest opposite gradient inside the lobe or where it ends (a smooth bar's
+            # far edge is its inflection), about as strong as the edge's own; the crest between.
+            past = np.concatenate([np.zeros((len(chosen), 1), dtype=bool), beyond[:, :-1]], axis=1)
+            opposite = np.where(past, -np.inf, -slope[:, 1:reach + 1])
+            step = np.argmax(opposite, axis=1)
+            crest = np.min(np.where(np.arange(reach)[None, :] < step[:, None], look, np.inf), axis=1)
+            bar = ((opposite[at, step] >= BAR_EDGE_SHARE * own) & (crest >= BAR_CREST_SHARE * peak)
+                   & (step >= 1) & (step < reach - 1))
+            edge = step + 1 + _parabola_shift(-slope[at, step], opposite[at, step], -slope[at, step + 2])
+            sides.append(((extremum + sign * centre) * length,
+                          np.where(bar, (edge + sign * centre) * length, np.nan)))
+        (lower, opposite_lower), (upper, opposite_upper) = sides
+        for out, values in zip(found, (np.where(both, lower, np.nan), np.where(both, upper, np.nan),
+                                       opposite_lower, opposite_upper)):
+            out[chosen] = values
+    return _Extrema(*found)
+
+
+def _parabola_shift(before: np.ndarray, peak: np.ndarray, after: np.ndarray) -> np.ndarray:
+    """The sub-step position of a peak from the parabola through it and its two neighbours."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        bend = before - 2 * peak + after
+        return np.clip(np.where(bend < 0, 0.5 * (before - after) / bend, 0.0), -0.5, 0.5)
+
+
+def _spacing_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: np.ndarray,
+                smoothing_px: float = SPACING_SIGMA_PX, reach: int = SPACING_REACH) -> np.ndarray:
+    """The distance (px) between the two extrema of the second derivative across each edge
+    pixel (``_extrema_across``; ``nan`` where one is not found)."""
+    extrema = _extrema_across(image, rows, cols, across, smoothing_px, reach)
+    return extrema.lower + extrema.upper
+
+
+def _bar_diameter_px(image: np.ndarray, rows: np.ndarray, cols: np.ndarray, across: np.ndarray) -> np.ndarray:
+    """The blur circle's diameter across each edge pixel from its second derivative's extrema
+    (``spacing_diameter_px`` of their spacing), or, at the edge of a bar narrower than the blur
+    (an opposite edge inside one side's lobe, ``BAR_EDGE_SHARE``), from the geometry of the bar.
+
+    A bright bar of width w blurred by a disk of radius r > w/2 is the difference of two disk
+    edge responses w apart: its second derivative has the rim extrema of both edges, at
+    ±(r + w/2) and ±(r − w/2) from the bar's middle (our derivation from the pillbox's edge
+    response). Where w ≤ 2r/3 the gradient peaks at the inner rims (each edge pixel sits at the
+    other edge's rim): the extremum on the edge's free side lies w from it, the opposite edge
+    2r − w, at least twice as far, and the blur circle spans the two, 2r. Where the opposite
+    edge is nearer than twice the free side's extremum (wider bars, r ≤ w < 2r, and the band
+    between) each edge pixel sits at its own step with its rims at ±r: the free side's extremum
+    is r from it, the other side's is displaced by the opposite edge's rim, so the free side is
+    read on both sides."""
+    extrema = _extrema_across(image, rows, cols, across)
+    diameter = spacing_diameter_px(extrema.lower + extrema.upper)
+    for free, opposite, other in ((extrema.lower, extrema.opposite_upper, extrema.opposite_lower),
+                                  (extrema.upper, extrema.opposite_lower, extrema.opposite_upper)):
+        # A bar on this side only (a bar on both: a narrow ridge among others, read as found).
+        bar = ~np.isnan(opposite) & np.isnan(other) & ~np.isnan(free)
+        # The free side's rim: its extremum's distance as on an ideal edge (the table's half).
+        rim = spacing_diameter_px(2 * free) / 2
+        diameter = np.where(bar, np.where(opposite >= 2 * rim, rim + opposite, 2 * rim), diameter)
+    return diameter
 
 
 @functools.cache
