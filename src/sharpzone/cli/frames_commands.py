@@ -54,11 +54,10 @@ def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
     """Write machine output as each chunk of frames is computed."""
     from sharpzone.report import frames_render
 
-    records = frames_render.check_records if checked else frames_render.frames_records
     if json:
-        pieces = frames_render.stream_json(chunks, records)
+        pieces = frames_render.stream_json(chunks, checked)
     elif jsonl:
-        pieces = frames_render.stream_jsonl(chunks, records)
+        pieces = frames_render.stream_jsonl(chunks, checked)
     else:
         pieces = frames_render.stream_csv(chunks)
     for piece in pieces:
