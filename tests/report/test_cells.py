@@ -96,6 +96,20 @@ def test_csv_lines_are_the_csv_modules_rows_on_awkward_data():
     assert rows[6][1] == "nan" and rows[7][1] == "inf"
 
 
+def test_columns_every_row_writes_the_same_go_into_the_template():
+    # Equal floats write the same except 0.0 and -0.0 (equal, written differently); a
+    # constant text holding "%" must not be read as a template mark.
+    columns = [["same %s 100%"] * 4, [0.0, -0.0, 0.0, 0.0], [2.5] * 4, [None] * 4, [SHARED] * 4, [7] * 4,
+               [1, True, 1, 1], ["a,b"] * 4]
+    keys = tuple("abcdefgh")
+    assert json_objects(keys, columns) == _by_orjson(keys, columns)
+    constant = [columns[n] for n in (0, 2, 3, 4, 5, 7)]  # only columns every row writes the same
+    assert json_objects(keys[: len(constant)], constant) == _by_orjson(keys[: len(constant)], constant)
+    assert json_objects(("%d",), [["%s"] * 3]) == [b'{"%d":"%s"}'] * 3  # every row the same
+    wide = [[float(row * column) for row in range(5)] for column in range(40)]  # more than one template
+    assert json_objects(tuple(f"k{n}" for n in range(40)), wide) == _by_orjson(tuple(f"k{n}" for n in range(40)), wide)
+
+
 def test_the_header_row_and_no_rows():
     assert csv_lines([["path"], ["far_m"]]) == "path,far_m\n"
     assert csv_lines([[], []]) == ""

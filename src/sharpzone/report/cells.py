@@ -19,35 +19,66 @@ from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 _SCALARS = frozenset((float, int, bool, type(None)))
 
 
-def json_cells(values: list, default=None) -> list[bytes]:
-    """Each value as orjson writes it (``default`` for what orjson does not know): a column
-    of numbers in one call, cut at its commas (numbers hold none); text once per distinct
-    value; anything else (lists, dicts, mixed) once per distinct object, so rows that
-    share one list share its text."""
+def json_column(values: list, default=None) -> bytes | list[bytes]:
+    """The column as orjson writes each value (``default`` for what orjson does not know):
+    one text when every row's value writes the same (equal text, numbers or ``None``; one
+    shared list), else each row's text. Numbers and text in one call, cut at the commas
+    when those are all separators (their count says so); text holding commas once per
+    distinct value; anything else (lists, dicts) once per distinct object."""
     import orjson
 
     kinds = set(map(type, values))
+    if not values:
+        return []
+    first = values[0]
+    if len(kinds) == 1 and type(first) in (str, int, float, type(None)) and values.count(first) == len(values):
+        if first or type(first) is not float:  # equal floats other than ±0 write the same
+            return orjson.dumps(first)
     if kinds <= _SCALARS | {str}:
-        if str not in kinds:
-            return orjson.dumps(values)[1:-1].split(b",") if values else []
-        if kinds <= {str, type(None)}:
-            said = {value: orjson.dumps(value) for value in dict.fromkeys(values)}
-            return list(map(said.__getitem__, values))
-        text = orjson.dumps(values)  # numbers and text: cut where the commas are all separators
+        text = orjson.dumps(values)
         if text.count(b",") == len(values) - 1:
             return text[1:-1].split(b",")
+        if kinds <= {str, type(None)}:  # text holding commas
+            said = {value: orjson.dumps(value) for value in dict.fromkeys(values)}
+            return list(map(said.__getitem__, values))
     shared: dict[int, bytes] = {}
-    return [shared[key] if (key := id(value)) in shared else shared.setdefault(key, orjson.dumps(value, default=default))
-            for value in values]
+    cells = [shared[key] if (key := id(value)) in shared else shared.setdefault(key, orjson.dumps(value, default=default))
+             for value in values]
+    return cells[0] if len(shared) == 1 else cells
+
+
+# Columns filled into one template at a time: a row's values pass in a tuple, and CPython
+# reuses tuples of fewer than 20 items (larger ones are allocated afresh for every row).
+_TEMPLATE_COLUMNS = 16
 
 
 def json_objects(keys: tuple[str, ...], columns: list[list], default=None) -> list[bytes]:
     """The rows as compact JSON objects, ``keys`` in order, exactly as ``orjson.dumps`` of
-    ``dict(zip(keys, row))``: one template filled per row."""
+    ``dict(zip(keys, row))``: a column every row writes the same is part of the template,
+    the others are filled in per row, ``_TEMPLATE_COLUMNS`` at a time (the pieces then
+    joined)."""
     import orjson
 
-    template = b"{" + b",".join(orjson.dumps(key).replace(b"%", b"%%") + b":%s" for key in keys) + b"}"
-    return list(map(template.__mod__, zip(*(json_cells(column, default) for column in columns))))
+    count = len(columns[0]) if columns else 0
+    groups: list[tuple[bytes, list]] = [(b"{", [])]  # (template, its columns)
+    for position, (key, column) in enumerate(zip(keys, columns)):
+        prefix = (b"," if position else b"") + orjson.dumps(key) + b":"
+        text = json_column(column, default)
+        template, cells = groups[-1]
+        if isinstance(text, bytes):
+            groups[-1] = (template + (prefix + text).replace(b"%", b"%%"), cells)
+        elif len(cells) == _TEMPLATE_COLUMNS:
+            groups.append((prefix.replace(b"%", b"%%") + b"%s", [text]))
+        else:
+            groups[-1] = (template + prefix.replace(b"%", b"%%") + b"%s", [*cells, text])
+    template, cells = groups[-1]
+    groups[-1] = (template + b"}", cells)
+    if not count:
+        return []
+    if not groups[0][1]:  # every row the same
+        return [groups[0][0].replace(b"%%", b"%")] * count
+    parts = [list(map(template.__mod__, zip(*cells))) for template, cells in groups]
+    return parts[0] if len(parts) == 1 else list(map(b"".join, zip(*parts)))
 
 
 # What makes the csv module quote a cell, or what it may treat specially (NUL): such text is

@@ -231,10 +231,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
         elif not inputs:
             which = np.zeros(len(positions), dtype=np.int64)
         else:
-            number: dict = {}
-            keys = zip(*(_key_values(frames, name, form, index, imperial) for name, form in inputs))
-            which = np.fromiter((number.setdefault(key, len(number)) for key in keys), dtype=np.int64,
-                                count=len(positions))
+            which = _numbered(_key_values(frames, name, form, index, imperial) for name, form in inputs)
         _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
         first_rows[flag] = index[first].tolist()
         sentence_of[flag] = np.full(count, -1, dtype=np.int64)
@@ -242,15 +239,34 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     said = {flag: [{"flag": flag, "text": describe_flag(flag, row, imperial=imperial)}
                    for row in _rows(frames, positions, _read_by(flag, frames))]
             for flag, positions in first_rows.items()}
-    remedies: list = [[] for _ in range(count)]
+    # Each row's list: the shared empty one, or that of the first row with the same sentences.
+    choices: list = [[]]
+    pick = np.zeros(count, dtype=np.int64)
     for combination, positions in combinations.items():
         index = np.asarray(positions, dtype=np.int64)
-        numbers = np.column_stack([sentence_of[flag][index] for flag in combination])
-        distinct, inverse = np.unique(numbers, axis=0, return_inverse=True)
-        shared = [[said[flag][number] for flag, number in zip(combination, row)] for row in distinct.tolist()]
-        for position, which in zip(positions, inverse.reshape(-1).tolist()):
-            remedies[position] = shared[which]
-    return remedies
+        _, first, inverse = np.unique(_numbered(sentence_of[flag][index] for flag in combination),
+                                      return_index=True, return_inverse=True)
+        numbers = np.column_stack([sentence_of[flag][index[first]] for flag in combination]).tolist()
+        pick[index] = len(choices) + inverse.reshape(-1)
+        choices.extend([said[flag][number] for flag, number in zip(combination, row)] for row in numbers)
+    lists = np.empty(len(choices), dtype=object)
+    for number, choice in enumerate(choices):
+        lists[number] = choice
+    return lists[pick].tolist()
+
+
+def _numbered(columns) -> np.ndarray:
+    """A number per row for the rows' combined values in ``columns`` (lists or arrays of
+    equal length): rows whose values are all equal get the same number, 0 upwards."""
+    import pandas as pd
+
+    numbers = None
+    for values in columns:
+        values = values if isinstance(values, np.ndarray) else np.asarray(values, dtype=object)
+        codes, distinct = pd.factorize(values, use_na_sentinel=False)
+        numbers = codes if numbers is None else numbers * len(distinct) + codes
+        numbers = np.unique(numbers, return_inverse=True)[1].reshape(-1)  # back below the row count
+    return numbers
 
 
 # The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the
