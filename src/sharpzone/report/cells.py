@@ -93,8 +93,13 @@ def _csv_module_cell(value: Any) -> str:
 
 
 def _csv_cell(value: Any) -> str:
-    """One cell as ``csv.writer`` writes it, lists joined by ``;`` and text a spreadsheet
-    would run marked (``safe_cell``)."""
+    """One cell as ``csv.writer`` writes it (unknown empty, a float as its ``repr``, which is
+    the module's ``str``), lists joined by ``;`` and text a spreadsheet would run marked
+    (``safe_cell``)."""
+    if value is None:
+        return ""
+    if type(value) is float:
+        return repr(value)
     if type(value) is list:
         value = ";".join(value)
     if type(value) is str:
@@ -106,18 +111,16 @@ def _csv_cell(value: Any) -> str:
 
 
 def csv_cells(values: list) -> list[str]:
-    """A column as CSV cells (see ``_csv_cell``; unknown empty, a float as its ``repr``,
-    which is the module's ``str``), each distinct text or list once."""
-    said: dict[Any, str] = {}
-
-    def cell(value):
-        key = value if type(value) is str else id(value)
-        text = said.get(key)
-        if text is None:
-            text = said[key] = _csv_cell(value)
-        return text
-
-    return [repr(value) if type(value) is float else "" if value is None else cell(value) for value in values]
+    """A column as CSV cells (``_csv_cell``), each distinct value once: numbers and text by
+    value (but 0.0 and -0.0, one key and two cells), anything else by object."""
+    if set(map(type, values)) <= {float, str, type(None)}:
+        distinct = dict.fromkeys(values)
+        if 0.0 not in distinct:
+            said = {value: _csv_cell(value) for value in distinct}
+            return list(map(said.__getitem__, values))
+    shared: dict[int, str] = {}
+    return [shared[key] if (key := id(value)) in shared else shared.setdefault(key, _csv_cell(value))
+            for value in values]
 
 
 def csv_lines(columns: list[list]) -> str:
