@@ -153,16 +153,19 @@ FLAG_INPUTS: dict[str, tuple[tuple[str, str | None], ...] | None] = {
 DERIVED_INPUTS = {"focus_bracketed": ("focus_nearest_mm", "focus_farthest_mm")}
 
 
-def _key_values(frames, name: str, form: str | None, positions, imperial: bool) -> list:
-    """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``), as
-    hashable keys: unknown (NaN, None) → ``None``."""
+def _key_codes(frames, name: str, form: str | None, positions, imperial: bool) -> tuple[np.ndarray, int]:
+    """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``) as
+    numbers, equal values (==; unknown, NaN or None, one value) one number, and how many
+    numbers there are."""
+    import pandas as pd
+
     if name == "focus_bracketed":
         with np.errstate(invalid="ignore"):
             nearest = _float_column(frames, "focus_nearest_mm")[positions]
             farthest = _float_column(frames, "focus_farthest_mm")[positions]
-            return (farthest > nearest * (1 + 1e-9)).tolist()  # NaN compares false: no bracket
+            return (farthest > nearest * (1 + 1e-9)).astype(np.int64), 2  # NaN compares false: no bracket
     if name not in frames:
-        return [None] * len(positions)
+        return np.zeros(len(positions), dtype=np.int64), 1
     if form is not None:
         values = _float_column(frames, name)[positions]
         distinct, inverse = np.unique(values, return_inverse=True)
@@ -170,13 +173,10 @@ def _key_values(frames, name: str, form: str | None, positions, imperial: bool) 
             shown = [format_distance(value, imperial=imperial) for value in distinct.tolist()]
         else:
             shown = [None if value != value else format(value, form) for value in distinct.tolist()]
-        return np.asarray(shown, dtype=object)[inverse.reshape(-1)].tolist()
-    values = frames[name].to_numpy()[positions]
-    if values.dtype.kind == "f":
-        out = values.astype(object)
-        out[np.isnan(values)] = None
-        return out.tolist()
-    return [None if value is None or value != value else value for value in values.tolist()]
+        codes, said = pd.factorize(np.asarray(shown, dtype=object), use_na_sentinel=False)
+        return codes[inverse.reshape(-1)], len(said)
+    codes, said = pd.factorize(frames[name].to_numpy()[positions], use_na_sentinel=False)
+    return codes, len(said)
 
 
 def _float_column(frames, name: str) -> np.ndarray:
@@ -231,7 +231,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
         elif not inputs:
             which = np.zeros(len(positions), dtype=np.int64)
         else:
-            which = _numbered(_key_values(frames, name, form, index, imperial) for name, form in inputs)
+            which = _numbered(_key_codes(frames, name, form, index, imperial) for name, form in inputs)
         _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
         first_rows[flag] = index[first].tolist()
         sentence_of[flag] = np.full(count, -1, dtype=np.int64)
@@ -244,7 +244,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     pick = np.zeros(count, dtype=np.int64)
     for combination, positions in combinations.items():
         index = np.asarray(positions, dtype=np.int64)
-        _, first, inverse = np.unique(_numbered(sentence_of[flag][index] for flag in combination),
+        _, first, inverse = np.unique(_numbered((sentence_of[flag][index], len(said[flag])) for flag in combination),
                                       return_index=True, return_inverse=True)
         numbers = np.column_stack([sentence_of[flag][index[first]] for flag in combination]).tolist()
         pick[index] = len(choices) + inverse.reshape(-1)
@@ -256,17 +256,20 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
 
 
 def _numbered(columns) -> np.ndarray:
-    """A number per row for the rows' combined values in ``columns`` (lists or arrays of
-    equal length): rows whose values are all equal get the same number, 0 upwards."""
-    import pandas as pd
-
-    numbers = None
-    for values in columns:
-        values = values if isinstance(values, np.ndarray) else np.asarray(values, dtype=object)
-        codes, distinct = pd.factorize(values, use_na_sentinel=False)
-        numbers = codes if numbers is None else numbers * len(distinct) + codes
-        numbers = np.unique(numbers, return_inverse=True)[1].reshape(-1)  # back below the row count
-    return numbers
+    """A number per row for the rows' combined values in ``columns`` (pairs of the rows'
+    numbers for one value and how many there are): rows whose values are all equal get the
+    same number, 0 upwards."""
+    numbers, bound = None, 1
+    for codes, size in columns:
+        if numbers is None:
+            numbers = codes.astype(np.int64)
+        else:
+            if bound * size >= 2**62:  # renumber before the combined numbers could overflow
+                numbers = np.unique(numbers, return_inverse=True)[1].reshape(-1)
+                bound = int(numbers.max()) + 1
+            numbers = numbers * size + codes
+        bound *= size
+    return np.unique(numbers, return_inverse=True)[1].reshape(-1)
 
 
 # The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the
