@@ -309,14 +309,15 @@ def _encoded(frames: pd.DataFrame, checked: bool, separator: bytes) -> bytes:
 
 
 def stream_json(chunks: Iterable[pd.DataFrame], checked: bool = False) -> Iterator[bytes]:
-    """The ``--json`` document as UTF-8, a piece per chunk of frames: a list of objects
+    """The ``--json`` document as UTF-8, written as each chunk of frames is: a list of objects
     (``check_records`` when ``checked``, else ``frames_records``), one compact object a
     line, each line indented by two spaces; ``[]`` when no frame matches."""
     started = False
     for frames in chunks:
         if frames.empty:
             continue
-        yield (b",\n  " if started else b"[\n  ") + _encoded(frames, checked, b",\n  ")
+        yield b",\n  " if started else b"[\n  "
+        yield _encoded(frames, checked, b",\n  ")  # not added to the above: a chunk's text is copied once
         started = True
     yield b"\n]\n" if started else b"[]\n"
 
@@ -325,7 +326,8 @@ def stream_jsonl(chunks: Iterable[pd.DataFrame], checked: bool = False) -> Itera
     """``--jsonl``: the objects of ``stream_json``, one a line, nothing around them (UTF-8)."""
     for frames in chunks:
         if not frames.empty:
-            yield _encoded(frames, checked, b"\n") + b"\n"
+            yield _encoded(frames, checked, b"\n")
+            yield b"\n"
 
 
 def _short_path(path: str) -> str:
