@@ -19,14 +19,57 @@ from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 _SCALARS = frozenset((float, int, bool, type(None)))
 
 
-def json_column(values: list, default=None) -> bytes | list[bytes]:
-    """The column as orjson writes each value (``default`` for what orjson does not know):
-    one text when every row's value writes the same (equal text, numbers or ``None``; one
-    shared list), else each row's text. Numbers and text in one call, cut at the commas
+class NumberColumn:
+    """A column of numbers kept as an array until it is written: ``values`` (floats, NaN
+    unknown, or integers) and ``texts``, pairs of (which rows, value) whose rows read that
+    value (``None``, ``"inf"``) instead of their number."""
+
+    __slots__ = ("values", "texts")
+
+    def __init__(self, values, texts=()):
+        self.values, self.texts = values, texts
+
+    def tolist(self) -> list:
+        """The column's plain values: numbers, the ``texts``' values, ``None`` for NaN."""
+        import numpy as np
+
+        out = self.values.astype(object)
+        for rows, value in self.texts:
+            out[rows] = value
+        if self.values.dtype.kind == "f":
+            out[np.isnan(self.values)] = None
+        return out.tolist()
+
+
+def as_list(column) -> list:
+    """A column's plain values, whether a list or a ``NumberColumn``."""
+    return column.tolist() if isinstance(column, NumberColumn) else column
+
+
+def _number_cells(column: NumberColumn) -> bytes | list[bytes]:
+    """``json_column`` of a ``NumberColumn``: the numbers in one orjson call (which writes
+    NaN as null, as it writes ``None``), the ``texts``' rows then set."""
+    import numpy as np
+    import orjson
+
+    cells = orjson.dumps(column.values.tolist())[1:-1].split(b",") if len(column.values) else []
+    for rows, value in column.texts:
+        text = orjson.dumps(value)
+        for row in np.flatnonzero(rows).tolist():
+            cells[row] = text
+    return cells[0] if cells and cells.count(cells[0]) == len(cells) else cells
+
+
+def json_column(values, default=None) -> bytes | list[bytes]:
+    """The column (a list or a ``NumberColumn``) as orjson writes each value (``default``
+    for what orjson does not know): one text when every row's value writes the same (equal
+    text, numbers or ``None``; one shared list), else each row's text. Numbers and text in one call, cut at the commas
     when those are all separators (their count says so); text holding commas once per
     distinct value; anything else (lists, dicts) once per distinct object."""
     import orjson
 
+    if isinstance(values, NumberColumn):
+        return _number_cells(values)
     kinds = set(map(type, values))
     if not values:
         return []
@@ -110,9 +153,11 @@ def _csv_cell(value: Any) -> str:
     return _csv_module_cell(value)
 
 
-def csv_cells(values: list) -> list[str]:
-    """A column as CSV cells (``_csv_cell``), each distinct value once: numbers and text by
-    value (but 0.0 and -0.0, one key and two cells), anything else by object."""
+def csv_cells(values) -> list[str]:
+    """A column (a list or a ``NumberColumn``) as CSV cells (``_csv_cell``), each distinct
+    value once: numbers and text by value (but 0.0 and -0.0, one key and two cells),
+    anything else by object."""
+    values = as_list(values)
     if set(map(type, values)) <= {float, str, type(None)}:
         distinct = dict.fromkeys(values)
         if 0.0 not in distinct:

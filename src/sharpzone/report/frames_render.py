@@ -67,38 +67,44 @@ def frame_json(row) -> dict[str, Any]:
     return frames_records(pd.DataFrame([dict(row)]))[0]
 
 
-def _numbers(frames: pd.DataFrame, name: str, scale: float = 1.0, inf: str | None = None) -> list:
-    """A column as JSON values: floats, ``None`` for unknown, ``"inf"``/``"-inf"`` for
-    infinity (``inf`` overrides both, as distances are ``"inf"`` either way)."""
-    import numpy as np
+def _number_values(frames: pd.DataFrame, name: str, scale: float = 1.0):
+    """A column as floats divided by ``scale`` (NaN for unknown and for what is no number)."""
     import pandas as pd
 
+    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    return values / scale if scale != 1.0 else values
+
+
+def _numbers(frames: pd.DataFrame, name: str, scale: float = 1.0, inf: str | None = None):
+    """A column as JSON values (a ``NumberColumn``, or a list where the column is missing):
+    floats, ``None`` for unknown, ``"inf"``/``"-inf"`` for infinity (``inf`` overrides
+    both, as distances are ``"inf"`` either way)."""
     if name not in frames:
         return [None] * len(frames)
-    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
-    if scale != 1.0:
-        values = values / scale
-    out = values.astype(object)
-    out[np.isposinf(values)] = inf or "inf"
-    out[np.isneginf(values)] = inf or "-inf"
-    out[np.isnan(values)] = None
-    return out.tolist()
+    return _with_infinity(_number_values(frames, name, scale), inf)
 
 
-def _metres(frames: pd.DataFrame, name: str) -> list:
+def _with_infinity(values, inf: str | None = None):
+    import numpy as np
+
+    from sharpzone.report.cells import NumberColumn
+
+    return NumberColumn(values, ((np.isposinf(values), inf or "inf"), (np.isneginf(values), inf or "-inf")))
+
+
+def _metres(frames: pd.DataFrame, name: str):
     return _numbers(frames, name, 1000.0, inf="inf")
 
 
-def _whole(frames: pd.DataFrame, name: str, positive: bool = False) -> list:
+def _whole(frames: pd.DataFrame, name: str, positive: bool = False):
     """A column as whole numbers, ``None`` for unknown (and for ≤ 0 when ``positive``)."""
     import numpy as np
-    import pandas as pd
 
-    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    from sharpzone.report.cells import NumberColumn
+
+    values = _number_values(frames, name)
     known = np.isfinite(values) & (values > 0 if positive else True)
-    out = np.trunc(np.where(known, values, 0)).astype(np.int64).astype(object)
-    out[~known] = None
-    return out.tolist()
+    return NumberColumn(np.trunc(np.where(known, values, 0)).astype(np.int64), ((~known, None),))
 
 
 def _texts(frames: pd.DataFrame, name: str, strings_only: bool = False) -> list:
@@ -137,8 +143,10 @@ def _timestamps(frames: pd.DataFrame, name: str) -> list:
     return out.tolist()
 
 
-def _objects(keys: tuple[str, ...], columns: list[list]) -> list[dict[str, Any]]:
-    return [dict(zip(keys, values)) for values in zip(*columns)]
+def _objects(keys: tuple[str, ...], columns: list) -> list[dict[str, Any]]:
+    from sharpzone.report.cells import as_list
+
+    return [dict(zip(keys, values)) for values in zip(*map(as_list, columns))]
 
 
 _FRAME_KEYS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "exposure_s", "iso", "captured_at",
@@ -147,11 +155,15 @@ _FRAME_KEYS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "exposur
                "magnification", "effective_f_number", "airy_disk_mm", "blur", "flags")
 
 
-def _bracket(frames: pd.DataFrame, name: str) -> list:
+def _bracket(frames: pd.DataFrame, name: str):
     """One end of the focus bracket (m); the nominal distance where none is stored (exact)."""
-    ends = _metres(frames, name) if name in frames else [None] * len(frames)
-    nominal = _metres(frames, "focus_mm")
-    return [n if e is None else e for e, n in zip(ends, nominal)]
+    import numpy as np
+
+    nominal = _number_values(frames, "focus_mm", 1000.0)
+    if name not in frames:
+        return _with_infinity(nominal, "inf")
+    ends = _number_values(frames, name, 1000.0)
+    return _with_infinity(np.where(np.isnan(ends), nominal, ends), "inf")
 
 
 def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
