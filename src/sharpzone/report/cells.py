@@ -98,8 +98,8 @@ _TEMPLATE_COLUMNS = 16
 def json_objects(keys: tuple[str, ...], columns: list[list], default=None) -> list[bytes]:
     """The rows as compact JSON objects, ``keys`` in order, exactly as ``orjson.dumps`` of
     ``dict(zip(keys, row))``: a column every row writes the same is part of the template,
-    the others are filled in per row, ``_TEMPLATE_COLUMNS`` at a time (the pieces then
-    joined)."""
+    the others are filled in per row, ``_TEMPLATE_COLUMNS`` at a time (each template after
+    the first taking the rows' text so far as its first value)."""
     import orjson
 
     count = len(columns[0]) if columns else 0
@@ -120,8 +120,12 @@ def json_objects(keys: tuple[str, ...], columns: list[list], default=None) -> li
         return []
     if not groups[0][1]:  # every row the same
         return [groups[0][0].replace(b"%%", b"%")] * count
-    parts = [list(map(template.__mod__, zip(*cells))) for template, cells in groups]
-    return parts[0] if len(parts) == 1 else list(map(b"".join, zip(*parts)))
+    filled = None
+    for template, cells in groups:  # each template after the first starts with the rows so far
+        if filled is not None:
+            template, cells = b"%s" + template, [filled, *cells]
+        filled = list(map(template.__mod__, zip(*cells)))
+    return filled
 
 
 # What makes the csv module quote a cell, or what it may treat specially (NUL): such text is
