@@ -59,6 +59,7 @@ def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
     again and again (a tenth of ``check --json`` at 300,000 frames). Nothing is kept from being
     collected that the chunks make."""
     import gc
+    import sys
 
     from sharpzone.report import frames_render
 
@@ -68,10 +69,12 @@ def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
         pieces = frames_render.stream_jsonl(chunks, checked)
     else:
         pieces = frames_render.stream_csv(chunks)
+    # JSON comes as UTF-8 for the binary stream; a text-only stdout (a caller's StringIO) gets text.
+    text_only = getattr(sys.stdout, "buffer", None) is None
     gc.freeze()
     try:
         for piece in pieces:
-            typer.echo(piece, nl=False)
+            typer.echo(piece.decode() if text_only and isinstance(piece, bytes) else piece, nl=False)
     finally:
         gc.unfreeze()
 
