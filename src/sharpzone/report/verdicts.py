@@ -209,27 +209,23 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     the text from ``describe_flag``, said once per distinct combination of the values it
     reads (``FLAG_INPUTS``), so a hundred thousand frames cost a few hundred sentences.
     Rows with the same words share one list (read-only, like the ``flags`` lists)."""
-    flag_lists = frames["flags"].tolist()
-    count = len(flag_lists)
-    combinations: dict[tuple[str, ...], list[int]] = {}  # the rows of each combination of flags
-    for position, flags in enumerate(flag_lists):
-        if flags:
-            combinations.setdefault(tuple(flags), []).append(position)
-    by_flag: dict[str, list[int]] = {}
+    combinations = _combinations(frames["flags"].tolist())
+    count = len(frames)
+    by_flag: dict[str, list] = {}
     for combination, positions in combinations.items():
         for flag in combination:
-            by_flag.setdefault(flag, []).extend(positions)
+            by_flag.setdefault(flag, []).append(positions)
     # Each row's sentence number for each flag, the first row saying each sentence, then those
     # rows (a column at a time) and the sentences.
     sentence_of: dict[str, np.ndarray] = {}
     first_rows: dict[str, list[int]] = {}
-    for flag, positions in by_flag.items():
-        index = np.asarray(positions, dtype=np.int64)
+    for flag, blocks in by_flag.items():
+        index = np.concatenate(blocks)
         inputs = FLAG_INPUTS.get(flag)
         if inputs is None:
-            which = np.arange(len(positions))
+            which = np.arange(len(index))
         elif not inputs:
-            which = np.zeros(len(positions), dtype=np.int64)
+            which = np.zeros(len(index), dtype=np.int64)
         else:
             which = _numbered(_key_codes(frames, name, form, index, imperial) for name, form in inputs)
         _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
@@ -242,8 +238,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     # Each row's list: the shared empty one, or that of the first row with the same sentences.
     choices: list = [[]]
     pick = np.zeros(count, dtype=np.int64)
-    for combination, positions in combinations.items():
-        index = np.asarray(positions, dtype=np.int64)
+    for combination, index in combinations.items():
         _, first, inverse = np.unique(_numbered((sentence_of[flag][index], len(said[flag])) for flag in combination),
                                       return_index=True, return_inverse=True)
         numbers = np.column_stack([sentence_of[flag][index[first]] for flag in combination]).tolist()
@@ -253,6 +248,21 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     for number, choice in enumerate(choices):
         lists[number] = choice
     return lists[pick].tolist()
+
+
+def _combinations(flag_lists: list) -> dict[tuple[str, ...], np.ndarray]:
+    """The rows (ascending) of each combination of flags but none, in the order they first
+    come; rows sharing one list (as ``check_frames`` makes them) are told apart by the
+    list, not by reading each."""
+    import pandas as pd
+
+    lists, _ = pd.factorize(np.fromiter(map(id, flag_lists), dtype=np.uint64, count=len(flag_lists)))
+    _, first = np.unique(lists, return_index=True)
+    numbers: dict[tuple[str, ...], int] = {}
+    combination_of_list = np.array([numbers.setdefault(tuple(flag_lists[row]), len(numbers))
+                                    for row in first.tolist()], dtype=np.int64)
+    of_row = combination_of_list[lists]
+    return {combination: np.flatnonzero(of_row == number) for combination, number in numbers.items() if combination}
 
 
 def _numbered(columns) -> np.ndarray:
