@@ -101,3 +101,17 @@ def test_each_verdicts_words_read_only_what_its_key_names(varied):
             describe_flag(flag, reading)
             describe_flag(flag, reading, imperial=True)
             assert reading.read <= allowed, (flag, reading.read - allowed)
+
+
+def test_rows_are_numbered_by_their_values_even_past_64_bits():
+    # Five columns of 2**20 possible numbers each: their product passes 2**62, so the
+    # numbering is renumbered on the way; rows equal throughout still share a number, and
+    # rows that differ in the first column only (which 64-bit arithmetic would lose) do not.
+    import numpy as np
+
+    from sharpzone.report.verdicts import _numbered
+
+    rows = np.array([[1, 2, 3, 4, 5], [1, 2, 3, 4, 6], [1, 2, 3, 4, 5], [0, 0, 0, 0, 0], [1, 0, 0, 0, 0],
+                     [1048575] * 5])
+    numbers = _numbered((rows[:, column], 2**20) for column in range(5)).tolist()
+    assert numbers[0] == numbers[2] and len(set(numbers)) == 5 and sorted(set(numbers)) == [0, 1, 2, 3, 4]

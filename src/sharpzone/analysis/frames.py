@@ -108,7 +108,7 @@ def _frames_table(names: list[str], rows: list[tuple], small, expected: list[str
     """The frames DataFrame of one chunk of query rows: numbers as floats (NaN unknown), the
     counts as integers where all are known, times as timestamps, the shoot, body/format and
     lens columns joined by id; the ``expected`` columns the query left out (no blur measured
-    yet) all unknown."""
+    yet) all unknown (NaN, which ``blur_types`` then reads without parsing each value)."""
     import numpy as np
     import pandas as pd
 
@@ -127,7 +127,7 @@ def _frames_table(names: list[str], rows: list[tuple], small, expected: list[str
             data[name] = np.array(values, dtype=object) if values else np.empty(0, dtype=object)
     for name in expected:
         if name not in data:
-            data[name] = np.full(len(rows), None, dtype=object)
+            data[name] = np.full(len(rows), np.nan)
     for key, index, table in small:
         # Each frame's row of the small table (its last row, all unknown, where none matches).
         positions = index.get_indexer(_floats(data[key]))

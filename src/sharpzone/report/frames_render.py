@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import io
 import math
 import os
 from typing import TYPE_CHECKING, Any
@@ -12,7 +11,6 @@ from rich.text import Text
 
 from sharpzone.report.console import Column, fit_table, line, print_fitted, stdout_console, styled, wrap_text
 from sharpzone.report.inert import inert
-from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
 from sharpzone.report.jsonout import metres, plain
 from sharpzone.units import format_distance, format_f_number, format_focal_length, format_length_mm, format_zone
 
@@ -69,38 +67,44 @@ def frame_json(row) -> dict[str, Any]:
     return frames_records(pd.DataFrame([dict(row)]))[0]
 
 
-def _numbers(frames: pd.DataFrame, name: str, scale: float = 1.0, inf: str | None = None) -> list:
-    """A column as JSON values: floats, ``None`` for unknown, ``"inf"``/``"-inf"`` for
-    infinity (``inf`` overrides both, as distances are ``"inf"`` either way)."""
-    import numpy as np
+def _number_values(frames: pd.DataFrame, name: str, scale: float = 1.0):
+    """A column as floats divided by ``scale`` (NaN for unknown and for what is no number)."""
     import pandas as pd
 
+    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    return values / scale if scale != 1.0 else values
+
+
+def _numbers(frames: pd.DataFrame, name: str, scale: float = 1.0, inf: str | None = None):
+    """A column as JSON values (a ``NumberColumn``, or a list where the column is missing):
+    floats, ``None`` for unknown, ``"inf"``/``"-inf"`` for infinity (``inf`` overrides
+    both, as distances are ``"inf"`` either way)."""
     if name not in frames:
         return [None] * len(frames)
-    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
-    if scale != 1.0:
-        values = values / scale
-    out = values.astype(object)
-    out[np.isposinf(values)] = inf or "inf"
-    out[np.isneginf(values)] = inf or "-inf"
-    out[np.isnan(values)] = None
-    return out.tolist()
+    return _with_infinity(_number_values(frames, name, scale), inf)
 
 
-def _metres(frames: pd.DataFrame, name: str) -> list:
+def _with_infinity(values, inf: str | None = None):
+    import numpy as np
+
+    from sharpzone.report.cells import NumberColumn
+
+    return NumberColumn(values, ((np.isposinf(values), inf or "inf"), (np.isneginf(values), inf or "-inf")))
+
+
+def _metres(frames: pd.DataFrame, name: str):
     return _numbers(frames, name, 1000.0, inf="inf")
 
 
-def _whole(frames: pd.DataFrame, name: str, positive: bool = False) -> list:
+def _whole(frames: pd.DataFrame, name: str, positive: bool = False):
     """A column as whole numbers, ``None`` for unknown (and for ≤ 0 when ``positive``)."""
     import numpy as np
-    import pandas as pd
 
-    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    from sharpzone.report.cells import NumberColumn
+
+    values = _number_values(frames, name)
     known = np.isfinite(values) & (values > 0 if positive else True)
-    out = np.trunc(np.where(known, values, 0)).astype(np.int64).astype(object)
-    out[~known] = None
-    return out.tolist()
+    return NumberColumn(np.trunc(np.where(known, values, 0)).astype(np.int64), ((~known, None),))
 
 
 def _texts(frames: pd.DataFrame, name: str, strings_only: bool = False) -> list:
@@ -139,8 +143,10 @@ def _timestamps(frames: pd.DataFrame, name: str) -> list:
     return out.tolist()
 
 
-def _objects(keys: tuple[str, ...], columns: list[list]) -> list[dict[str, Any]]:
-    return [dict(zip(keys, values)) for values in zip(*columns)]
+def _objects(keys: tuple[str, ...], columns: list) -> list[dict[str, Any]]:
+    from sharpzone.report.cells import as_list
+
+    return [dict(zip(keys, values)) for values in zip(*map(as_list, columns))]
 
 
 _FRAME_KEYS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "exposure_s", "iso", "captured_at",
@@ -149,17 +155,21 @@ _FRAME_KEYS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "exposur
                "magnification", "effective_f_number", "airy_disk_mm", "blur", "flags")
 
 
-def _bracket(frames: pd.DataFrame, name: str) -> list:
+def _bracket(frames: pd.DataFrame, name: str):
     """One end of the focus bracket (m); the nominal distance where none is stored (exact)."""
-    ends = _metres(frames, name) if name in frames else [None] * len(frames)
-    nominal = _metres(frames, "focus_mm")
-    return [n if e is None else e for e, n in zip(ends, nominal)]
+    import numpy as np
+
+    nominal = _number_values(frames, "focus_mm", 1000.0)
+    if name not in frames:
+        return _with_infinity(nominal, "inf")
+    ends = _number_values(frames, name, 1000.0)
+    return _with_infinity(np.where(np.isnan(ends), nominal, ends), "inf")
 
 
 def frames_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """The frames in the machine interface, one object each, built a column at a time
     (metres for ``_m``, mm for ``_mm``, ``"inf"`` for infinity, ``None`` for unknown)."""
-    return _objects(_FRAME_KEYS, _frame_columns(frames))
+    return _objects(*_frame_object_columns(frames))
 
 
 def _blur_column(frames: pd.DataFrame) -> list:
@@ -257,6 +267,15 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
     """Checked frames in the machine interface: each frame's object (``frames_records``)
     plus the requirement and remedies, built a column at a time; the remedies' words only
     for frames with a verdict."""
+    return _objects(*_check_object_columns(frames))
+
+
+def _frame_object_columns(frames: pd.DataFrame) -> tuple[tuple[str, ...], list[list]]:
+    return _FRAME_KEYS, _frame_columns(frames)
+
+
+def _check_object_columns(frames: pd.DataFrame) -> tuple[tuple[str, ...], list[list]]:
+    """The keys and columns of ``check_records``."""
     from sharpzone.report.verdicts import describe_flags
 
     remedies = describe_flags(frames)
@@ -268,7 +287,7 @@ def check_records(frames: pd.DataFrame) -> list[dict[str, Any]]:
         _numbers(frames, "single_frame_f_number"), remedy, _numbers(frames, "holds_share"),
         _texts(frames, "outcome"), remedies,
     ]
-    return _objects(_FRAME_KEYS + _CHECK_KEYS, _frame_columns(frames) + columns)
+    return _FRAME_KEYS + _CHECK_KEYS, _frame_columns(frames) + columns
 
 
 def rows_json(frames: pd.DataFrame, item=frame_json) -> list[dict[str, Any]]:
@@ -281,60 +300,46 @@ CSV_COLUMNS = ("path", "shoot", "body", "lens", "focal_mm", "f_number", "focus_m
 
 
 def stream_csv(chunks: Iterable[pd.DataFrame]) -> Iterator[str]:
-    """Frames as CSV text (distances in metres, ``inf`` for infinity, flags joined by ``;``),
-    a piece per chunk of frames (the header first)."""
-    import csv
+    """Frames as CSV text (distances in metres, ``inf`` for infinity, flags joined by ``;``,
+    text a spreadsheet would run marked), a piece per chunk of frames (the header first),
+    as ``csv.writer`` writes it (``report.cells``)."""
+    from sharpzone.report.cells import csv_lines
 
-    buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(CSV_COLUMNS)
+    yield csv_lines([[name] for name in CSV_COLUMNS])
     for frames in chunks:
-        writer.writerows(zip(*(_csv_cells(column) for column in _frame_columns(frames, CSV_COLUMNS))))
-        yield buffer.getvalue()
-        buffer.seek(0)
-        buffer.truncate()
-    if buffer.tell():
-        yield buffer.getvalue()
+        yield csv_lines(_frame_columns(frames, CSV_COLUMNS))
 
 
-def _csv_cells(values: list) -> list:
-    """A column of machine values as CSV cells, a column at a time: unknown empty (the
-    writer's None), lists joined by ``;``, text a spreadsheet would run marked (``safe_cell``)."""
-    if any(type(value) is list for value in values):
-        values = [";".join(value) if type(value) is list else value for value in values]
-    # Only text that starts like a formula goes through safe_cell (which then decides).
-    return [safe_cell(value) if type(value) is str and value.startswith(FORMULA_STARTS) else value
-            for value in values]
+def _encoded(frames: pd.DataFrame, checked: bool, separator: bytes) -> bytes:
+    """The frames' objects (``check_records`` when ``checked``, else ``frames_records``) as
+    compact UTF-8 JSON joined by ``separator``, as orjson writes each object (every value
+    already plain but the blur's: no NaN, infinity as ``"inf"``)."""
+    from sharpzone.report.cells import json_objects
+
+    keys, columns = (_check_object_columns if checked else _frame_object_columns)(frames)
+    return separator.join(json_objects(keys, columns, default=plain))
 
 
-def _encoded(objects: list[dict[str, Any]], separator: str) -> str:
-    """The objects as JSON text joined by ``separator``: compact, UTF-8 (orjson; every
-    value is already plain: no NaN, infinity as ``"inf"``)."""
-    import orjson
-
-    return separator.join([orjson.dumps(item, default=plain).decode() for item in objects])
-
-
-def stream_json(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
-    """The ``--json`` document, a piece per chunk of frames: a list of objects
-    (``records`` is ``frames_records`` or ``check_records``), one compact object a line,
-    each line indented by two spaces; ``[]`` when no frame matches."""
+def stream_json(chunks: Iterable[pd.DataFrame], checked: bool = False) -> Iterator[bytes]:
+    """The ``--json`` document as UTF-8, written as each chunk of frames is: a list of objects
+    (``check_records`` when ``checked``, else ``frames_records``), one compact object a
+    line, each line indented by two spaces; ``[]`` when no frame matches."""
     started = False
     for frames in chunks:
-        objects = records(frames)
-        if not objects:
+        if frames.empty:
             continue
-        yield (",\n  " if started else "[\n  ") + _encoded(objects, ",\n  ")
+        yield b",\n  " if started else b"[\n  "
+        yield _encoded(frames, checked, b",\n  ")  # not added to the above: a chunk's text is copied once
         started = True
-    yield "\n]\n" if started else "[]\n"
+    yield b"\n]\n" if started else b"[]\n"
 
 
-def stream_jsonl(chunks: Iterable[pd.DataFrame], records=frames_records) -> Iterator[str]:
-    """``--jsonl``: the objects of ``stream_json``, one a line, nothing around them."""
+def stream_jsonl(chunks: Iterable[pd.DataFrame], checked: bool = False) -> Iterator[bytes]:
+    """``--jsonl``: the objects of ``stream_json``, one a line, nothing around them (UTF-8)."""
     for frames in chunks:
-        objects = records(frames)
-        if objects:
-            yield _encoded(objects, "\n") + "\n"
+        if not frames.empty:
+            yield _encoded(frames, checked, b"\n")
+            yield b"\n"
 
 
 def _short_path(path: str) -> str:

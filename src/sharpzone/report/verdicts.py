@@ -153,16 +153,19 @@ FLAG_INPUTS: dict[str, tuple[tuple[str, str | None], ...] | None] = {
 DERIVED_INPUTS = {"focus_bracketed": ("focus_nearest_mm", "focus_farthest_mm")}
 
 
-def _key_values(frames, name: str, form: str | None, positions, imperial: bool) -> list:
-    """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``), as
-    hashable keys: unknown (NaN, None) → ``None``."""
+def _key_codes(frames, name: str, form: str | None, positions, imperial: bool) -> tuple[np.ndarray, int]:
+    """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``) as
+    numbers, equal values (==; unknown, NaN or None, one value) one number, and how many
+    numbers there are."""
+    import pandas as pd
+
     if name == "focus_bracketed":
         with np.errstate(invalid="ignore"):
             nearest = _float_column(frames, "focus_nearest_mm")[positions]
             farthest = _float_column(frames, "focus_farthest_mm")[positions]
-            return (farthest > nearest * (1 + 1e-9)).tolist()  # NaN compares false: no bracket
+            return (farthest > nearest * (1 + 1e-9)).astype(np.int64), 2  # NaN compares false: no bracket
     if name not in frames:
-        return [None] * len(positions)
+        return np.zeros(len(positions), dtype=np.int64), 1
     if form is not None:
         values = _float_column(frames, name)[positions]
         distinct, inverse = np.unique(values, return_inverse=True)
@@ -170,13 +173,10 @@ def _key_values(frames, name: str, form: str | None, positions, imperial: bool) 
             shown = [format_distance(value, imperial=imperial) for value in distinct.tolist()]
         else:
             shown = [None if value != value else format(value, form) for value in distinct.tolist()]
-        return np.asarray(shown, dtype=object)[inverse.reshape(-1)].tolist()
-    values = frames[name].to_numpy()[positions]
-    if values.dtype.kind == "f":
-        out = values.astype(object)
-        out[np.isnan(values)] = None
-        return out.tolist()
-    return [None if value is None or value != value else value for value in values.tolist()]
+        codes, said = pd.factorize(np.asarray(shown, dtype=object), use_na_sentinel=False)
+        return codes[inverse.reshape(-1)], len(said)
+    codes, said = pd.factorize(frames[name].to_numpy()[positions], use_na_sentinel=False)
+    return codes, len(said)
 
 
 def _float_column(frames, name: str) -> np.ndarray:
@@ -209,32 +209,25 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     the text from ``describe_flag``, said once per distinct combination of the values it
     reads (``FLAG_INPUTS``), so a hundred thousand frames cost a few hundred sentences.
     Rows with the same words share one list (read-only, like the ``flags`` lists)."""
-    flag_lists = frames["flags"].tolist()
-    count = len(flag_lists)
-    combinations: dict[tuple[str, ...], list[int]] = {}  # the rows of each combination of flags
-    for position, flags in enumerate(flag_lists):
-        if flags:
-            combinations.setdefault(tuple(flags), []).append(position)
-    by_flag: dict[str, list[int]] = {}
+    combinations = _combinations(frames["flags"].tolist())
+    count = len(frames)
+    by_flag: dict[str, list] = {}
     for combination, positions in combinations.items():
         for flag in combination:
-            by_flag.setdefault(flag, []).extend(positions)
+            by_flag.setdefault(flag, []).append(positions)
     # Each row's sentence number for each flag, the first row saying each sentence, then those
     # rows (a column at a time) and the sentences.
     sentence_of: dict[str, np.ndarray] = {}
     first_rows: dict[str, list[int]] = {}
-    for flag, positions in by_flag.items():
-        index = np.asarray(positions, dtype=np.int64)
+    for flag, blocks in by_flag.items():
+        index = np.concatenate(blocks)
         inputs = FLAG_INPUTS.get(flag)
         if inputs is None:
-            which = np.arange(len(positions))
+            which = np.arange(len(index))
         elif not inputs:
-            which = np.zeros(len(positions), dtype=np.int64)
+            which = np.zeros(len(index), dtype=np.int64)
         else:
-            number: dict = {}
-            keys = zip(*(_key_values(frames, name, form, index, imperial) for name, form in inputs))
-            which = np.fromiter((number.setdefault(key, len(number)) for key in keys), dtype=np.int64,
-                                count=len(positions))
+            which = _numbered(_key_codes(frames, name, form, index, imperial) for name, form in inputs)
         _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
         first_rows[flag] = index[first].tolist()
         sentence_of[flag] = np.full(count, -1, dtype=np.int64)
@@ -242,15 +235,51 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
     said = {flag: [{"flag": flag, "text": describe_flag(flag, row, imperial=imperial)}
                    for row in _rows(frames, positions, _read_by(flag, frames))]
             for flag, positions in first_rows.items()}
-    remedies: list = [[] for _ in range(count)]
-    for combination, positions in combinations.items():
-        index = np.asarray(positions, dtype=np.int64)
-        numbers = np.column_stack([sentence_of[flag][index] for flag in combination])
-        distinct, inverse = np.unique(numbers, axis=0, return_inverse=True)
-        shared = [[said[flag][number] for flag, number in zip(combination, row)] for row in distinct.tolist()]
-        for position, which in zip(positions, inverse.reshape(-1).tolist()):
-            remedies[position] = shared[which]
-    return remedies
+    # Each row's list: the shared empty one, or that of the first row with the same sentences.
+    choices: list = [[]]
+    pick = np.zeros(count, dtype=np.int64)
+    for combination, index in combinations.items():
+        _, first, inverse = np.unique(_numbered((sentence_of[flag][index], len(said[flag])) for flag in combination),
+                                      return_index=True, return_inverse=True)
+        numbers = np.column_stack([sentence_of[flag][index[first]] for flag in combination]).tolist()
+        pick[index] = len(choices) + inverse.reshape(-1)
+        choices.extend([said[flag][number] for flag, number in zip(combination, row)] for row in numbers)
+    lists = np.empty(len(choices), dtype=object)
+    for number, choice in enumerate(choices):
+        lists[number] = choice
+    return lists[pick].tolist()
+
+
+def _combinations(flag_lists: list) -> dict[tuple[str, ...], np.ndarray]:
+    """The rows (ascending) of each combination of flags but none, in the order they first
+    come; rows sharing one list (as ``check_frames`` makes them) are told apart by the
+    list, not by reading each."""
+    import pandas as pd
+
+    lists, _ = pd.factorize(np.fromiter(map(id, flag_lists), dtype=np.uint64, count=len(flag_lists)))
+    _, first = np.unique(lists, return_index=True)
+    numbers: dict[tuple[str, ...], int] = {}
+    combination_of_list = np.array([numbers.setdefault(tuple(flag_lists[row]), len(numbers))
+                                    for row in first.tolist()], dtype=np.int64)
+    of_row = combination_of_list[lists]
+    return {combination: np.flatnonzero(of_row == number) for combination, number in numbers.items() if combination}
+
+
+def _numbered(columns) -> np.ndarray:
+    """A number per row for the rows' combined values in ``columns`` (pairs of the rows'
+    numbers for one value and how many there are): rows whose values are all equal get the
+    same number, 0 upwards."""
+    numbers, bound = None, 1
+    for codes, size in columns:
+        if numbers is None:
+            numbers = codes.astype(np.int64)
+        else:
+            if bound * size >= 2**62:  # renumber before the combined numbers could overflow
+                numbers = np.unique(numbers, return_inverse=True)[1].reshape(-1)
+                bound = int(numbers.max()) + 1
+            numbers = numbers * size + codes
+        bound *= size
+    return np.unique(numbers, return_inverse=True)[1].reshape(-1)
 
 
 # The blur verdicts (``analysis.blur_checks``): figures on the sensor and as multiples of the
