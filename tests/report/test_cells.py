@@ -54,9 +54,12 @@ def _by_csv_module(columns) -> str:
             value = ";".join(value)
         return safe_cell(value) if type(value) is str and value.startswith(FORMULA_STARTS) else value
 
-    buffer = io.StringIO()
-    csv.writer(buffer, lineterminator="\n").writerows([cell(value) for value in row] for row in zip(*columns))
-    return buffer.getvalue()
+    def line(row) -> str:  # quoting as for "\r\n" line ends (a bare CR quoted too), ended "\n"
+        buffer = io.StringIO()
+        csv.writer(buffer, lineterminator="\r\n").writerow([cell(value) for value in row])
+        return buffer.getvalue()[:-2] + "\n"
+
+    return "".join(map(line, zip(*columns)))
 
 
 def test_json_objects_are_orjson_of_each_rows_dict_on_awkward_data():
@@ -80,9 +83,8 @@ def test_csv_lines_are_the_csv_modules_rows_on_awkward_data():
     columns = _columns(3 * len(TEXTS + FLOATS + OTHERS))
     written = csv_lines(columns)
     assert written == _by_csv_module(columns)
-    # Read back by the module's reader. It refuses a bare carriage return, which its writer
-    # leaves unquoted when lines end in "\n" (the module's behaviour, kept byte for byte).
-    readable = [text for text in TEXTS if "\r" not in text]
+    # Read back by the module's reader, which refuses a bare carriage return left unquoted.
+    readable = TEXTS
     rows = list(csv.reader(io.StringIO(csv_lines([readable, FLOATS[: len(readable)] * 3]))))
     texts = [row[0] for row in rows]
     assert len(rows) == len(readable)
@@ -91,6 +93,7 @@ def test_csv_lines_are_the_csv_modules_rows_on_awkward_data():
     assert texts[readable.index("@SUM(A1)")] == "'@SUM(A1)" and texts[readable.index("+1+2")] == "'+1+2"
     assert texts[readable.index("-0.5")] == "-0.5" and texts[readable.index("+3")] == "+3"
     assert texts[readable.index("line\nbreak")] == "line\nbreak"
+    assert texts[readable.index("cr\rreturn")] == "cr\rreturn" and texts[readable.index("\rx")] == "'\rx"  # marked, as a tab
     assert texts[readable.index('say "cheese"')] == 'say "cheese"' and texts[readable.index('","')] == '","'
     assert [row[1] for row in rows[:4]] == ["0.0", "-0.0", "1e-07", "1e+22"]  # repr, as the module writes floats
     assert rows[6][1] == "nan" and rows[7][1] == "inf"

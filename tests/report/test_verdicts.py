@@ -115,3 +115,17 @@ def test_rows_are_numbered_by_their_values_even_past_64_bits():
                      [1048575] * 5])
     numbers = _numbered((rows[:, column], 2**20) for column in range(5)).tolist()
     assert numbers[0] == numbers[2] and len(set(numbers)) == 5 and sorted(set(numbers)) == [0, 1, 2, 3, 4]
+
+
+def test_a_blur_finer_than_the_preview_resolves_is_said_as_a_bound_in_the_table_too():
+    """The frames table, like the verdict's words, says "under X µm" for a blur at or below
+    what the analysed preview resolves (3 px of it), never a finer figure the preview does
+    not have; larger blurs keep their figure and CoC multiple."""
+    from sharpzone.report.frames_render import _blur_at_focus
+    from sharpzone.report.verdicts import measured_blur
+
+    fine = {"blur_focus_px": 0.25, "blur_floor_mm": 0.225, "blur_focus_mm": 0.019, "blur_focus_coc": 0.66}
+    assert _blur_at_focus(fine) == "under 225 µm"
+    assert measured_blur(fine, "focus") == "under 225 µm, the finest this preview shows"
+    coarse = {"blur_focus_px": 12.8, "blur_floor_mm": 0.225, "blur_focus_mm": 0.962, "blur_focus_coc": 33.3}
+    assert _blur_at_focus(coarse) == "962 µm (33.3× CoC)"

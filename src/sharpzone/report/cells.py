@@ -134,9 +134,12 @@ _CSV_SPECIAL = re.compile('[,"\r\n\x00]')
 
 
 def _csv_module_cell(value: Any) -> str:
+    # Told that lines end in "\r\n", the module quotes a cell holding either character
+    # (RFC 4180 2.6). With "\n" it leaves a bare carriage return unquoted, and its own reader
+    # then refuses the file; the lines themselves still end in "\n".
     buffer = io.StringIO()
-    csv.writer(buffer, lineterminator="\n").writerow([value, None])
-    return buffer.getvalue()[:-2]  # the cell, without the empty one after it and the line end
+    csv.writer(buffer, lineterminator="\r\n").writerow([value, None])
+    return buffer.getvalue()[:-3]  # the cell, without the empty one after it and the line end
 
 
 def _csv_cell(value: Any) -> str:

@@ -364,9 +364,12 @@ def _measured(rows) -> bool:
 
 
 def _blur_at_focus(row) -> str:
-    from sharpzone.report.verdicts import blur_size
+    from sharpzone.report.verdicts import measured_blur
 
-    return blur_size(_number(row.get("blur_focus_mm")), _number(row.get("blur_focus_coc")))
+    return measured_blur({key: _number(row.get(key)) for key in _BLUR_AT_FOCUS}, "focus", short=True)
+
+
+_BLUR_AT_FOCUS = ("blur_focus_px", "blur_floor_mm", "blur_focus_mm", "blur_focus_coc")
 
 
 _focal_text = format_focal_length  # as lenses are marked: 35 mm, 4.5 mm
@@ -427,7 +430,8 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, wide: bool = 
 
 
 # Shown wherever measured blur is: what it is and what it is not.
-BLUR_CAUTION = ("Blur is an estimate from a small preview (edge re-blur method of Zhuo & Sim, 2011); "
+BLUR_CAUTION = ("Blur is an estimate from a small preview (the edge methods of Zhuo & Sim, 2011, and Elder & "
+                "Zucker, 1998); "
                 "you decide what to reject — nothing is deleted or written to an image file.")
 
 

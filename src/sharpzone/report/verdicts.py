@@ -295,12 +295,14 @@ def blur_size(value_mm, coc_multiple) -> str:
     return text
 
 
-def _measured(row, which: str) -> str:
-    """The blur at the focus point or the sharpest region, or "under X µm" when the preview
-    cannot resolve finer (which = "focus" or "best")."""
+def measured_blur(row, which: str, *, short: bool = False) -> str:
+    """The blur at the focus point or the sharpest region (which = "focus" or "best"), or
+    "under X µm" when the preview cannot resolve finer: a figure below that would be a
+    precision the preview does not have (``short``: without the reason, for a table)."""
     px, floor_mm = row.get(f"blur_{which}_px"), row.get("blur_floor_mm")
     if px is not None and px == px and floor_mm is not None and floor_mm == floor_mm and px <= PREVIEW_FLOOR_PX:
-        return f"under {floor_mm * 1000:.0f} µm, the finest this preview shows"
+        under = f"under {floor_mm * 1000:.0f} µm"
+        return under if short else f"{under}, the finest this preview shows"
     return blur_size(row.get(f"blur_{which}_mm"), row.get(f"blur_{which}_coc"))
 
 
@@ -330,7 +332,7 @@ def _disagreement(row, dist) -> str:
 def _focus_missed(row, dist) -> str:
     return (f"{blur_size(row.get('blur_focus_mm'), row.get('blur_focus_coc'))} of blur at "
             f"{_focus_point(row)} while the {row.get('blur_where')} is sharp "
-            f"({_measured(row, 'best')}) — the focus landed there"
+            f"({measured_blur(row, 'best')}) — the focus landed there"
             f"{_disagreement(row, dist)}; an estimate from a small preview, you decide what to reject")
 
 
@@ -348,7 +350,7 @@ def _soft_all_over(row, dist) -> str:
 
 
 def _sharp_at_focus(row, dist) -> str:
-    return f"sharp at {_focus_point(row)}: blur {_measured(row, 'focus')}"
+    return f"sharp at {_focus_point(row)}: blur {measured_blur(row, 'focus')}"
 
 
 def _not_measurable(row, dist) -> str:
