@@ -51,16 +51,12 @@ def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: b
 
 
 def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
-    """Write machine output as each chunk of frames is computed.
-
-    What exists before the first chunk (the modules, the catalogue's engine) is kept out of
-    the garbage collector's passes while the frames stream (``gc.freeze``): each chunk makes
-    tens of thousands of tuples, and the collector would otherwise walk every module object
-    again and again (a tenth of ``check --json`` at 300,000 frames). Nothing is kept from being
-    collected that the chunks make."""
-    import gc
+    """Write machine output as each chunk of frames is computed (what exists before the first
+    chunk kept out of the garbage collector's passes, ``collector``: each chunk makes tens
+    of thousands of tuples)."""
     import sys
 
+    from sharpzone.collector import existing_objects_frozen
     from sharpzone.report import frames_render
 
     if json:
@@ -71,12 +67,9 @@ def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
         pieces = frames_render.stream_csv(chunks)
     # JSON comes as UTF-8 for the binary stream; a text-only stdout (a caller's StringIO) gets text.
     text_only = getattr(sys.stdout, "buffer", None) is None
-    gc.freeze()
-    try:
+    with existing_objects_frozen():
         for piece in pieces:
             typer.echo(piece.decode() if text_only and isinstance(piece, bytes) else piece, nl=False)
-    finally:
-        gc.unfreeze()
 
 
 @uses(FILTERS_WITH_VERDICT, JUDGING)

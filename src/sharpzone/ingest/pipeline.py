@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import contextlib
 import functools
-import gc
 import itertools
 import math
 import os
@@ -21,6 +20,7 @@ from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
+from sharpzone.collector import existing_objects_frozen
 from sharpzone.errors import Conflict, Interrupted, InvalidValue
 from sharpzone.ingest.capture import read_capture
 from sharpzone.ingest.distances import lookup_user_distance, read_user_distances
@@ -482,28 +482,22 @@ def ingest_paths(
         shoot_names = _shoot_names(session)
     target = _choose_target(shoot, existing, roots[0], stored, shoot_names)
     summary = IngestSummary(shoot=target.name)
-    plan = _ReadPlan(catalog, roots, stored, user_distances, summary, notify)
+    plan = _ReadPlan(catalog, roots, stored, user_distances, summary)
 
     restore = None
     if threading.current_thread() is threading.main_thread():
         restore = signal.signal(signal.SIGTERM, _on_sigterm)
-    # What is alive now (imported modules, the catalogue's metadata, the frames known) is
-    # left out of the collections the run's many short-lived objects set off: walking it
-    # again and again cost the writing process about a tenth of its time. (Not when the
-    # caller froze objects itself: unfreezing would undo that.)
-    freeze = gc.get_freeze_count() == 0
-    if freeze:
-        gc.freeze()
     try:
-        _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s or TIME_LIMIT_S, batch_size,
-             matcher_factory, notify, prune, shoot_names)
+        # What is alive now (modules, the catalogue's metadata, the frames known) stays out
+        # of the collections the run's many short-lived objects set off.
+        with existing_objects_frozen():
+            _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s or TIME_LIMIT_S, batch_size,
+                 matcher_factory, notify, prune, shoot_names)
     except KeyboardInterrupt:
         raise _interrupted(summary, signal.SIGINT) from None
     except _Stop:
         raise _interrupted(summary, signal.SIGTERM) from None
     finally:
-        if freeze:
-            gc.unfreeze()
         if restore is not None:
             signal.signal(signal.SIGTERM, restore)
     summary.shoot_created = target.created
@@ -600,14 +594,13 @@ class _ReadPlan:
     under another path that still names it (a hard link, a second route) counts once."""
 
     def __init__(self, catalog: Catalog, roots, stored: dict[str, _Stored], user_distances: dict[str, float],
-                 summary: IngestSummary, notify: ProgressCallback) -> None:
+                 summary: IngestSummary) -> None:
         self.catalog = catalog
         self.roots = roots
         self.stored = stored
         self.by_inode = {(s.device, s.inode): path for path, s in stored.items() if s.device is not None}
         self.user_distances = user_distances
         self.summary = summary
-        self.notify = notify
         # Each file to read: its scan entry and its path in printable form.
         self.by_path: dict[str, tuple[CandidateFile, str]] = {}
         self.found: set[str] = set()
