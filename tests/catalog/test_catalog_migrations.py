@@ -37,6 +37,35 @@ def test_quick_head_and_stamp_readers_agree_with_alembic(catalog_url):
     engine.dispose()
 
 
+def _version_table(connection) -> tuple:
+    from sqlalchemy import inspect
+
+    inspector = inspect(connection)
+    columns = [(c["name"], str(c["type"]), c["nullable"]) for c in inspector.get_columns("alembic_version")]
+    key = inspector.get_pk_constraint("alembic_version")
+    rows = connection.execute(text("SELECT version_num FROM alembic_version")).scalars().all()
+    return columns, key["constrained_columns"], key.get("name"), rows
+
+
+def test_our_stamp_writes_the_version_table_as_alembic_stamp_does(catalog_url):
+    # A new catalogue is stamped without loading Alembic; the reference is Alembic's own
+    # ``stamp`` command on the same kind of database.
+    from alembic import command
+
+    engine = create_engine(catalog_url)
+    with engine.begin() as connection:
+        config = migrate.alembic_config()
+        config.attributes["connection"] = connection
+        command.stamp(config, "head")
+        by_alembic = _version_table(connection)
+        connection.execute(text("DROP TABLE alembic_version"))
+        migrate.stamp_head(connection)
+        ours = _version_table(connection)
+    engine.dispose()
+    assert by_alembic[3] == ["0005"]
+    assert ours == by_alembic
+
+
 def test_migrations_are_found_inside_the_package():
     folder = migrate.migrations_folder()
     assert (folder / "env.py").is_file()

@@ -111,14 +111,22 @@ def create_at_head(connection: Connection) -> None:
     """Create every table of an empty database from the models and stamp it with the
     newest revision: the same schema the revisions build one by one (a test compares the
     two), without copying each table once per SQLite batch step."""
-    from alembic import command
-
     from sharpzone.catalog.models import Base
 
     Base.metadata.create_all(connection)
-    config = alembic_config()
-    config.attributes["connection"] = connection
-    command.stamp(config, "head")
+    stamp_head(connection)
+
+
+def stamp_head(connection: Connection) -> None:
+    """Stamp a database that has no revision yet with ``head_revision()``, writing Alembic's
+    one-row version table as ``alembic stamp`` does (a test compares the two), without
+    loading Alembic: that costs a new catalogue's first command about 0.15 s."""
+    from sqlalchemy import Column, MetaData, PrimaryKeyConstraint, String, Table
+
+    table = Table("alembic_version", MetaData(), Column("version_num", String(32), nullable=False),
+                  PrimaryKeyConstraint("version_num", name="alembic_version_pkc"))
+    table.create(connection)
+    connection.execute(table.insert().values(version_num=head_revision()))
 
 
 def upgrade(url: str, revision: str = "head") -> None:
