@@ -301,3 +301,80 @@ def test_the_progress_bar_knows_its_total_early_on_a_large_card(tmp_path, writte
     totals = [total for stage, done, total in calls if stage == "read" and done]
     assert len(totals) >= count // pipeline.PROGRESS_EVERY
     assert totals == [count] * len(totals)
+
+
+def _forced_early(monkeypatch):
+    """Make ``ingest_paths` given a location` read before the catalogue opens whatever the catalogue holds, and
+    count the hand-overs (so a test knows the early path ran)."""
+    from sharpzone.catalog import peek
+    from sharpzone.ingest import pipeline
+
+    monkeypatch.setattr(peek, "may_hold_frames_under", lambda url, roots, head: False)
+    handed = []
+    original = pipeline._ReadAhead.hand_over
+    monkeypatch.setattr(pipeline._ReadAhead, "hand_over",
+                        lambda self, plan: (handed.append((plan, len(self._taken))), original(self, plan)))
+    return handed  # (the plan, the walk's events taken before it) per hand-over
+
+
+def test_files_read_before_the_catalogue_opens_are_filed_once_and_unchanged_ones_dropped(
+        shoot_tree, tmp_path, monkeypatch):
+    
+    url = str(tmp_path / "early.sqlite")
+    handed = _forced_early(monkeypatch)
+    first = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=2)
+    # Read again before the catalogue said they were known: every result is dropped.
+    second = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=2)
+    assert len(handed) == 2
+    assert (first.added, first.updated, first.unchanged, first.ignored) == (GOOD, 0, 0, 1)
+    assert {os.path.basename(path) for path, _ in first.failed} == {
+        "empty.jpg", "random.jpg", "truncated.jpg", "broken.dng", "loop"}
+    assert (second.added, second.updated, second.unchanged) == (0, 0, GOOD)
+    assert _counts(f"sqlite:///{url}") == (GOOD, 5)
+
+
+def test_the_walk_goes_on_under_the_plan_when_the_early_reads_fill_up(tmp_path, written, monkeypatch):
+    """A card larger than what is read ahead: the readers stop drawing from the walk while
+    the results wait, the plan takes over the walk mid-way, and each file is filed once."""
+    from sharpzone.ingest import workers
+    
+    monkeypatch.setattr(workers, "READ_AHEAD", workers.RESULT_BATCH)  # one list waits at most
+    handed = _forced_early(monkeypatch)
+    count = 700  # beyond two workers' queues and the one waiting list
+    picture = jpeg(exif_block())
+    for number in range(count):
+        written(f"W{number:03d}.JPG", picture, tmp_path / "big")
+    calls = []
+    url = str(tmp_path / "big.sqlite")
+    summary = ingest_paths(url, [tmp_path / "big"], jobs=2, progress=lambda *call: calls.append(call))
+    (plan, walked_before), = handed
+    assert walked_before < count and len(plan.by_path) == count
+    assert (summary.added, summary.unchanged) == (count, 0)
+    assert _counts(f"sqlite:///{url}") == (count, 0)
+    assert [(done, total) for stage, done, total in calls if stage == "read"][-1] == (count, count)
+    again = ingest_paths(url, [tmp_path / "big"], jobs=2)
+    assert (again.added, again.updated, again.unchanged) == (0, 0, count)
+
+
+def test_a_catalogue_that_fails_to_open_stops_the_early_readers(shoot_tree, tmp_path, monkeypatch):
+    import multiprocessing
+
+    from sharpzone.errors import CatalogError
+    
+    _forced_early(monkeypatch)
+    junk = tmp_path / "junk.sqlite"
+    junk.write_bytes(b"not a database at all" * 200)
+    with pytest.raises(CatalogError):
+        ingest_paths(str(junk), [shoot_tree], jobs=2)
+    assert multiprocessing.active_children() == []
+
+
+def test_a_rescan_through_ingest_into_opens_no_file(shoot_tree, tmp_path, monkeypatch):
+    """The catalogue holds the card: it is opened first, and no unchanged file is read."""
+    from sharpzone.ingest import pipeline
+    
+    url = str(tmp_path / "rescan.sqlite")
+    ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=1)
+    monkeypatch.setattr(pipeline, "_ReadAhead", None)  # any early read would fail loudly
+    again = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=1)
+    assert (again.added, again.updated, again.unchanged) == (0, 0, GOOD)

@@ -153,7 +153,9 @@ def prepare_catalog(url: str) -> PreparedCatalog:
       catalogue as it was and removes the backup it made (so attempts add no copies).
     """
     head = head_revision()
-    if _sqlite_stamp(url) == head:  # the usual case, asked of the file without SQLAlchemy
+    from sharpzone.catalog.peek import stamped_revision
+
+    if stamped_revision(url) == head:  # the usual case, asked of the file without SQLAlchemy
         return PreparedCatalog(revision=head)
     from sqlalchemy import inspect
     from sqlalchemy.exc import DBAPIError, IntegrityError
@@ -217,30 +219,6 @@ def prepare_catalog(url: str) -> PreparedCatalog:
         raise translate_database_error(error, url) from error
     finally:
         engine.dispose()
-
-
-def _sqlite_stamp(url: str) -> str | None:
-    """The revision stamped in an existing SQLite catalogue file, read with ``sqlite3``
-    alone (one query, read-only); ``None`` when it is not that simple (another database, no
-    file, no stamp, several, or any error), and the full path decides. Opened read-write
-    (never created: ``mode=rw``) so that closing the last connection removes a WAL
-    catalogue's journal files as SQLAlchemy's connections do; it only reads."""
-    path = sqlite_path(url) if url.startswith("sqlite") else None
-    if path is None or not path.is_file():
-        return None
-    from urllib.parse import quote
-
-    try:
-        connection = sqlite3.connect(f"file:{quote(str(path.resolve()))}?mode=rw", uri=True)
-    except (sqlite3.Error, OSError):
-        return None
-    try:
-        stamped = connection.execute("SELECT version_num FROM alembic_version").fetchall()
-    except sqlite3.Error:
-        return None
-    finally:
-        connection.close()
-    return stamped[0][0] if len(stamped) == 1 else None
 
 
 # Any fixed number will do: it names the lock that programs creating or upgrading one

@@ -32,15 +32,16 @@ def ingest(
     Focus distance: the --distances CSV, else EXIF SubjectDistance, else the camera's maker
     note (with its bracket), else an XMP sidecar. Ctrl-C stops in order: what was saved is
     kept, and the same command finishes the job."""
-    from sharpzone.catalog.engine import open_catalog
+    from sharpzone.catalog.location import display_url, resolve_catalog_url
     from sharpzone.ingest.pipeline import ingest_paths
     from sharpzone.report.ingest_render import ingest_json, ingest_progress, render_ingest
 
     show_progress = not json and sys.stderr.isatty()
-    with open_catalog(catalog_location(ctx)) as catalog, ingest_progress(show_progress) as progress:
-        summary = ingest_paths(catalog, [str(p) for p in paths], shoot=shoot, jobs=jobs,
+    location = catalog_location(ctx)
+    with ingest_progress(show_progress) as progress:
+        summary = ingest_paths(location, [str(p) for p in paths], shoot=shoot, jobs=jobs,
                                distances_csv=distances, prune=prune, progress=progress)
-        where = catalog.display_url
+    where = display_url(resolve_catalog_url(location))
     if json:
         echo_json(ingest_json(summary, where))
     else:

@@ -26,7 +26,7 @@ from sharpzone.ingest.capture import read_capture
 from sharpzone.ingest.distances import lookup_user_distance, read_user_distances
 from sharpzone.ingest.records import CaptureRecord, ReadProblem, printable_path
 from sharpzone.ingest.scan import CandidateFile, iter_scan
-from sharpzone.ingest.workers import TIME_LIMIT_S, Reader, ReaderPool
+from sharpzone.ingest.workers import TIME_LIMIT_S, BackgroundReads, Reader, ReaderPool
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -151,24 +151,40 @@ class _Target:
         return self.id
 
 
-def _read_all(tasks: Iterable[tuple[str, float | None]], jobs: int, reader: Reader,
-              time_limit_s: float) -> Iterator[CaptureRecord | ReadProblem]:
-    """Read files in contained worker processes (see ``ingest.workers``); results in any order.
+class _Reads:
+    """Files being read in contained worker processes (see ``ingest.workers``), started at
+    once: the reading goes on in the background while the caller does other work. Iterate
+    for the results (in any order); as a context manager, leaving stops the readers (at
+    once after an error or an interrupt).
 
     ``tasks`` may be a generator (the scan): it is drawn from as workers have room, so
     walking the folders overlaps with reading.
     """
-    tasks = iter(tasks)
-    head = list(itertools.islice(tasks, POOL_THRESHOLD))
-    if not head:
-        return
-    workers = jobs if len(head) >= POOL_THRESHOLD else 1
-    with ReaderPool(reader, workers, time_limit_s=time_limit_s) as pool:
-        results = pool.read_in_background(itertools.chain(head, tasks))
+
+    def __init__(self, tasks: Iterable[tuple[str, float | None]], jobs: int, reader: Reader,
+                 time_limit_s: float) -> None:
+        tasks = iter(tasks)
+        head = list(itertools.islice(tasks, POOL_THRESHOLD))
+        self._stack = contextlib.ExitStack()
+        self._results: Iterable[CaptureRecord | ReadProblem] = ()
+        if not head:
+            return
+        workers = jobs if len(head) >= POOL_THRESHOLD else 1
         try:
-            yield from results
-        finally:
-            results.close()
+            pool = self._stack.enter_context(ReaderPool(reader, workers, time_limit_s=time_limit_s))
+            self._results = self._stack.enter_context(BackgroundReads(pool, itertools.chain(head, tasks)))
+        except BaseException:
+            self._stack.close()
+            raise
+
+    def __iter__(self) -> Iterator[CaptureRecord | ReadProblem]:
+        return iter(self._results)
+
+    def __enter__(self) -> _Reads:
+        return self
+
+    def __exit__(self, *exc_info) -> None:
+        self._stack.__exit__(*exc_info)
 
 
 # The frame columns an ingest writes, in the order ``_frame_values`` gives them (the
@@ -427,7 +443,7 @@ def _on_sigterm(signal_number, frame) -> None:
 
 
 def ingest_paths(
-    catalog: Catalog,
+    catalog: Catalog | str | os.PathLike | None,
     paths: Sequence[str | os.PathLike],
     *,
     shoot: str | None = None,
@@ -441,6 +457,15 @@ def ingest_paths(
     time_limit_s: float | None = None,
 ) -> IngestSummary:
     """Ingest the image files under ``paths`` into ``catalog`` as shoot ``shoot``.
+
+    ``catalog`` is an open ``Catalog``, or where one is (a file path or URL; ``None``:
+    ``SHARPZONE_CATALOG`` or the default file), which is then opened as ``open_catalog``
+    opens it: created at the newest schema if new, upgraded if older (what ``sharpzone
+    ingest`` does). Opened here, a catalogue that cannot hold any of these files yet (a
+    SQLite catalogue that is new, or holds no frame under ``paths``:
+    ``catalog.peek.may_hold_frames_under``) has the readers start on the files while it
+    opens, which takes a few tenths of a second; elsewhere (a rescan, a server database) it
+    is opened first, so no unchanged file is read.
 
     Without ``shoot``, new frames join the shoot that the frames already catalogued under
     ``paths`` belong to, else a shoot named after the first folder; frames of other shoots
@@ -456,6 +481,33 @@ def ingest_paths(
     Ctrl-C or SIGTERM stops the run in order: workers are shut down, finished batches are
     kept, and ``Interrupted`` says how many frames were saved (exit code 130 / 143).
     """
+    from sharpzone.catalog.engine import Catalog, open_catalog
+
+    if isinstance(catalog, Catalog):
+        opening, read_early = contextlib.nullcontext(catalog), None
+    else:
+        from sharpzone.catalog.location import resolve_catalog_url
+        from sharpzone.catalog.migrate import head_revision
+        from sharpzone.catalog.peek import may_hold_frames_under
+
+        url = resolve_catalog_url(catalog)
+        opening = open_catalog(catalog)
+
+        def read_early(roots: list[str]) -> bool:
+            return not may_hold_frames_under(url, roots, head_revision())
+
+    return _ingest(opening, read_early, paths, shoot=shoot, jobs=jobs, distances_csv=distances_csv, prune=prune,
+                   batch_size=batch_size, progress=progress, matcher_factory=matcher_factory, reader=reader,
+                   time_limit_s=time_limit_s)
+
+
+def _ingest(opening: contextlib.AbstractContextManager[Catalog], read_early: Callable[[list[str]], bool] | None,
+            paths: Sequence[str | os.PathLike], *, shoot: str | None, jobs: int | None,
+            distances_csv: str | os.PathLike | None, prune: bool, batch_size: int | None,
+            progress: ProgressCallback | None, matcher_factory, reader: Reader | None,
+            time_limit_s: float | None) -> IngestSummary:
+    """The ingest, with the catalogue opened by ``opening``; ``read_early(roots)`` says
+    whether the readers may start before it is open (nothing under ``roots`` is catalogued)."""
     from sharpzone.ingest.match import CatalogMatcher, MatchMemory
 
     started = time.perf_counter()
@@ -467,6 +519,7 @@ def ingest_paths(
     batch_size = batch_size or BATCH_SIZE
     matcher_factory = matcher_factory or functools.partial(CatalogMatcher, memory=MatchMemory())
     reader = reader or read_capture
+    time_limit_s = time_limit_s or TIME_LIMIT_S
     given = [os.path.abspath(os.fsdecode(p)) for p in paths]
     existing = [path for path in given if os.path.lexists(path)]
     if not existing:
@@ -474,25 +527,37 @@ def ingest_paths(
         raise InvalidValue(f"nothing to ingest: {shown} does not exist" if len(given) == 1
                            else f"nothing to ingest: none of {shown} exists")
     roots = [os.path.realpath(path) for path in given]
+    shown_roots = [printable_path(r) for r in roots]
     user_distances = read_user_distances(distances_csv) if distances_csv else {}
     notify = progress or (lambda stage, done, total: None)
+    scan = iter_scan(roots, sniff=False)
 
-    with catalog.session_scope() as session:
-        stored = _stored_frames(session, [printable_path(r) for r in roots])
-        shoot_names = _shoot_names(session)
-    target = _choose_target(shoot, existing, roots[0], stored, shoot_names)
-    summary = IngestSummary(shoot=target.name)
-    plan = _ReadPlan(catalog, roots, stored, user_distances, summary)
-
+    summary = None
     restore = None
     if threading.current_thread() is threading.main_thread():
         restore = signal.signal(signal.SIGTERM, _on_sigterm)
     try:
-        # What is alive now (modules, the catalogue's metadata, the frames known) stays out
-        # of the collections the run's many short-lived objects set off.
-        with existing_objects_frozen():
-            _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s or TIME_LIMIT_S, batch_size,
-                 matcher_factory, notify, prune, shoot_names)
+        with contextlib.ExitStack() as stack:
+            ahead = None
+            if read_early is not None and read_early(shown_roots):
+                ahead = _ReadAhead(scan, user_distances)
+                reads = stack.enter_context(_Reads(ahead.tasks(), jobs, reader, time_limit_s))
+            catalog = stack.enter_context(opening)
+            with catalog.session_scope() as session:
+                stored = _stored_frames(session, shown_roots)
+                shoot_names = _shoot_names(session)
+            target = _choose_target(shoot, existing, roots[0], stored, shoot_names)
+            summary = IngestSummary(shoot=target.name)
+            plan = _ReadPlan(catalog, roots, stored, user_distances, summary)
+            if ahead is not None:
+                ahead.hand_over(plan)
+            else:
+                reads = stack.enter_context(_Reads(plan.files_to_read(scan), jobs, reader, time_limit_s))
+            # What is alive now (modules, the catalogue's metadata, the frames known) stays out
+            # of the collections the run's many short-lived objects set off.
+            with existing_objects_frozen():
+                _run(catalog, plan, reads, target, stored, summary, batch_size, matcher_factory, notify, prune,
+                     shoot_names)
     except KeyboardInterrupt:
         raise _interrupted(summary, signal.SIGINT) from None
     except _Stop:
@@ -505,8 +570,8 @@ def ingest_paths(
     return summary
 
 
-def _interrupted(summary: IngestSummary, signal_number: int) -> Interrupted:
-    saved = summary.saved
+def _interrupted(summary: IngestSummary | None, signal_number: int) -> Interrupted:
+    saved = summary.saved if summary is not None else 0
     frames = "1 frame" if saved == 1 else f"{saved:,} frames"
     return Interrupted(f"interrupted: {frames} saved; run the same command again to finish",
                        signal_number=signal_number)
@@ -528,25 +593,24 @@ def _choose_target(shoot: str | None, existing: list[str], root: str, stored: di
     return _Target(default_shoot_name(existing), root, None, explicit=False)
 
 
-def _run(catalog, plan, target, stored, summary, jobs, reader, time_limit_s, batch_size, matcher_factory, notify,
-         prune, shoot_names) -> None:
-    """scan → read → match → persist: the scan feeds the readers as it walks, and results
-    are written in batches as they come back."""
+def _run(catalog, plan, reads, target, stored, summary, batch_size, matcher_factory, notify, prune,
+         shoot_names) -> None:
+    """read → match → persist: the scan feeds the readers as it walks (``reads``), and
+    results are written in batches as they come back."""
     by_path: dict[str, tuple[CandidateFile, str]] = plan.by_path
     batch: list[tuple[CaptureRecord | ReadProblem, CandidateFile, str]] = []
     done = 0
-    results = _read_all(plan.files_to_read(), jobs, reader, time_limit_s)
-    try:
-        for result in results:
-            batch.append((result, *by_path[result.path]))
-            done += 1
-            if len(batch) >= batch_size:
-                _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
-                batch = []
-            if not done % PROGRESS_EVERY:
-                notify("read", done, plan.total_to_read)
-    finally:
-        results.close()
+    for result in reads:
+        entry = by_path.get(result.path)
+        if entry is None:
+            continue  # read before the catalogue was open, and found unchanged there
+        batch.append((result, *entry))
+        done += 1
+        if len(batch) >= batch_size:
+            _persist_batch(catalog, batch, target, stored, matcher_factory, summary, plan.found)
+            batch = []
+        if not done % PROGRESS_EVERY:
+            notify("read", done, plan.total_to_read)
     if done % PROGRESS_EVERY:
         notify("read", done, plan.total_to_read)
     if batch:
@@ -608,6 +672,7 @@ class _ReadPlan:
         self.scan_problems: list[ReadProblem] = []
         self.distance_changes: list[tuple[str, float]] = []
         self.total_to_read: int | None = None
+        self.to_read = 0  # files found that must be read
         self._prefixes = tuple(printable_path(root).rstrip(os.sep) + os.sep for root in roots)
 
     def _lookup(self, shown: str, candidate: CandidateFile) -> tuple[str, _Stored | None]:
@@ -628,38 +693,93 @@ class _ReadPlan:
             return shown, self.stored.get(shown)
         return shown, None
 
-    def files_to_read(self) -> Iterator[tuple[str, float | None]]:
-        """The files to read, as (path, user distance). The first ``WALK_AHEAD_AFTER`` go to
-        the readers as the walk finds them; then the walk is finished before the rest are
-        handed out, so the progress bar has its total (and a time left) early on."""
-        count = 0
+    def consider(self, event) -> tuple[str, float | None] | None:
+        """Note one event of the walk; the task (path, user distance) if the file must be read."""
+        if isinstance(event, ReadProblem):
+            self.scan_problems.append(event)
+            return None
+        if not isinstance(event, CandidateFile):
+            self.summary.ignored += 1
+            return None
+        printed = printable_path(event.path)
+        shown, before = self._lookup(printed, event)
+        self.found.add(shown)
+        if before is not None:
+            self.known_paths.append(shown)
+        user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
+        if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
+            self.summary.unchanged += 1
+            if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
+                self.distance_changes.append((shown, user_mm))
+            return None
+        self.by_path[event.path] = (event, printed)
+        self.to_read += 1
+        return event.path, user_mm
+
+    def files_to_read(self, events: Iterable) -> Iterator[tuple[str, float | None]]:
+        """The files to read among the walk's ``events``, as (path, user distance). Up to
+        ``WALK_AHEAD_AFTER`` (counting those already considered) go to the readers as the walk
+        finds them; then the walk is finished before the rest are handed out, so the
+        progress bar has its total (and a time left) early on."""
         later: list[tuple[str, float | None]] = []
-        for event in iter_scan(self.roots, sniff=False):
-            if isinstance(event, ReadProblem):
-                self.scan_problems.append(event)
+        for event in events:
+            task = self.consider(event)
+            if task is None:
                 continue
-            if not isinstance(event, CandidateFile):
-                self.summary.ignored += 1
-                continue
-            printed = printable_path(event.path)
-            shown, before = self._lookup(printed, event)
-            self.found.add(shown)
-            if before is not None:
-                self.known_paths.append(shown)
-            user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
-            if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
-                self.summary.unchanged += 1
-                if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
-                    self.distance_changes.append((shown, user_mm))
-                continue
-            self.by_path[event.path] = (event, printed)
-            count += 1
-            if count <= WALK_AHEAD_AFTER:
-                yield event.path, user_mm
+            if self.to_read <= WALK_AHEAD_AFTER:
+                yield task
             else:
-                later.append((event.path, user_mm))
-        self.total_to_read = count
+                later.append(task)
+        self.total_to_read = self.to_read
         yield from later
+
+
+class _ReadAhead:
+    """The first part of the walk, read before the catalogue is open (nothing under the
+    folders is catalogued yet, so every file found will be read): each file goes to the
+    readers as the walk finds it. ``hand_over`` gives the plan the events walked so far, and
+    the rest of the walk to draw from, so each file is walked and read once."""
+
+    def __init__(self, scan: Iterator, user_distances: dict[str, float]) -> None:
+        self._scan = scan
+        self._user_distances = user_distances
+        self._lock = threading.Lock()  # the readers' thread walks, the caller's hands over
+        self._taken: list = []
+        self._plan: _ReadPlan | None = None
+
+    def tasks(self) -> Iterator[tuple[str, float | None]]:
+        for event in self._scan:
+            with self._lock:
+                plan = self._plan
+                if plan is None:
+                    self._taken.append(event)
+            if plan is not None:
+                yield from plan.files_to_read(itertools.chain((event,), self._scan))
+                return
+            if isinstance(event, CandidateFile):
+                user_mm = (lookup_user_distance(self._user_distances, event.path) if self._user_distances
+                           else None)
+                yield event.path, user_mm
+        with self._lock:
+            self._taken.append(_WALKED)
+            plan = self._plan
+        if plan is not None:  # the walk ended after the hand-over, with no event left
+            plan.total_to_read = plan.to_read
+
+    def hand_over(self, plan: _ReadPlan) -> None:
+        """From now on ``plan`` decides what is read; the files already sent are its own
+        (those it finds unchanged in the catalogue are dropped as they come back)."""
+        with self._lock:
+            for event in self._taken:
+                if event is _WALKED:
+                    plan.total_to_read = plan.to_read
+                else:
+                    plan.consider(event)
+            self._taken = []
+            self._plan = plan
+
+
+_WALKED = object()  # the walk's end, as _ReadAhead notes it
 
 
 def _same(a: float | None, b: float | None) -> bool:

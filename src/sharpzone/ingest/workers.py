@@ -49,8 +49,9 @@ TIME_LIMIT_S = 30.0
 # background reader checks whether it is asked to stop.
 PARENT_CHECK_S = 1.0
 STOP_CHECK_S = 0.1
-# Results read ahead of the consumer at most (memory stays flat however slow it is).
-READ_AHEAD = 2048
+# Results read ahead of the consumer at most (memory stays flat however slow it is): about
+# what two workers read while an ingest opens its catalogue, a few MB.
+READ_AHEAD = 4096
 METADATA_READER = "the metadata reader"
 PICTURE_DECODER = "the picture decoder"
 
@@ -238,46 +239,13 @@ class ContainedPool:
     def read_in_background(self, tasks: Iterable[Task]) -> Iterator:
         """``read`` driven by a thread of its own, so the workers keep reading while the
         caller is busy with what came back (writing a batch to the catalogue). The caller
-        should close this generator (``contextlib.closing``) when it stops early."""
-        # Answers go across in the lists they came in: one hand-over per list, not per file.
-        results: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
-        stop = threading.Event()
-
-        def put(item) -> bool:
-            while not stop.is_set():
-                try:
-                    results.put(item, timeout=STOP_CHECK_S)
-                    return True
-                except queue.Full:
-                    continue
-            return False
-
-        def run() -> None:
-            try:
-                for answers in self._read_lists(tasks, stop=stop):
-                    if not put(answers):
-                        return
-                put(_DONE)
-            except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
-                put(_Failed(error))
-
-        # The workers are forked here, before the thread starts: a fork while another thread
-        # of this process runs could copy a lock that thread holds. (A replacement for a
-        # worker that died is forked from the thread, into a child that runs only the job.)
-        self._start_workers()
-        thread = threading.Thread(target=run, name="sharpzone-readers", daemon=True)
-        thread.start()
+        should close this generator (``contextlib.closing``) when it stops early. (The
+        workers start at the first ``next``; ``BackgroundReads`` starts them at once.)"""
+        reads = BackgroundReads(self, tasks)
         try:
-            while True:
-                item = results.get()
-                if item is _DONE:
-                    return
-                if isinstance(item, _Failed):
-                    raise item.error
-                yield from item
+            yield from reads
         finally:
-            stop.set()
-            thread.join()
+            reads.close()
 
     def _start_workers(self) -> None:
         if not self._workers:
@@ -368,6 +336,65 @@ class ContainedPool:
         self._workers[self._workers.index(worker)] = _Worker(self._context, self._job)
         self.replaced += 1
         yield [self._job.problem(culprit, reason)]
+
+
+class BackgroundReads:
+    """``pool.read(tasks)`` started at once and driven by a thread of its own: the workers
+    read while the caller does other work (opens the catalogue, writes a batch). Iterate for
+    the results (each once, in any order); ``close`` stops the thread (call it, or use the
+    object as a context manager, also when stopping early). Results wait in a bounded queue
+    (``READ_AHEAD``), so memory stays flat however long the caller is away."""
+
+    def __init__(self, pool: ContainedPool, tasks: Iterable[Task]) -> None:
+        # Answers go across in the lists they came in: one hand-over per list, not per file.
+        self._results: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
+        self._stop = threading.Event()
+        self._finished = False
+        # The workers are forked here, before the thread starts: a fork while another thread
+        # of this process runs could copy a lock that thread holds. (A replacement for a
+        # worker that died is forked from the thread, into a child that runs only the job.)
+        pool._start_workers()
+        self._thread = threading.Thread(target=self._run, args=(pool, tasks), name="sharpzone-readers",
+                                        daemon=True)
+        self._thread.start()
+
+    def _put(self, item) -> bool:
+        while not self._stop.is_set():
+            try:
+                self._results.put(item, timeout=STOP_CHECK_S)
+                return True
+            except queue.Full:
+                continue
+        return False
+
+    def _run(self, pool: ContainedPool, tasks: Iterable[Task]) -> None:
+        try:
+            for answers in pool._read_lists(tasks, stop=self._stop):
+                if not self._put(answers):
+                    return
+            self._put(_DONE)
+        except BaseException as error:  # noqa: BLE001 - handed to the caller's thread
+            self._put(_Failed(error))
+
+    def __iter__(self) -> Iterator:
+        while not self._finished:
+            item = self._results.get()
+            if item is _DONE:
+                self._finished = True
+                return
+            if isinstance(item, _Failed):
+                raise item.error
+            yield from item
+
+    def close(self) -> None:
+        self._stop.set()
+        self._thread.join()
+
+    def __enter__(self) -> BackgroundReads:
+        return self
+
+    def __exit__(self, *exc_info) -> None:
+        self.close()
 
 
 class ReaderPool(ContainedPool):
