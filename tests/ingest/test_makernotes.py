@@ -247,3 +247,33 @@ def test_cr3_raw_gives_its_tags_and_the_bracket(written):
     assert (record.exif_make, record.f_number, record.focal_mm) == ("Canon", pytest.approx(5.6), 35.0)
     assert (record.focus_near_mm, record.focus_far_mm) == (pytest.approx(2400.0), pytest.approx(2500.0))
     assert record.focus_source == "makernote"
+
+
+# --- the reader's inline fast path reads every tag as its general path does ----------------
+
+@pytest.mark.parametrize("make_model", [makernotes.CANON, makernotes.NIKON, makernotes.SONY, makernotes.PANASONIC,
+                                        makernotes.OLYMPUS, makernotes.FUJIFILM, makernotes.PENTAX])
+def test_each_tag_is_read_as_the_general_path_reads_it(written, make_model):
+    # Text, whole numbers and single rationals are read inline; everything goes through
+    # _plain_value too here, on the first entry of each key, as the reader keeps it.
+    from sharpzone.ingest.readers import exiv2_reader
+
+    extra = makernotes.nikon_lens_data("0204", 80) if make_model == makernotes.NIKON else {}
+    path = written("frame.jpg", makernotes.makernote_jpeg(make_model, extra, exif=images.exif_block(
+        # Infinity (CIPA DC-008 SubjectDistance 0xFFFFFFFF/1) and an unknown 0/0 ApertureValue.
+        subject_distance=(0xFFFFFFFF, 1), extra_exif={0x9214: (1000, 800, 200, 100), 0x9202: (0, 0)})))
+    image = exiv2.ImageFactory.open(path)
+    image.readMetadata()
+    data = image.exifData()
+    tags = exiv2_reader._tags(exiv2, data, False)
+    types = exiv2_reader._type_table()
+    first = {}
+    for datum in data:
+        first.setdefault(datum.key(), exiv2_reader._plain_value(datum, types))
+    read = {key: value for key, value in tags.items() if not key.endswith(fields.PRINTED)}
+    assert len(read) >= 15
+    assert read == {key: first[key] for key in read}
+    kinds = {type(value) for value in read.values()}
+    assert {str, int, float, tuple} <= kinds
+    assert read["Exif.Photo.SubjectDistance"] == math.inf
+    assert first["Exif.Photo.ApertureValue"] is None and "Exif.Photo.ApertureValue" not in tags

@@ -224,8 +224,8 @@ class _ScriptedReader:
     result: object
     calls: list = dataclasses.field(default_factory=list)
 
-    def read(self, path):
-        self.calls.append(path)
+    def read(self, path, *, checked=False):
+        self.calls.append((path, checked))
         if isinstance(self.result, Exception):
             raise self.result
         return self.result
@@ -247,6 +247,19 @@ def test_damage_found_by_the_budget_is_final(written):
     with pytest.raises(FileReadError):
         read_tags(path, (damaged, second))
     assert second.calls == []
+
+
+def test_read_tags_checks_the_budget_once_itself_before_any_reader(written):
+    # The shared check runs on the open that sniffs the kind; the readers are told so, and
+    # a crafted directory never reaches one.
+    crafted = written("crafted.jpg", _jpeg_with_tiff(tiffbuild.crafted_directory_tiff()))
+    sound = written("sound.jpg", images.jpeg(images.exif_block()))
+    reader = _ScriptedReader("any", frozenset({"jpeg"}), {"Exif.Image.Make": "Korvath"})
+    with pytest.raises(FileReadError) as caught:
+        read_tags(crafted, (reader,))
+    assert caught.value.reason == CRAFTED_REASON and reader.calls == []
+    assert read_tags(sound, (reader,)) == {"Exif.Image.Make": "Korvath"}
+    assert reader.calls == [(sound, True)]
 
 
 def test_no_reader_for_the_kind(written):

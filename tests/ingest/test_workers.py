@@ -10,7 +10,7 @@ import pytest
 from sharpzone.catalog.engine import open_catalog, session_scope
 from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
-from sharpzone.ingest.workers import ReaderPool, timed_out
+from sharpzone.ingest.workers import BackgroundReads, ReaderPool, timed_out
 from tests.ingest.images import exif_block, jpeg
 from tests.ingest.readers import misbehaving_reader
 
@@ -51,7 +51,8 @@ def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written
     tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
     for depth in (4, 64, 128):
         with ReaderPool(misbehaving_reader, 2, depth=depth) as pool:
-            results = list(pool.read_in_background(tasks))
+            with BackgroundReads(pool, tasks) as reads:
+                results = list(reads)
             assert pool.replaced == 6
         assert sorted(result.path for result in results) == sorted(path for path, _ in tasks)
         crashed = [os.path.basename(r.path) for r in results if getattr(r, "reason", None) == CRASHED]

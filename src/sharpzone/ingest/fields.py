@@ -273,7 +273,10 @@ _UNKNOWN_LENS = re.compile(r"^\(?-?\d+\)?$|unknown|^n/?a$|^none$|^----", re.IGNO
 def lens_names(tags: dict) -> tuple[str, ...]:
     """The lens names the maker note's lens id may mean, best first ("A or B" → (A, B))."""
     for key in LENS_NAME_KEYS:
-        text = text_value(tags.get(key))
+        value = tags.get(key)
+        if value is None:  # the usual case: a file has one of these keys at most
+            continue
+        text = text_value(value)
         if text is None or _UNKNOWN_LENS.search(text):
             continue
         names = tuple(name.strip() for name in text.split(" or ") if name.strip())
@@ -401,7 +404,8 @@ def sensor_size_mm(tags: dict, width_px: int | None, height_px: int | None) -> t
 AF_AREA_GROUPS = ("Exif.NikonAf2", "Exif.NikonAf22")
 _AF_AREA_NAMES = ("AFImageWidth", "AFImageHeight", "AFAreaXPosition", "AFAreaYPosition", "AFAreaWidth",
                   "AFAreaHeight")
-AF_AREA_KEYS = tuple(f"{group}.{name}" for group in AF_AREA_GROUPS for name in _AF_AREA_NAMES)
+_AF_AREA_KEYS_BY_GROUP = {group: tuple(f"{group}.{name}" for name in _AF_AREA_NAMES) for group in AF_AREA_GROUPS}
+AF_AREA_KEYS = tuple(key for keys in _AF_AREA_KEYS_BY_GROUP.values() for key in keys)
 
 
 def focus_point(tags: dict, width_px: int | None, height_px: int | None):
@@ -418,8 +422,10 @@ def focus_point(tags: dict, width_px: int | None, height_px: int | None):
                 continue
             return (area[0] / width_px, area[1] / height_px, min(area[2] / width_px, 1.0),
                     min(area[3] / height_px, 1.0)), key
-    for group in AF_AREA_GROUPS:
-        frame_w, frame_h, x, y, w, h = (number(tags.get(f"{group}.{name}")) for name in _AF_AREA_NAMES)
+    for group, keys in _AF_AREA_KEYS_BY_GROUP.items():
+        if keys[0] not in tags:  # no such block in this file (the usual case)
+            continue
+        frame_w, frame_h, x, y, w, h = (number(tags.get(key)) for key in keys)
         if not (frame_w and frame_h and x and y) or x > frame_w or y > frame_h:
             continue  # 0 = no area recorded (e.g. phase-detect frames)
         w, h = w or 0.0, h or 0.0

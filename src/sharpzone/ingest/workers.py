@@ -236,17 +236,6 @@ class ContainedPool:
         for worker in workers:
             worker.stop(at_once=at_once)
 
-    def read_in_background(self, tasks: Iterable[Task]) -> Iterator:
-        """``read`` driven by a thread of its own, so the workers keep reading while the
-        caller is busy with what came back (writing a batch to the catalogue). The caller
-        should close this generator (``contextlib.closing``) when it stops early. (The
-        workers start at the first ``next``; ``BackgroundReads`` starts them at once.)"""
-        reads = BackgroundReads(self, tasks)
-        try:
-            yield from reads
-        finally:
-            reads.close()
-
     def _start_workers(self) -> None:
         if not self._workers:
             self._workers = [_Worker(self._context, self._job) for _ in range(self.size)]

@@ -39,8 +39,9 @@ class Reader(Protocol):
     name: str
     kinds: frozenset[str]
 
-    def read(self, path: str) -> Tags:
-        """The file's tags, keyed and valued as this package's docstring says."""
+    def read(self, path: str, *, checked: bool = False) -> Tags:
+        """The file's tags, keyed and valued as this package's docstring says. ``checked``:
+        the shared directory check already ran on the file (a reader may skip its own)."""
         ...
 
 
@@ -62,16 +63,16 @@ def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | Non
     damaged-directory verdict of the shared work budget is final (no other reader may
     spend the time).
     """
-    from sharpzone.ingest.readers.containers import sniff_path
+    from sharpzone.ingest.readers.containers import sniff_and_check
 
     path = os.fsdecode(path)
-    kind = sniff_path(path)
+    kind = sniff_and_check(path)  # one open: the kind, and the work budget for every reader
     last_error: FileReadError | None = None
     for reader in readers if readers is not None else default_readers():
         if kind not in reader.kinds:
             continue
         try:
-            return reader.read(path)
+            return reader.read(path, checked=True)
         except FileReadError as err:
             if err.reason.startswith(_FINAL_REASONS):
                 raise

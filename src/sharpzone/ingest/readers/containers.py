@@ -9,6 +9,7 @@ check is the work budget every reader runs under (see ``check_directories``).
 
 from __future__ import annotations
 
+import io
 import os
 import struct
 from dataclasses import dataclass
@@ -51,13 +52,15 @@ def tiff_byte_order(head: bytes) -> str:
     return "<" if head[:2] == b"II" else ">"
 
 
-def exif_tiff_block(file: BinaryIO) -> bytes | None | BinaryIO:
+def exif_tiff_block(file: BinaryIO, head: bytes | None = None) -> bytes | None | BinaryIO:
     """The EXIF TIFF structure of an open image: the file itself for a TIFF-based file,
     the block's bytes for JPEG, PNG, HEIF and raw files with an embedded EXIF JPEG, ``None``
     for an image without EXIF. Raises ``Unreadable`` for what is not an image or is damaged.
+    ``head``: the file's first ``HEAD_BYTES`` bytes, when the caller has them already.
     """
-    file.seek(0)
-    head = file.read(HEAD_BYTES)
+    if head is None:
+        file.seek(0)
+        head = file.read(HEAD_BYTES)
     if not head:
         raise Unreadable("empty file")
     kind = formats.sniff_image_kind(head)
@@ -82,6 +85,26 @@ def exif_tiff_block(file: BinaryIO) -> bytes | None | BinaryIO:
         return None
     check_tiff_header(tiff, len(tiff))
     return tiff
+
+
+def directory_damage(file: BinaryIO, head: bytes | None = None) -> str | None:
+    """The shared directory check (``check_directories``) on an open image's EXIF block:
+    the reason when its directories are damaged ("damaged EXIF (...)"), else ``None``;
+    other trouble walking the container is left to the reader, which names it. ``head`` as
+    for ``exif_tiff_block``."""
+    try:
+        block = exif_tiff_block(file, head)
+        if block is None:
+            return None
+        if block is file:
+            file.seek(0, os.SEEK_END)
+            check_directories(file, file.tell())
+        else:
+            check_directories(io.BytesIO(block), len(block))
+    except Unreadable as err:
+        if str(err).startswith("damaged EXIF"):
+            return str(err)
+    return None
 
 
 def check_tiff_header(head: bytes, size: int) -> None:
@@ -110,6 +133,7 @@ def check_directories(stream: BinaryIO, size: int) -> Directories:
     looping: list[int] = []
     claimed = 0
     budget = _CLAIM_FACTOR * size + _CLAIM_SLACK_BYTES
+    entry_format, sizes = byte_order + "HHII", _TYPE_SIZES
     while pending and len(seen) < _MAX_DIRECTORIES:
         offset, in_chain, pointer_at = pending.pop()
         if offset == 0:
@@ -124,13 +148,14 @@ def check_directories(stream: BinaryIO, size: int) -> Directories:
             raise Unreadable("damaged EXIF (a directory runs past the end)")
         stream.seek(offset + 2)
         table = stream.read(12 * entries)
-        for index in range(entries):
-            tag, field_type, count, value = struct.unpack_from(byte_order + "HHII", table, 12 * index)
-            length = _TYPE_SIZES.get(field_type, 0) * count
+        entry_at = offset + 2
+        for tag, field_type, count, value in struct.iter_unpack(entry_format, table):
+            length = sizes.get(field_type, 0) * count
             if length > 4:
                 claimed += length
             if tag in POINTER_TAGS:
-                pending.append((value, False, offset + 2 + 12 * index))
+                pending.append((value, False, entry_at))
+            entry_at += 12
         if claimed > budget:
             raise Unreadable("damaged EXIF (its directories claim more data than the file holds)")
         if in_chain:
@@ -373,21 +398,26 @@ def _webp_exif_block(file: BinaryIO) -> bytes | None:
     return None
 
 
-def sniff_path(path: str) -> str | None:
-    """The ``formats`` kind of a file by its first bytes (``None`` when none matches).
+def sniff_and_check(path: str) -> str | None:
+    """The ``formats`` kind of a file by its first bytes (``None`` when none matches), and
+    the shared directory check on the same open file (one open for both).
 
-    Raises ``FileReadError`` for an empty or unreadable file.
+    Raises ``FileReadError`` for an empty or unreadable file, and for damaged directories.
     """
     from sharpzone.ingest.records import FileReadError, os_error_reason
 
     try:
         with open(path, "rb") as file:
-            head = file.read(64)
+            head = file.read(HEAD_BYTES)
+            if not head:
+                raise FileReadError(path, "empty file")
+            kind = formats.sniff_image_kind(head[:64])
+            damage = directory_damage(file, head) if kind is not None else None
     except OSError as err:
         raise FileReadError(path, os_error_reason(err)) from None
-    if not head:
-        raise FileReadError(path, "empty file")
-    return formats.sniff_image_kind(head)
+    if damage is not None:
+        raise FileReadError(path, damage)
+    return kind
 
 
 # JPEG start-of-frame markers (ISO/IEC 10918-1 B.1.1.3): C0-CF except DHT C4, JPG C8, DAC CC.

@@ -56,8 +56,10 @@ class ExifreadReader:
     kinds = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP, formats.RAF,
                        formats.EMBEDDED_JPEG, None})
 
-    def read(self, path: str) -> Tags:
-        """The file's standard tags (see the package docstring); ``{}`` without EXIF."""
+    def read(self, path: str, *, checked: bool = False) -> Tags:
+        """The file's standard tags (see the package docstring); ``{}`` without EXIF.
+        (``checked`` changes nothing here: this reader walks the directories itself, for
+        the loops it must skip.)"""
         try:
             with open(path, "rb") as file:
                 block = exif_tiff_block(file)

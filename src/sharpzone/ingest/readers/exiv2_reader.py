@@ -17,21 +17,22 @@ values (lens names for lens ids). Rules kept here, learned the hard way:
 from __future__ import annotations
 
 import contextlib
-import io
 import math
 import os
 
 from sharpzone.ingest import fields, formats
 from sharpzone.ingest.exiv2_quiet import silence_exiv2
 from sharpzone.ingest.readers import Tags, TagValue
-from sharpzone.ingest.readers.containers import Unreadable, check_directories, exif_tiff_block
+from sharpzone.ingest.readers.containers import directory_damage
 from sharpzone.ingest.records import FileReadError, os_error_reason
 
 # libexiv2 TypeId values (TIFF 6.0 field types plus its own string types).
 _ASCII, _UNDEFINED = 2, 7
 _UNSIGNED_RATIONAL, _SIGNED_RATIONAL = 5, 10
 _FLOATS = (11, 12)
-_TEXT_TYPES = (_ASCII, 0x10000, 0x10001, 0x10002, 0x10003)
+_TEXT_TYPES = frozenset({_ASCII, 0x10000, 0x10001, 0x10002, 0x10003})
+# BYTE, SHORT, LONG, SBYTE, SSHORT, SLONG, IFD: whole numbers.
+_WHOLE_TYPES = frozenset({1, 3, 4, 6, 8, 9, 13})
 # A tag we look up never holds more values than this; more is damage, not information.
 _MAX_VALUES = 64
 _MAX_TEXT_BYTES = 1024
@@ -53,11 +54,14 @@ class Exiv2Reader:
     kinds = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP, formats.BMFF_RAW,
                        formats.MRW, formats.CIFF, formats.RAF})
 
-    def read(self, path: str) -> Tags:
+    def read(self, path: str, *, checked: bool = False) -> Tags:
+        """``checked``: the shared directory check already ran on this file (``read_tags``
+        runs it once, on the open it sniffs the kind with)."""
         import exiv2
 
         silence_exiv2()
-        _check_budget(path)
+        if not checked:
+            _check_budget(path)
         try:
             with _openable_name(path) as name:
                 image = exiv2.ImageFactory.open(name)
@@ -109,21 +113,11 @@ def _check_budget(path: str) -> None:
     walk its container; a damaged verdict is final, other walking trouble is left to libexiv2."""
     try:
         with open(path, "rb") as file:
-            block = exif_tiff_block(file)
-            if block is None:
-                return
-            if block is file:
-                file.seek(0, 2)
-                check_directories(file, file.tell())
-            else:
-                check_directories(io.BytesIO(block), len(block))
-    except Unreadable as err:
-        if str(err).startswith("damaged EXIF"):
-            raise FileReadError(path, str(err)) from None
-        if str(err) in ("empty file", "not an image"):
-            return
+            damage = directory_damage(file)
     except OSError as err:
         raise FileReadError(path, os_error_reason(err)) from None
+    if damage is not None:
+        raise FileReadError(path, damage)
 
 
 def _wanted_names(make: str | None, is_raw: bool) -> frozenset[str]:
@@ -147,15 +141,26 @@ def _tags(exiv2, data, is_raw: bool) -> Tags:
     make = None if make_datum == data.end() else make_datum.toString()[:_MAX_TEXT_BYTES]
     wanted = _wanted_names(make, is_raw)
     type_ids = _type_table()
+    printed_keys = fields.PRINTED_KEYS
     for datum in data:
         name = datum.key()
         if name not in wanted or name in tags:  # the first of a repeated key, as a look-up gives
             continue
-        value = _plain_value(datum, type_ids)
+        # The common shapes (text, one whole number, one rational) inline, as _plain_value
+        # reads them; a tag is read this way a few dozen times a frame.
+        type_id = type_ids.get(datum.typeName())
+        if type_id in _TEXT_TYPES:
+            value = datum.toString()[:_MAX_TEXT_BYTES].strip("\x00 \t\r\n") or None
+        elif type_id in _WHOLE_TYPES and datum.count() == 1:
+            value = int(datum.toInt64(0))
+        elif type_id == _UNSIGNED_RATIONAL and datum.count() == 1:
+            value = _rational(*datum.toRational(0), _UNSIGNED_RATIONAL)
+        else:
+            value = _plain_value(datum, type_ids)
         if value is None:
             continue
         tags[name] = value
-        if name in fields.PRINTED_KEYS:
+        if name in printed_keys:
             printed = datum.print(data)
             if printed:
                 tags[name + fields.PRINTED] = printed[:_MAX_TEXT_BYTES].strip()
