@@ -116,14 +116,14 @@ def test_lens_from_maker_note_candidates_answers_to_all_of_them(tmp_path, writte
 
     import sharpzone.ingest.pipeline as pipeline
 
-    real = pipeline.read_capture
+    real = pipeline._read_capture
 
     def with_candidates(path, user_mm=None):
         record = real(path, user_mm)
         return dataclasses.replace(record, lens_model=None, lens_spec=None,
                                    lens_candidates=("Altamira 35mm F1.4", "Korvath 35mm F1.4"))
 
-    monkeypatch.setattr(pipeline, "read_capture", with_candidates)
+    monkeypatch.setattr(pipeline, "_read_capture", with_candidates)
     written("a.jpg", jpeg(exif_block(focal_length=(35, 1))), tmp_path / "card")
     with open_catalog(catalog_url) as catalog:
         summary = ingest_paths(catalog, [tmp_path / "card"], jobs=1)

@@ -22,7 +22,6 @@ from typing import TYPE_CHECKING
 
 from sharpzone.collector import existing_objects_frozen
 from sharpzone.errors import Conflict, Interrupted, InvalidValue
-from sharpzone.ingest.capture import read_capture
 from sharpzone.ingest.distances import lookup_user_distance, read_user_distances
 from sharpzone.ingest.records import CaptureRecord, ReadProblem, printable_path
 from sharpzone.ingest.scan import CandidateFile, iter_scan
@@ -149,6 +148,15 @@ class _Target:
                 self.created = True
             self.id = shoot.id
         return self.id
+
+
+def _read_capture(path: str, user_focus_mm: float | None):
+    """``ingest.capture.read_capture``, imported in the worker that first calls it: the
+    process that writes never reads a file, so it need not load the readers (about 20 ms
+    before the workers could start)."""
+    from sharpzone.ingest.capture import read_capture
+
+    return read_capture(path, user_focus_mm)
 
 
 class _Reads:
@@ -518,7 +526,7 @@ def _ingest(opening: contextlib.AbstractContextManager[Catalog], read_early: Cal
     jobs = jobs or os.cpu_count() or 1
     batch_size = batch_size or BATCH_SIZE
     matcher_factory = matcher_factory or functools.partial(CatalogMatcher, memory=MatchMemory())
-    reader = reader or read_capture
+    reader = reader or _read_capture
     time_limit_s = time_limit_s or TIME_LIMIT_S
     given = [os.path.abspath(os.fsdecode(p)) for p in paths]
     existing = [path for path in given if os.path.lexists(path)]
