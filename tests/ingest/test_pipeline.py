@@ -378,3 +378,17 @@ def test_a_rescan_through_ingest_into_opens_no_file(shoot_tree, tmp_path, monkey
     monkeypatch.setattr(pipeline, "_ReadAhead", None)  # any early read would fail loudly
     again = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=1)
     assert (again.added, again.updated, again.unchanged) == (0, 0, GOOD)
+
+
+def test_a_distance_the_user_gave_reaches_the_files_read_before_the_catalogue_opens(shoot_tree, tmp_path,
+                                                                                     monkeypatch):
+    distances = tmp_path / "distances.csv"
+    distances.write_text("file,distance\nIMG_0003.JPG,12ft\n")  # 12 ft = 3,657.6 mm (1 ft = 304.8 mm exactly)
+    handed = _forced_early(monkeypatch)
+    url = str(tmp_path / "early-user.sqlite")
+    summary = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=2, distances_csv=distances)
+    assert len(handed) == 1 and summary.added == GOOD
+    with session_scope(url) as session:
+        frame = session.query(Frame).filter(Frame.path.endswith("IMG_0003.JPG")).one()
+        others = session.query(Frame).filter(Frame.focus_source == "user").count()
+    assert frame.focus_mm == pytest.approx(3657.6) and frame.focus_source == "user" and others == 1
