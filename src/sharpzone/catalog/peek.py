@@ -12,6 +12,7 @@ from __future__ import annotations
 import os
 import sqlite3
 from collections.abc import Iterable
+from pathlib import Path
 from urllib.parse import quote
 
 from sharpzone.catalog.location import sqlite_path
@@ -20,11 +21,15 @@ FRAME_TABLE = "frame"
 FRAME_PATH_COLUMN = "path"
 
 
-def _connect(url: str) -> sqlite3.Connection | None:
+def _sqlite_file(url: str) -> Path | None:
+    """The file of a SQLite catalogue URL, ``None`` for a server database."""
+    return sqlite_path(url) if url.startswith("sqlite") else None
+
+
+def _connect(path: Path | None) -> sqlite3.Connection | None:
     """A connection to an existing SQLite catalogue file, or ``None``. Opened read-write
     (never created: ``mode=rw``) so that closing the last connection removes a WAL
     catalogue's journal files as SQLAlchemy's connections do; it only reads."""
-    path = sqlite_path(url) if url.startswith("sqlite") else None
     if path is None or not path.is_file():
         return None
     try:
@@ -45,7 +50,7 @@ def stamped_revision(url: str) -> str | None:
     """The revision stamped in an existing SQLite catalogue file (one read-only query);
     ``None`` when it is not that simple (another database, no file, no stamp, several, or
     any error)."""
-    connection = _connect(url)
+    connection = _connect(_sqlite_file(url))
     if connection is None:
         return None
     try:
@@ -61,10 +66,10 @@ def may_hold_frames_under(url: str, roots: Iterable[str], head: str) -> bool:
     no such frame (a range query on the path's unique index, so it costs a look-up, not a
     scan). A frame catalogued under another path that names the same file (a hard link) is
     not asked after; the full path finds it."""
-    path = sqlite_path(url) if url.startswith("sqlite") else None
+    path = _sqlite_file(url)
     if path is not None and not os.path.lexists(path):
         return False
-    connection = _connect(url)
+    connection = _connect(path)
     if connection is None:
         return True
     try:

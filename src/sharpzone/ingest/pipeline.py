@@ -714,7 +714,7 @@ class _ReadPlan:
         self.found.add(shown)
         if before is not None:
             self.known_paths.append(shown)
-        user_mm = lookup_user_distance(self.user_distances, event.path) if self.user_distances else None
+        user_mm = _user_distance(self.user_distances, event.path)
         if before is not None and before.size == event.size and before.mtime_ns == event.mtime_ns:
             self.summary.unchanged += 1
             if user_mm is not None and not (before.focus_source == "user" and _same(before.focus_mm, user_mm)):
@@ -765,9 +765,7 @@ class _ReadAhead:
                 yield from plan.files_to_read(itertools.chain((event,), self._scan))
                 return
             if isinstance(event, CandidateFile):
-                user_mm = (lookup_user_distance(self._user_distances, event.path) if self._user_distances
-                           else None)
-                yield event.path, user_mm
+                yield event.path, _user_distance(self._user_distances, event.path)
         with self._lock:
             self._taken.append(_WALKED)
             plan = self._plan
@@ -788,6 +786,11 @@ class _ReadAhead:
 
 
 _WALKED = object()  # the walk's end, as _ReadAhead notes it
+
+
+def _user_distance(user_distances: dict[str, float], path: str) -> float | None:
+    """The focus distance the user's CSV gives this file (mm), if any."""
+    return lookup_user_distance(user_distances, path) if user_distances else None
 
 
 def _same(a: float | None, b: float | None) -> bool:
