@@ -8,7 +8,8 @@ it costs beyond start-up is printed beside it: an ingest of an empty folder); pe
 flat in the number of files; and the CPU per file of each stage: read and normalise (in
 the worker processes), match and write (in the one process that writes), and that
 process's CPU as a whole (the writer's CPU per file, to be halved from
-``WRITER_CPU_MS_BEFORE``).
+``WRITER_CPU_MS_BEFORE``). The commands run as installed, with their bytecode compiled
+(``conftest.installed_bytecode``), as exifread's is.
 """
 
 from __future__ import annotations

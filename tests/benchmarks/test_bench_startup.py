@@ -7,9 +7,7 @@ one each command whose answer does not read every frame, within 0.5 s (≤ 4× `
 numpy``). Each figure is the best of several runs, all taken in the same run so the ratios
 compare like with like on a busy machine.
 
-The commands run as installed: with their bytecode compiled, as pip compiles it on install
-(numpy's is, so without this a run with ``PYTHONDONTWRITEBYTECODE`` set would time
-sharpzone's compiler against numpy's import).
+The commands run as installed, with their bytecode compiled (``conftest.installed_bytecode``).
 """
 
 from __future__ import annotations
@@ -43,13 +41,6 @@ BIG_COMMANDS = [
 ]
 
 
-def _compile_bytecode() -> None:
-    import sharpzone
-
-    subprocess.run([sys.executable, "-m", "compileall", "-q", os.path.dirname(sharpzone.__file__)], check=True,
-                   capture_output=True)
-
-
 def _best_of(command: list[str], env: dict[str, str]) -> float:
     subprocess.run(command, check=True, capture_output=True, env=env)  # warm the file cache
     times = []
@@ -63,7 +54,6 @@ def _best_of(command: list[str], env: dict[str, str]) -> float:
 @pytest.fixture(scope="module")
 def env(tmp_path_factory):
     """An environment whose catalogue is an empty one (one shoot to show), made once."""
-    _compile_bytecode()
     folder = tmp_path_factory.mktemp("startup")
     environment = {**os.environ, "SHARPZONE_CATALOG": str(folder / "empty.sqlite"), "COLUMNS": "120"}
     subprocess.run([*SHARPZONE, "shoot", "add", "Empty"], check=True, capture_output=True, env=environment)

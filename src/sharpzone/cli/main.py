@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import atexit
 import os
 import sys
+from typing import NoReturn
 
 import typer
 from typer.core import TyperGroup
@@ -127,9 +129,38 @@ def _command_named(argv: list[str]) -> str | None:
     return None
 
 
-def run() -> None:
+def run() -> NoReturn:
     """Console-script entry point (``sharpzone``): builds only the command being run (all of
-    them for the top-level help or a name it does not know)."""
+    them for the top-level help or a name it does not know), runs it, and ends the process
+    with its exit code (``leave``)."""
     from sharpzone.cli.app import make_app
 
-    make_app(_command_named(sys.argv[1:]))()
+    try:
+        make_app(_command_named(sys.argv[1:]))()
+        code: object = 0
+    except SystemExit as exit_:
+        code = exit_.code
+    leave(code)
+
+
+def leave(code: object) -> NoReturn:
+    """End the process with ``code`` (an ``int``; ``None`` is 0, anything else is printed on
+    stderr and gives 1, as ``sys.exit`` does) once the exit handlers have run and stdout and
+    stderr are flushed, without the interpreter's teardown. Everything a command writes is
+    closed and committed by then; the teardown would only free, one by one, the objects of
+    every module loaded: 50–80 ms once the database library is in, which a user would wait
+    for after every command."""
+    if code is None:
+        code = 0
+    elif not isinstance(code, int):
+        sys.stderr.write(f"{code}\n")
+        code = 1
+    try:
+        atexit._run_exitfuncs()  # what ``sys.exit`` would run: temporary folders, pools, logging
+    finally:
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (OSError, ValueError):  # a reader gone away (``| head``), or a stream closed
+                pass
+        os._exit(code & 0xFF)
