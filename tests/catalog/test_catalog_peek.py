@@ -83,3 +83,36 @@ def test_frames_in_folders_that_share_the_name_are_not_under_it(tmp_path):
     assert peek.may_hold_frames_under(url, [f"{tmp_path}/cards/a0"], head)
     assert peek.may_hold_frames_under(url, [f"{tmp_path}/cards/a-b"], head)
     assert peek.may_hold_frames_under(url, [f"{tmp_path}/cards/a.jpg"], head)
+
+
+def test_the_format_table_asked_after_is_the_models():
+    from sharpzone.catalog.models import SensorFormatRow
+
+    assert peek.FORMAT_TABLE == SensorFormatRow.__tablename__
+    assert set(peek.FORMAT_COLUMNS) <= set(SensorFormatRow.__table__.c.keys())
+
+
+def test_a_format_is_found_by_name_and_alias_as_the_catalogue_service_finds_it(tmp_path):
+    from sharpzone.catalog.service import edit_format, get_format, list_formats
+
+    url = sqlite_url(tmp_path / "c.sqlite")
+    with open_catalog(url) as catalog, catalog.session_scope(write=True) as session:
+        edit_format(session, "36x24", coc_divisor=1730.0, aliases=["full-frame", "FX Wide"])
+        rows = [(row.name, row.alias_list) for row in list_formats(session)]
+    asked = [spelling for name, aliases in rows for wanted in (name, *aliases)
+             for spelling in (wanted, wanted.upper(), f"  {wanted} ")]
+    assert len(asked) > 60
+    with open_catalog(url) as catalog, catalog.session_scope() as session:
+        for wanted in asked:
+            assert peek.sensor_format(url, wanted, head_revision()) == get_format(session, wanted).to_core(), wanted
+    edited = peek.sensor_format(url, "fx wide", head_revision())
+    assert (edited.name, edited.coc_divisor) == ("36x24", 1730.0)  # the catalogue's edit, not the shipped value
+
+
+def test_a_format_it_cannot_answer_for_is_left_to_the_full_path(card_catalogue, tmp_path):
+    url, _ = card_catalogue
+    assert peek.sensor_format(url, "no such format", head_revision()) is None
+    assert peek.sensor_format(url, "36x24", "0000") is None  # another schema
+    assert peek.sensor_format(sqlite_url(tmp_path / "none.sqlite"), "36x24", head_revision()) is None
+    assert peek.sensor_format("postgresql://u@localhost/x", "36x24", head_revision()) is None
+    assert not (tmp_path / "none.sqlite").exists()

@@ -57,6 +57,13 @@ def test_dof_without_a_catalogue_loads_no_database_library(env, tmp_path):
                                                                                          "alembic"}
 
 
+@pytest.mark.parametrize("options", [[], ["--sensor", "APS-C"]])
+def test_dof_with_a_current_catalogue_loads_no_database_library(env, options):
+    # The catalogue's formats are read through sqlite3 (``catalog.peek.sensor_format``).
+    assert not _loaded(env, "dof", "-f", "50", "-a", "8", "-d", "3m", *options, "--json") & {"sqlalchemy", "pandas",
+                                                                                             "alembic"}
+
+
 @pytest.mark.parametrize("command", [["body", "list"], ["format", "list"], ["shoot", "show", "Empty"],
                                      ["catalog", "info"]])
 def test_catalogue_lists_load_neither_pandas_numpy_nor_the_bundle_code(env, command):

@@ -26,7 +26,9 @@ FormatLookup = Callable[[str], SensorFormat]
 def format_lookup(catalog_location: str | None = None) -> FormatLookup:
     """A lookup of sensor formats as ``sheet`` sees them: the catalogue's own (so ``format
     edit`` counts), or the shipped list while no catalogue file exists yet (``dof`` then
-    needs no database and creates none)."""
+    needs no database and creates none). A current SQLite catalogue is asked through
+    ``sqlite3`` alone (``catalog.peek.sensor_format``); anything else, or a name it does not
+    know, goes through the catalogue service."""
 
     def lookup(name: str) -> SensorFormat:
         from sharpzone.catalog.location import resolve_catalog_url, sqlite_path
@@ -35,6 +37,12 @@ def format_lookup(catalog_location: str | None = None) -> FormatLookup:
         path = sqlite_path(url)
         if path is not None and not path.exists():
             return find_shipped_format(name)
+        from sharpzone.catalog.migrate import head_revision
+        from sharpzone.catalog.peek import sensor_format
+
+        found = sensor_format(url, name, head_revision())  # a current SQLite file: no SQLAlchemy
+        if found is not None:
+            return found
         from sharpzone.catalog.engine import session_scope
         from sharpzone.catalog.service import get_format
 

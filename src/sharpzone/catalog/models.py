@@ -33,7 +33,7 @@ from sqlalchemy import (
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
-from sharpzone.catalog.rules import CHECKS, NAME_LENGTH
+from sharpzone.catalog.rules import CHECKS, NAME_LENGTH, alias_list
 from sharpzone.optics.limits import DIAGONAL_DIVISOR
 
 if TYPE_CHECKING:
@@ -107,7 +107,7 @@ class SensorFormatRow(Base):
     @property
     def alias_list(self) -> list[str]:
         """``aliases`` split into a list (empty entries dropped)."""
-        return [alias for alias in (self.aliases or "").split(";") if alias]
+        return alias_list(self.aliases)
 
     def to_core(self) -> SensorFormat:
         """The optics core's frozen ``SensorFormat`` for this row."""

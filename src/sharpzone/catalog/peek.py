@@ -16,9 +16,13 @@ from pathlib import Path
 from urllib.parse import quote
 
 from sharpzone.catalog.location import sqlite_path
+from sharpzone.catalog.rules import format_answers_to
+from sharpzone.optics.formats import SensorFormat
 
 FRAME_TABLE = "frame"
 FRAME_PATH_COLUMN = "path"
+FORMAT_TABLE = "sensor_format"
+FORMAT_COLUMNS = ("name", "width_mm", "height_mm", "coc_divisor", "aliases")
 
 
 def _sqlite_file(url: str) -> Path | None:
@@ -89,3 +93,25 @@ def may_hold_frames_under(url: str, roots: Iterable[str], head: str) -> bool:
         return True
     finally:
         connection.close()
+
+
+def sensor_format(url: str, name: str, head: str) -> SensorFormat | None:
+    """The sensor format ``name`` (or an alias: ``rules.format_answers_to``) of the SQLite
+    catalogue at ``url``, read with one query; ``None`` when it is not that simple (another
+    database, no file, a schema other than ``head``, any error) or the catalogue has no such
+    format (the full path then says so, naming the ones it has)."""
+    connection = _connect(_sqlite_file(url))
+    if connection is None:
+        return None
+    try:
+        if _stamp(connection) != head:
+            return None
+        rows = connection.execute(f"SELECT {', '.join(FORMAT_COLUMNS)} FROM {FORMAT_TABLE} ORDER BY name").fetchall()
+    except sqlite3.Error:
+        return None
+    finally:
+        connection.close()
+    for found, width_mm, height_mm, coc_divisor, aliases in rows:
+        if format_answers_to(name, found, aliases):
+            return SensorFormat(found, width_mm, height_mm, coc_divisor)
+    return None

@@ -252,6 +252,18 @@ def _format_row(values: dict) -> dict:
     return values
 
 
+def alias_list(aliases: str | None) -> list[str]:
+    """A format's stored aliases (one text, ``;`` between them) as a list, empty ones dropped."""
+    return [alias for alias in (aliases or "").split(";") if alias]
+
+
+def format_answers_to(wanted: str, name: str, aliases: str | None) -> bool:
+    """Whether the format called ``name``, with the stored ``aliases``, is the one a person
+    means by ``wanted``: its name or one of its aliases, ignoring case and surrounding space."""
+    wanted = wanted.strip().lower()
+    return wanted == name.lower() or wanted in (alias.lower() for alias in alias_list(aliases))
+
+
 def _body_row(values: dict) -> dict:
     name = clean_name(values.get("name"), "body")
     clean_name(values.get("exif_make"), f"body {name!r}: EXIF make")

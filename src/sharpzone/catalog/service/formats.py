@@ -12,7 +12,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from sharpzone.catalog.models import Body, SensorFormatRow
-from sharpzone.catalog.rules import clean_name
+from sharpzone.catalog.rules import clean_name, format_answers_to
 from sharpzone.catalog.service.common import merged, plural, saved
 from sharpzone.errors import Conflict, InvalidValue, NotFound
 from sharpzone.optics.formats import SensorFormat
@@ -26,9 +26,8 @@ def list_formats(session: Session) -> list[SensorFormatRow]:
 
 def find_format(session: Session, name: str) -> SensorFormatRow | None:
     """The format called ``name`` or answering to it as an alias (ignoring case), or ``None``."""
-    wanted = name.strip().lower()
     for row in list_formats(session):
-        if wanted == row.name.lower() or wanted in (alias.lower() for alias in row.alias_list):
+        if format_answers_to(name, row.name, row.aliases):
             return row
     return None
 
