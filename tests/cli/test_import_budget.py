@@ -84,7 +84,8 @@ def test_an_ingest_that_registers_a_body_and_a_lens_loads_neither_numpy_nor_pand
     """A lens registered from frames has no maximum magnification, so its close-up check
     (numpy) is not needed: loading numpy cost the first batch of an ingest about 0.2 s. A
     new catalogue is stamped without Alembic, and the process that writes reads no file,
-    so it loads no metadata reader (the workers do)."""
+    so it loads no metadata reader (the workers do); with ``--json`` nothing is drawn, so
+    it loads no rich either."""
     from tests.ingest.images import exif_block, jpeg
 
     card = tmp_path / "card"
@@ -92,7 +93,7 @@ def test_an_ingest_that_registers_a_body_and_a_lens_loads_neither_numpy_nor_pand
     for number in range(3):
         (card / f"IMG_{number}.JPG").write_bytes(jpeg(exif_block(subject_distance=(2000 + number, 1000))))
     assert not _loaded(env, "ingest", str(card), "--shoot", "Card", "--json") & {
-        "pandas", "numpy", "alembic", "exiv2", "exifread", "sharpzone.ingest.capture"}
+        "pandas", "numpy", "alembic", "rich", "exiv2", "exifread", "sharpzone.ingest.capture"}
     done = subprocess.run([sys.executable, "-m", "sharpzone", "lens", "list", "--json"], env=env,
                           capture_output=True, text=True, check=True)
     assert json.loads(done.stdout), "the card's lens was registered"

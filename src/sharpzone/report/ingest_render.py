@@ -1,4 +1,7 @@
-"""Rendering of an ingest: a progress bar while it runs, then a summary table or JSON."""
+"""Rendering of an ingest: a progress bar while it runs, then a summary table or JSON.
+
+rich is imported only where it draws (the bar, the table): an ingest with ``--json`` or
+with its progress piped starts its readers without it."""
 
 from __future__ import annotations
 
@@ -7,11 +10,6 @@ from contextlib import contextmanager
 from typing import TYPE_CHECKING, Any
 
 from shlex import quote as shlex_quote
-
-from rich.table import Table
-from rich.text import Text
-
-from sharpzone.report.console import line, stderr_console, stdout_console, styled
 
 if TYPE_CHECKING:
     from sharpzone.ingest.pipeline import IngestSummary
@@ -26,6 +24,8 @@ def ingest_progress(enabled: bool) -> Iterator:
         return
     from rich.progress import (BarColumn, MofNCompleteColumn, Progress, SpinnerColumn, TaskProgressColumn,
                                TextColumn, TimeRemainingColumn)
+
+    from sharpzone.report.console import stderr_console
 
     columns = (SpinnerColumn(), TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
                TaskProgressColumn(), TextColumn("{task.fields[rate]}"), TimeRemainingColumn())
@@ -75,6 +75,14 @@ def _frames(count: int) -> str:
 
 
 def render_ingest(summary: IngestSummary, catalog: str) -> None:
+    """``sharpzone ingest``'s summary on stdout: the counts, then each file skipped and why,
+    frames left in or moved from other shoots, bodies still without a format, and what was
+    registered."""
+    from rich.table import Table
+    from rich.text import Text
+
+    from sharpzone.report.console import line, stdout_console, styled
+
     console = stdout_console()
     table = Table(title=Text(f"Ingest into shoot {summary.shoot!r}"), title_justify="left", show_header=False)
     table.add_column(style="bold")
