@@ -4,6 +4,7 @@ give way in a stated order, ``--wide`` shows them all, long checks show the wors
 from __future__ import annotations
 
 import datetime as dt
+import os
 
 import pytest
 from typer.testing import CliRunner
@@ -86,3 +87,42 @@ def test_long_check_shows_the_summary_and_the_worst_first(long_catalog):
     everything = _run(long_catalog, 120, "check", "--all")
     assert everything.count("VHB_") > CHECK_DETAIL_ROWS
     assert "--all lists" not in everything
+
+
+@pytest.mark.parametrize("width", [30, 44, 60, 80, 200])
+def test_a_long_table_is_fitted_as_rich_measures_the_whole_of_it(width):
+    """``fit_table`` measures only the rows that decide each column's width; rich (the
+    reference here) measuring the whole fitted table must agree: it fits, and the column
+    given way last would not have."""
+    from rich.console import Console
+    from rich.measure import Measurement
+
+    from sharpzone.report.console import Column, fit_table
+
+    rows = [{"name": f"frame {'x' * (n % 17)}", "note": "wide open " * (n % 5) + f"run{'y' * (n % 23)}",
+             "focus": f"{n * 1.37:.2f} m", "id": str(n ** 3)} for n in range(400)]
+    rows[251]["note"] = "one-very-long-word-only-here-" * 2  # the longest word, deep in the rows
+    columns = [Column("Frame", lambda row: row["name"]), Column("Note", lambda row: row["note"], priority=1, wrap=True),
+               Column("Focus", lambda row: row["focus"], justify="right", priority=2),
+               Column("Id", lambda row: row["id"], justify="right", priority=3)]
+    console = Console(width=width, file=open(os.devnull, "w"))  # noqa: SIM115 - closed with the console
+    fitted = fit_table(columns, rows, console=console)
+
+    def measured(table):
+        return Measurement.get(console, console.options.update(width=10**6), table)
+
+    assert len(fitted.table.rows) == len(rows)
+    shown = [column for column in columns if column.header not in fitted.dropped]
+    if len(shown) > 1:  # one column left may be wider than the screen: nothing more to drop
+        assert measured(fitted.table).minimum <= width
+    if fitted.dropped:
+        restored = fit_table([*shown, next(c for c in columns if c.header == fitted.dropped[-1])], rows,
+                             console=console, wide=True)
+        assert measured(restored.table).minimum > width
+    every = fit_table(columns, rows, console=console, wide=True)  # --wide: as wide as the widest row needs
+    console.width = every.width
+    with console.capture() as captured:
+        console.print(every.table)
+    longest = max((row["note"] for row in rows), key=len)
+    assert any(longest in line for line in captured.get().splitlines())  # on one line, unwrapped
+    console.file.close()

@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 import re
 import sys
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -134,6 +134,20 @@ def _widths(cells: Sequence[str | Text]) -> tuple[int, int]:
     return natural, longest_word
 
 
+def _deciding_rows(cells: Sequence[str | Text]) -> set[int]:
+    """The rows whose cells decide how rich measures a column of ``cells``: rich takes a
+    cell's longest line for its widest and its longest word (split at white space) for its
+    narrowest, and the column's as the largest of each over its cells."""
+    if not cells:
+        return set()
+    longest_line, longest_word = [], []
+    for cell in cells:
+        text = cell.plain if isinstance(cell, Text) else inert(cell)
+        longest_line.append(max(map(cell_len, text.splitlines()), default=0))
+        longest_word.append(max(map(cell_len, text.split()), default=0))
+    return {longest_line.index(max(longest_line)), longest_word.index(max(longest_word))}
+
+
 def _header_lines(header: str, width: int) -> str:
     """``header`` broken at spaces into lines of at most ``width`` cells (a column of short
     numbers under a long header stays narrow)."""
@@ -179,51 +193,68 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
 
     columns = [column for column in columns if column.shown is None or column.shown(rows)]
     cells = {id(column): [_renderable(column.cell(row)) for row in rows] for column in columns}
+    widths: dict[int, tuple[int, int]] = {}  # per column: (natural width, longest word), as its cells are now
+    deciding: dict[int, set[int]] = {}  # per column: the rows whose cells decide how rich measures it
 
-    def build(selection) -> Table:
+    def column_widths(column) -> tuple[int, int]:
+        if id(column) not in widths:
+            widths[id(column)] = _widths(cells[id(column)])
+            deciding[id(column)] = _deciding_rows(cells[id(column)])
+        return widths[id(column)]
+
+    def wrap_minimum(column) -> int:
+        """The narrowest a wrapping column may be."""
+        natural, longest_word = column_widths(column)
+        return max(longest_word, _widths([column.header])[1], min(natural, _WRAP_AT_LEAST))
+
+    def build(selection, indexes: Iterable[int] | None = None) -> Table:
         table = Table(**_TABLE_STYLE, **table_options)
         for column in selection:
-            natural, longest_word = _widths(cells[id(column)])
+            natural, longest_word = column_widths(column)
             header_word = _widths([column.header])[1]
             if column.wrap:
                 table.add_column(column.header, justify=column.justify, overflow="fold",
-                                 min_width=max(longest_word, header_word, min(natural, _WRAP_AT_LEAST)))
+                                 min_width=wrap_minimum(column))
             else:
                 width = max(natural, header_word)
                 table.add_column(_header_lines(column.header, width), justify=column.justify, no_wrap=True,
                                  overflow="fold", min_width=width)
-        for index in range(len(rows)):
+        for index in range(len(rows)) if indexes is None else indexes:
             table.add_row(*(cells[id(column)][index] for column in selection))
         return table
 
-    def measure(table: Table) -> Measurement:
-        return Measurement.get(console, console.options.update(width=10**6), table)
+    def measure(selection) -> Measurement:
+        # Rich measures a column as the widest of its cells' measurements, so a table of the
+        # deciding rows alone measures as the whole one does, at the cost of a few rows.
+        for column in selection:
+            column_widths(column)
+        sample = build(selection, sorted(set().union(*(deciding[id(column)] for column in selection))))
+        return Measurement.get(console, console.options.update(width=10**6), sample)
 
     kept, dropped = list(columns), []
-    table = build(kept)
-    while not wide and measure(table).minimum > console.width:
+    while not wide and measure(kept).minimum > console.width:
         droppable = [column for column in kept if column.priority > 0]
         if not droppable:
             break
         worst = max(droppable, key=lambda column: (column.priority, kept.index(column)))
         kept.remove(worst)
         dropped.append(worst.header)
-        table = build(kept)
-    width = max(console.width, measure(table).maximum) if wide else console.width
+    width = max(console.width, measure(kept).maximum) if wide else console.width
     wrapping = [column for column in kept if column.wrap]
     if wrapping:
         # Rich would wrap at any space; wrap these ourselves at the width rich gives them.
-        spare = max(0, width - measure(table).minimum)
-        widths = {}
+        spare = max(0, width - measure(kept).minimum)
+        allowed = {}
         for column in wrapping:
-            natural, _ = _widths(cells[id(column)])
-            minimum = table.columns[kept.index(column)].min_width or natural
+            natural, _ = column_widths(column)
+            minimum = wrap_minimum(column)
             grant = min(spare, max(0, natural - minimum))
-            widths[id(column)] = minimum + grant
+            allowed[id(column)] = minimum + grant
             spare -= grant
         for column in wrapping:
-            cells[id(column)] = [wrap_text(cell, widths[id(column)]) for cell in cells[id(column)]]
-        table = build(kept)
+            cells[id(column)] = [wrap_text(cell, allowed[id(column)]) for cell in cells[id(column)]]
+            widths.pop(id(column))
+    table = build(kept)
     return FittedTable(table, dropped, width)
 
 
