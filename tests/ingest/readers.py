@@ -7,12 +7,12 @@ import os
 import signal
 import time
 
-from sharpzone.ingest.capture import read_capture
+from sharpzone.ingest.capture import read_capture, recorded, sniffed, tagged
 
 
-def misbehaving_reader(path, user_focus_mm=None):
+def _misbehave(path) -> None:
     """Kills its own process on ``*segv*`` (SIGSEGV) and ``*abort*`` (abort), hangs on
-    ``*hang*``, raises on ``*bug*``; reads every other file."""
+    ``*hang*``, raises on ``*bug*``; returns for every other file."""
     name = os.path.basename(path)
     if "segv" in name:
         os.kill(os.getpid(), signal.SIGSEGV)
@@ -22,7 +22,21 @@ def misbehaving_reader(path, user_focus_mm=None):
         time.sleep(3600)
     if "bug" in name:
         raise RuntimeError("a reader bug")
+
+
+def misbehaving_reader(path, user_focus_mm=None):
+    """``read_capture``, misbehaving on marker names first (``_misbehave``)."""
+    _misbehave(path)
     return read_capture(path, user_focus_mm)
+
+
+def _misbehaving_tagged(state):
+    _misbehave(state[0])  # in the middle stage: the batch's other files are half-way through
+    return tagged(state)
+
+
+# ``capture.STAGES`` misbehaving in the middle stage, where libexiv2 runs.
+MISBEHAVING_STAGES = (sniffed, _misbehaving_tagged, recorded)
 
 
 def slow_reader(path, user_focus_mm=None):

@@ -26,7 +26,7 @@ COMMAND = textwrap.dedent("""
     import sys
     import sharpzone.ingest.pipeline as pipeline
     from tests.ingest.readers import slow_reader
-    pipeline._read_capture = slow_reader
+    pipeline.READER = slow_reader
     pipeline.BATCH_SIZE = 20
     from sharpzone.cli.main import run
     sys.argv = ["sharpzone", *sys.argv[1:]]

@@ -111,22 +111,19 @@ def test_cli_names_the_body_that_needs_a_format_and_lists_it(tmp_path, written):
     assert "unknown" in runner.invoke(app, ["--catalog", url, "body", "show", "Korvath KV-7"]).stdout
 
 
-def test_lens_from_maker_note_candidates_answers_to_all_of_them(tmp_path, written, catalog_url, monkeypatch):
+def test_lens_from_maker_note_candidates_answers_to_all_of_them(tmp_path, written, catalog_url):
     import dataclasses
 
-    import sharpzone.ingest.pipeline as pipeline
-
-    real = pipeline._read_capture
+    from sharpzone.ingest.capture import read_capture
 
     def with_candidates(path, user_mm=None):
-        record = real(path, user_mm)
+        record = read_capture(path, user_mm)
         return dataclasses.replace(record, lens_model=None, lens_spec=None,
                                    lens_candidates=("Altamira 35mm F1.4", "Korvath 35mm F1.4"))
 
-    monkeypatch.setattr(pipeline, "_read_capture", with_candidates)
     written("a.jpg", jpeg(exif_block(focal_length=(35, 1))), tmp_path / "card")
     with open_catalog(catalog_url) as catalog:
-        summary = ingest_paths(catalog, [tmp_path / "card"], jobs=1)
+        summary = ingest_paths(catalog, [tmp_path / "card"], jobs=1, reader=with_candidates)
     with session_scope(catalog_url) as session:
         lens = session.query(Lens).one()
         assert lens.name == "Altamira 35mm F1.4" and not lens.confirmed

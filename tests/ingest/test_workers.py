@@ -1,5 +1,6 @@
 """Contained readers: a worker that segfaults, aborts, hangs or raises costs one file, the
-others are all read, and the run goes on (issue 10 part 2)."""
+others are all read, and the run goes on (issue 10 part 2); the same when the reading goes
+stage by stage (``capture.STAGES``), a batch's files half-way through when one kills it."""
 
 from __future__ import annotations
 
@@ -12,7 +13,7 @@ from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
 from sharpzone.ingest.workers import BackgroundReads, ReaderPool, timed_out
 from tests.ingest.images import exif_block, jpeg
-from tests.ingest.readers import misbehaving_reader
+from tests.ingest.readers import MISBEHAVING_STAGES, misbehaving_reader
 
 CRASHED = "the metadata reader crashed on this file"
 
@@ -24,13 +25,16 @@ def _card(written, folder, good: int, bad: list[str]):
         written(name, jpeg(exif_block()), folder)
 
 
+READERS = pytest.mark.parametrize("reader", [misbehaving_reader, MISBEHAVING_STAGES], ids=["file by file", "stages"])
+
+
+@READERS
 @pytest.mark.parametrize("jobs", [1, 2])
-def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, catalog_url, jobs):
+def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, catalog_url, jobs, reader):
     folder = tmp_path / "card"
     _card(written, folder, 90, ["A_segv.JPG", "M_abort.JPG", "T_hang.JPG", "Z_bug.JPG"])
     with open_catalog(catalog_url) as catalog:
-        result = ingest_paths(catalog, [folder], jobs=jobs, reader=misbehaving_reader, time_limit_s=1.5,
-                              batch_size=20)
+        result = ingest_paths(catalog, [folder], jobs=jobs, reader=reader, time_limit_s=1.5, batch_size=20)
     reasons = {os.path.basename(path): reason for path, reason in result.failed}
     assert reasons == {"A_segv.JPG": CRASHED, "M_abort.JPG": CRASHED, "T_hang.JPG": timed_out(1.5),
                        "Z_bug.JPG": "the metadata reader failed on this file (RuntimeError)"}
@@ -42,7 +46,8 @@ def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, cata
         assert session.query(IngestProblem).count() == 4
 
 
-def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written):
+@READERS
+def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written, reader):
     folder = tmp_path / "pool"
     # "H_segv" comes after 30 good files in the same batch: their answers, read but not yet
     # sent, die with the worker and must be read again, once.
@@ -50,7 +55,7 @@ def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written
     _card(written, folder, 30, bad)
     tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
     for depth in (4, 64, 128):
-        with ReaderPool(misbehaving_reader, 2, depth=depth) as pool:
+        with ReaderPool(reader, 2, depth=depth) as pool:
             with BackgroundReads(pool, tasks) as reads:
                 results = list(reads)
             assert pool.replaced == 6
@@ -59,20 +64,35 @@ def test_the_pool_replaces_dead_workers_and_answers_every_task(tmp_path, written
         assert sorted(crashed) == sorted(bad)
 
 
-def test_a_record_read_in_a_worker_arrives_as_it_was_read(tmp_path, written):
+@pytest.mark.parametrize("stages", [False, True], ids=["file by file", "stages"])
+def test_a_record_read_in_a_worker_arrives_as_it_was_read(tmp_path, written, stages):
     # Records cross the pipe as tuples of their values (workers._packed): what arrives must
-    # equal what the reader made, field for field, with its warnings and a damaged file's reason.
+    # equal what the reader made, field for field, with its warnings and a damaged file's
+    # reason; read stage by stage (as the ingest reads), the same as file by file.
     from sharpzone.ingest.capture import read_capture
+    from sharpzone.ingest.pipeline import READER
     from sharpzone.ingest.records import CaptureRecord, ReadProblem
 
     folder = tmp_path / "same"
     _card(written, folder, 6, [])
     written("broken.JPG", b"\xff\xd8\xff\xe1\x00\x10Exif\x00\x00II*\x00", folder)
+    written("empty.JPG", b"", folder)
+    written("notes.JPG", b"not a picture at all", folder)
+    written("no-exif.JPG", b"\xff\xd8\xff\xd9", folder)
     tasks = [(str(folder / name), 2500.0 if name == "G001.JPG" else None) for name in sorted(os.listdir(folder))]
-    with ReaderPool(read_capture, 2) as pool:
+    with ReaderPool(READER if stages else read_capture, 2) as pool:
         arrived = {result.path: result for result in pool.read(tasks)}
     expected = {path: read_capture(path, user_mm) for path, user_mm in tasks}
     assert arrived == expected
-    assert sum(isinstance(result, CaptureRecord) for result in arrived.values()) == 6
+    assert sum(isinstance(result, CaptureRecord) for result in arrived.values()) == 7  # no-exif.JPG: a frame
     assert isinstance(arrived[str(folder / "broken.JPG")], ReadProblem)
+    assert (arrived[str(folder / "empty.JPG")].reason, arrived[str(folder / "notes.JPG")].reason) == (
+        "empty file", "not an image")
     assert arrived[str(folder / "G001.JPG")].focus_source == "user"
+
+
+def test_the_ingest_reads_in_every_stage_of_read_capture():
+    from sharpzone.ingest.capture import STAGES
+    from sharpzone.ingest.pipeline import READER
+
+    assert len(READER) == len(STAGES)

@@ -150,13 +150,23 @@ class _Target:
         return self.id
 
 
-def _read_capture(path: str, user_focus_mm: float | None):
-    """``ingest.capture.read_capture``, imported in the worker that first calls it: the
-    process that writes never reads a file, so it need not load the readers (about 20 ms
-    before the workers could start)."""
-    from sharpzone.ingest.capture import read_capture
+class _CaptureStage:
+    """Stage ``number`` of ``ingest.capture.STAGES``, imported in the worker that first runs
+    it: the process that writes never reads a file, so it need not load the readers (about
+    20 ms before the workers could start)."""
 
-    return read_capture(path, user_focus_mm)
+    def __init__(self, number: int) -> None:
+        self.number = number
+
+    def __call__(self, *args):
+        from sharpzone.ingest.capture import STAGES
+
+        return STAGES[self.number](*args)
+
+
+# The ingest's reader: ``ingest.capture.read_capture`` in its three stages, which the
+# workers take many files through stage by stage (a test holds the count to ``STAGES``).
+READER = tuple(_CaptureStage(number) for number in range(3))
 
 
 class _Reads:
@@ -480,8 +490,9 @@ def ingest_paths(
     stay where they are (``IngestSummary.elsewhere`` says which). With ``shoot``, every
     frame found is filed under it (``moved``). A shoot is created only when a frame is
     written. ``jobs`` worker processes read the files (default: one per core), each file
-    within ``time_limit_s`` seconds (default 30); ``reader`` replaces
-    ``ingest.capture.read_capture`` (tests inject readers that crash or hang).
+    within ``time_limit_s`` seconds (default 30; in stages, each stage of it); ``reader``
+    (a function of the path and the user's distance) replaces ``ingest.capture.read_capture``,
+    which is otherwise run in its stages (tests inject readers that crash or hang).
     ``distances_csv`` gives focus distances that win over EXIF; ``prune`` removes frames
     whose files vanished. ``progress(stage, done, total)`` is called as work proceeds
     (every ``PROGRESS_EVERY`` files read, and at the end).
@@ -526,7 +537,7 @@ def _ingest(opening: contextlib.AbstractContextManager[Catalog], read_early: Cal
     jobs = jobs or os.cpu_count() or 1
     batch_size = batch_size or BATCH_SIZE
     matcher_factory = matcher_factory or functools.partial(CatalogMatcher, memory=MatchMemory())
-    reader = reader or _read_capture
+    reader = reader or READER
     time_limit_s = time_limit_s or TIME_LIMIT_S
     given = [os.path.abspath(os.fsdecode(p)) for p in paths]
     existing = [path for path in given if os.path.lexists(path)]

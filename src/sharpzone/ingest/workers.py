@@ -6,11 +6,14 @@ ingest's metadata reader, the blur measure's and the report page's picture decod
 ``ReaderPool`` is the ingest's. It keeps ``workers`` processes, each fed through its own pipe with up to
 ``depth`` files at a time (sent, and answered, in batches: one message per file would cost
 as much as reading a small file). A worker reads its files in the order given, answers in
-that order, and counts each file it finishes in a shared-memory counter, so when one dies
-the parent knows which file killed it, even with answers still unsent: that file is
+that order, and keeps in shared memory the place of the file it is at (the files before it
+are finished), so when one dies the parent knows which file killed it, even with answers
+still unsent: that file is
 reported ("the metadata reader crashed on this file"), the worker is replaced, and the
 rest of its queue (the finished-but-unsent files too) goes to the others. A file that takes longer than ``time_limit_s`` is
-reported the same way ("timed out after N s"). (``concurrent.futures`` and
+reported the same way ("timed out after N s"). A job may come in stages (the ingest's
+reader does): a worker then takes each batch through one stage after the other, every
+file of it through a stage before the next, keeping the file at work up to date as it goes. (``concurrent.futures`` and
 ``multiprocessing.Pool`` cannot do this: the first breaks as a whole on a dead worker, the
 second hangs waiting for the lost task.)
 
@@ -93,17 +96,58 @@ def read_problem(task: Task, reason: str) -> ReadProblem:
 
 @dataclasses.dataclass(frozen=True)
 class _Job:
-    work: Callable  # called as work(*task)
+    # Called as work(*task); or stages: the first called as stage(*task), each next one
+    # with what the one before returned, until one returns an answer that is ``final``.
+    work: Callable | tuple[Callable, ...]
     problem: Callable[[Task, str], object]  # the answer for a task that failed, with the reason
     doer: str  # who works, as the reasons name it ("the metadata reader")
     packed: Callable | None = None  # an answer as it crosses the pipe, and back
     unpacked: Callable | None = None
     answer_batch: int = RESULT_BATCH  # answers sent at once at most
+    final: Callable[[object], bool] | None = None  # stages: whether a result ends its file's stages
 
 
-def _worker_main(connection, job: _Job, parent_pid: int, finished) -> None:
-    """A worker's loop: run the job on each batch of tasks sent, count every task finished
-    in ``finished`` (shared memory), and answer with the results in order."""
+def _attempt(job: _Job, function: Callable, args: tuple, task: Task) -> tuple[object, bool]:
+    """``function(*args)`` for ``task``, and whether it failed: a bug costs this file only."""
+    try:
+        return function(*args), False
+    except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
+        return job.problem(task, f"{job.doer} failed on this file ({type(error).__name__})"), True
+
+
+def _one_by_one(job: _Job, tasks: list[Task], at) -> list:
+    """The answers to ``tasks``, each file done before the next."""
+    answers = []
+    for task in tasks:
+        answers.append(_attempt(job, job.work, task, task)[0])
+        at.value += 1
+    return answers
+
+
+def _stage_by_stage(job: _Job, tasks: list[Task], at) -> list:
+    """The answers to ``tasks``, every file through one stage before the next; ``at`` names
+    the file at work at each step."""
+    first = at.value
+    results: list = list(tasks)
+    going = list(range(len(tasks)))
+    last = len(job.work) - 1
+    for number, stage in enumerate(job.work):
+        still = []
+        for index in going:
+            at.value = first + index
+            result, failed = _attempt(job, stage, tasks[index] if number == 0 else (results[index],), tasks[index])
+            results[index] = result
+            if not (failed or number == last or job.final(result)):
+                still.append(index)
+        going = still
+    at.value = first + len(tasks)
+    return results
+
+
+def _worker_main(connection, job: _Job, parent_pid: int, at) -> None:
+    """A worker's loop: run the job on each batch of tasks sent, keep the place of the file
+    at work in ``at`` (shared memory: the files before it are finished), and answer with the
+    results in order, at most ``answer_batch`` at a time."""
     faulthandler.disable()  # a crash is reported by the parent, in one line
     for number in _STOP_SIGNALS:
         signal.signal(number, signal.SIG_IGN)
@@ -117,19 +161,10 @@ def _worker_main(connection, job: _Job, parent_pid: int, finished) -> None:
             tasks = connection.recv()
             if tasks is None:
                 return
-            answers = []
-            for task in tasks:
-                try:
-                    result = job.work(*task)
-                except Exception as error:  # noqa: BLE001 - a reader bug costs this file only
-                    result = job.problem(task, f"{job.doer} failed on this file ({type(error).__name__})")
-                answers.append(job.packed(result) if job.packed else result)
-                finished.value += 1
-                if len(answers) >= job.answer_batch:
-                    connection.send(answers)
-                    answers = []
-            if answers:
-                connection.send(answers)
+            run = _stage_by_stage if isinstance(job.work, tuple) else _one_by_one
+            for start in range(0, len(tasks), job.answer_batch):
+                answers = run(job, tasks[start:start + job.answer_batch], at)
+                connection.send(list(map(job.packed, answers)) if job.packed else answers)
     except (EOFError, OSError):
         return  # the parent went away: leave without a word
 
@@ -145,8 +180,10 @@ class _Failed:
 class _Worker:
     def __init__(self, context, job: _Job) -> None:
         self.connection, child_end = context.Pipe(duplex=True)
-        self.finished = context.RawValue("q", 0)  # files this worker has finished reading
-        self.process = context.Process(target=_worker_main, args=(child_end, job, os.getpid(), self.finished),
+        # The place of the file at work among all this worker was sent (the files before it
+        # are finished).
+        self.at = context.RawValue("q", 0)
+        self.process = context.Process(target=_worker_main, args=(child_end, job, os.getpid(), self.at),
                                        daemon=True)
         # Block the stop signals across the fork so the child ignores them before any
         # could reach it; the parent gets any that arrived meanwhile right after.
@@ -158,7 +195,7 @@ class _Worker:
         child_end.close()
         self.queue: collections.deque[Task] = collections.deque()
         self.answered = 0  # files whose answers the parent has received
-        self.seen_finished = 0
+        self.seen_at = 0
         self.head_since = time.monotonic()
 
     def send(self, tasks: list[Task]) -> None:
@@ -171,15 +208,15 @@ class _Worker:
             pass  # it just died: found by its sentinel, and these tasks go to another worker
 
     def note_progress(self, now: float) -> None:
-        """The file at work changes when the shared counter moves: restart its clock."""
-        finished = self.finished.value
-        if finished != self.seen_finished:
-            self.seen_finished = finished
+        """The file at work changes when the shared place moves: restart its clock."""
+        at = self.at.value
+        if at != self.seen_at:
+            self.seen_at = at
             self.head_since = now
 
     def in_progress(self) -> int:
         """Index in ``queue`` of the file being read (finished ones may still be unsent)."""
-        return max(0, self.finished.value - self.answered)
+        return max(0, self.at.value - self.answered)
 
     def stop(self, *, at_once: bool = False) -> None:
         if not at_once:
@@ -204,7 +241,9 @@ class ContainedPool:
     """``workers`` contained processes running ``work(*task)`` for each task; use as a
     context manager around ``read``.
 
-    ``work`` is a module-level function and each task the tuple of its arguments;
+    ``work`` is a module-level function and each task the tuple of its arguments; or a
+    tuple of stage functions (``final(result)`` then tells a result that ends a file's
+    stages early), run stage by stage over each batch of ``answer_batch`` files.
     ``problem(task, reason)`` (module-level too) is the answer for a task whose worker
     crashed, hung past ``time_limit_s`` or raised, and ``doer`` names the worker in those
     reasons ("the picture decoder crashed on this file"). Tasks of a few tens of
@@ -212,11 +251,13 @@ class ContainedPool:
     of 1, so progress shows every file and an interrupt finds no finished work unsent.
     """
 
-    def __init__(self, work: Callable, workers: int, *, problem: Callable[[Task, str], object],
-                 doer: str, time_limit_s: float = TIME_LIMIT_S, depth: int = DEPTH,
-                 packed: Callable | None = None, unpacked: Callable | None = None,
-                 answer_batch: int = RESULT_BATCH) -> None:
-        self._job = _Job(work, problem, doer, packed, unpacked, max(1, answer_batch))
+    def __init__(self, work: Callable | tuple[Callable, ...], workers: int, *,
+                 problem: Callable[[Task, str], object], doer: str, time_limit_s: float = TIME_LIMIT_S,
+                 depth: int = DEPTH, packed: Callable | None = None, unpacked: Callable | None = None,
+                 answer_batch: int = RESULT_BATCH, final: Callable[[object], bool] | None = None) -> None:
+        if isinstance(work, tuple) and (not work or final is None):
+            raise ValueError("a job in stages needs at least one stage and a final() test")
+        self._job = _Job(work, problem, doer, packed, unpacked, max(1, answer_batch), final)
         self.size = max(1, workers)
         self.time_limit_s = time_limit_s
         self.depth = max(1, depth)
@@ -388,10 +429,14 @@ class BackgroundReads:
 
 class ReaderPool(ContainedPool):
     """The ingest's pool: ``reader`` is a module-level function ``(path, user_focus_mm) ->
-    CaptureRecord | ReadProblem`` (normally ``ingest.capture.read_capture``; tests pass
-    readers that crash or hang on marker files)."""
+    CaptureRecord | ReadProblem`` (tests pass readers that crash or hang on marker files),
+    or stages of one (normally ``ingest.capture.STAGES``), which a ``ReadProblem`` ends."""
 
-    def __init__(self, reader: Reader, workers: int, *, time_limit_s: float = TIME_LIMIT_S,
-                 depth: int = DEPTH) -> None:
+    def __init__(self, reader: Reader | tuple[Callable, ...], workers: int, *,
+                 time_limit_s: float = TIME_LIMIT_S, depth: int = DEPTH) -> None:
         super().__init__(reader, workers, problem=read_problem, doer=METADATA_READER, time_limit_s=time_limit_s,
-                         depth=depth, packed=_packed, unpacked=_unpacked)
+                         depth=depth, packed=_packed, unpacked=_unpacked, final=_is_read_problem)
+
+
+def _is_read_problem(result) -> bool:
+    return type(result) is ReadProblem

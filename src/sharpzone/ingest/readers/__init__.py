@@ -55,18 +55,32 @@ def default_readers() -> tuple[Reader, ...]:
     return (Exiv2Reader(), ExifreadReader())
 
 
-def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | None = None) -> Tags:
-    """Tags of one file from the first reader that opens its kind and does not fail.
+# ``read_tags`` without a kind told: it opens the file to tell it.
+_UNSNIFFED = object()
 
-    A file that every reader refuses raises the last reader's ``FileReadError`` (the
-    fallback walks the container itself and names the damage most precisely); a
-    damaged-directory verdict of the shared work budget is final (no other reader may
-    spend the time).
-    """
+
+def sniff_file(path: str | bytes | os.PathLike) -> str | None:
+    """The file's ``formats`` kind (``None``: not an image), told on one open that also runs
+    the shared directory check (the work budget for every reader); raises ``FileReadError``
+    for an empty, unreadable or damaged file."""
     from sharpzone.ingest.readers.containers import sniff_and_check
 
+    return sniff_and_check(os.fsdecode(path))
+
+
+def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | None = None, *,
+              kind: str | None | object = _UNSNIFFED) -> Tags:
+    """Tags of one file from the first reader that opens its kind and does not fail.
+
+    ``kind`` is what ``sniff_file`` told of this file, when it was asked already; else the
+    file is sniffed first. A file that every reader refuses raises the last reader's
+    ``FileReadError`` (the fallback walks the container itself and names the damage most
+    precisely); a damaged-directory verdict of the shared work budget is final (no other
+    reader may spend the time).
+    """
     path = os.fsdecode(path)
-    kind = sniff_and_check(path)  # one open: the kind, and the work budget for every reader
+    if kind is _UNSNIFFED:
+        kind = sniff_file(path)  # one open: the kind, and the work budget for every reader
     last_error: FileReadError | None = None
     for reader in readers if readers is not None else default_readers():
         if kind not in reader.kinds:
