@@ -43,3 +43,13 @@ def slow_reader(path, user_focus_mm=None):
     """``read_capture`` taking at least 20 ms a file, for interrupting a run part-way."""
     time.sleep(0.02)
     return read_capture(path, user_focus_mm)
+
+
+def _slow_sniffed(path, user_focus_mm=None):
+    time.sleep(0.15)
+    return sniffed(path, user_focus_mm)
+
+
+# ``capture.STAGES`` with a first stage of 0.15 s a file: a batch takes longer through it
+# than a time limit of 1 s, though no file does.
+SLOW_STAGES = (_slow_sniffed, tagged, recorded)

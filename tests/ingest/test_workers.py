@@ -13,7 +13,7 @@ from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
 from sharpzone.ingest.workers import BackgroundReads, ReaderPool, timed_out
 from tests.ingest.images import exif_block, jpeg
-from tests.ingest.readers import MISBEHAVING_STAGES, misbehaving_reader
+from tests.ingest.readers import MISBEHAVING_STAGES, SLOW_STAGES, misbehaving_reader
 
 CRASHED = "the metadata reader crashed on this file"
 
@@ -96,3 +96,13 @@ def test_the_ingest_reads_in_every_stage_of_read_capture():
     from sharpzone.ingest.pipeline import READER
 
     assert len(READER) == len(STAGES)
+
+
+def test_the_time_limit_is_for_a_file_not_for_a_batch_going_through_a_stage(tmp_path, written):
+    folder = tmp_path / "slow"
+    _card(written, folder, 12, [])
+    tasks = [(str(folder / name), None) for name in sorted(os.listdir(folder))]
+    with ReaderPool(SLOW_STAGES, 1, time_limit_s=1.0) as pool:  # 12 files: 1.8 s through the first stage
+        results = list(pool.read(tasks))
+    assert [getattr(result, "reason", None) for result in results] == [None] * 12
+    assert pool.replaced == 0

@@ -20,6 +20,9 @@ from sharpzone.ingest.sidecar import read_xmp_focus_distance
 
 XMP_FOCUS_KEY = "Xmp.exif.SubjectDistance"
 
+# ``read_capture`` is the API for one file (README, "Python API"); the ingest runs its stages.
+__all__ = ["read_capture", "STAGES", "sniffed", "tagged", "recorded"]
+
 
 def read_capture(path: str | bytes, user_focus_mm: float | None = None) -> CaptureRecord | ReadProblem:
     """Read one image into a ``CaptureRecord``, or a ``ReadProblem`` saying why it could not be.

@@ -115,39 +115,47 @@ def _attempt(job: _Job, function: Callable, args: tuple, task: Task) -> tuple[ob
         return job.problem(task, f"{job.doer} failed on this file ({type(error).__name__})"), True
 
 
+# Where a worker is, in shared memory: the place of the file at work among all it was sent
+# (the files before it are finished), and the steps taken so far (a step is a file, or a
+# file through one stage), by which the parent tells a worker at work from a stuck one.
+_PLACE, _STEPS = 0, 1
+
+
 def _one_by_one(job: _Job, tasks: list[Task], at) -> list:
     """The answers to ``tasks``, each file done before the next."""
     answers = []
     for task in tasks:
         answers.append(_attempt(job, job.work, task, task)[0])
-        at.value += 1
+        at[_PLACE] += 1
+        at[_STEPS] += 1
     return answers
 
 
 def _stage_by_stage(job: _Job, tasks: list[Task], at) -> list:
     """The answers to ``tasks``, every file through one stage before the next; ``at`` names
     the file at work at each step."""
-    first = at.value
+    first = at[_PLACE]
     results: list = list(tasks)
     going = list(range(len(tasks)))
     last = len(job.work) - 1
     for number, stage in enumerate(job.work):
         still = []
         for index in going:
-            at.value = first + index
+            at[_PLACE] = first + index
             result, failed = _attempt(job, stage, tasks[index] if number == 0 else (results[index],), tasks[index])
+            at[_STEPS] += 1
             results[index] = result
             if not (failed or number == last or job.final(result)):
                 still.append(index)
         going = still
-    at.value = first + len(tasks)
+    at[_PLACE] = first + len(tasks)
     return results
 
 
 def _worker_main(connection, job: _Job, parent_pid: int, at) -> None:
-    """A worker's loop: run the job on each batch of tasks sent, keep the place of the file
-    at work in ``at`` (shared memory: the files before it are finished), and answer with the
-    results in order, at most ``answer_batch`` at a time."""
+    """A worker's loop: run the job on each batch of tasks sent, keep where it is in ``at``
+    (shared memory: the place of the file at work, and the steps taken), and answer with
+    the results in order, at most ``answer_batch`` at a time."""
     faulthandler.disable()  # a crash is reported by the parent, in one line
     for number in _STOP_SIGNALS:
         signal.signal(number, signal.SIG_IGN)
@@ -180,9 +188,7 @@ class _Failed:
 class _Worker:
     def __init__(self, context, job: _Job) -> None:
         self.connection, child_end = context.Pipe(duplex=True)
-        # The place of the file at work among all this worker was sent (the files before it
-        # are finished).
-        self.at = context.RawValue("q", 0)
+        self.at = context.RawArray("q", 2)  # where it is (_PLACE, _STEPS)
         self.process = context.Process(target=_worker_main, args=(child_end, job, os.getpid(), self.at),
                                        daemon=True)
         # Block the stop signals across the fork so the child ignores them before any
@@ -195,7 +201,7 @@ class _Worker:
         child_end.close()
         self.queue: collections.deque[Task] = collections.deque()
         self.answered = 0  # files whose answers the parent has received
-        self.seen_at = 0
+        self.seen_steps = 0
         self.head_since = time.monotonic()
 
     def send(self, tasks: list[Task]) -> None:
@@ -208,15 +214,15 @@ class _Worker:
             pass  # it just died: found by its sentinel, and these tasks go to another worker
 
     def note_progress(self, now: float) -> None:
-        """The file at work changes when the shared place moves: restart its clock."""
-        at = self.at.value
-        if at != self.seen_at:
-            self.seen_at = at
+        """A step taken since last seen: the file at work is another one, restart its clock."""
+        steps = self.at[_STEPS]
+        if steps != self.seen_steps:
+            self.seen_steps = steps
             self.head_since = now
 
     def in_progress(self) -> int:
         """Index in ``queue`` of the file being read (finished ones may still be unsent)."""
-        return max(0, self.at.value - self.answered)
+        return max(0, self.at[_PLACE] - self.answered)
 
     def stop(self, *, at_once: bool = False) -> None:
         if not at_once:
