@@ -192,7 +192,7 @@ def run_demo(folder: str | os.PathLike = DEFAULT_FOLDER, *, progress=None) -> De
     from sharpzone.catalog.location import sqlite_url
     from sharpzone.ingest.pipeline import ingest_paths
     from sharpzone.measure.service import measure_frames
-    from sharpzone.report.frames_render import check_json, rows_json
+    from sharpzone.report.frames_machine import check_json, rows_json
     from sharpzone.report.jsonout import dumps
     from sharpzone.report.sheet_files import write_sheet
 

@@ -76,6 +76,13 @@ def test_read_commands_with_no_frame_to_read_load_neither_pandas_numpy_nor_alemb
     assert not _loaded(env, *command) & {"pandas", "numpy", "alembic"}
 
 
+@pytest.mark.parametrize("command", [["frames", "--json"], ["frames", "--csv"], ["check", "--jsonl"],
+                                     ["stats", "--json"]])
+def test_machine_output_loads_no_table_renderer(env, command):
+    # A script's command: the machine interface (report.frames_machine) draws nothing.
+    assert "rich" not in _loaded(env, *command)
+
+
 def test_lens_list_loads_no_pandas_nor_alembic(env):
     assert not _loaded(env, "lens", "list") & {"pandas", "alembic"}
 

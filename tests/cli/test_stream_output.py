@@ -23,7 +23,7 @@ def run(url, *args):
 def test_chunks_give_the_frames_of_one_pass_in_the_same_order(shoot_catalog, monkeypatch):  # noqa: F811
     from sharpzone.analysis.frames import FrameFilter, check_shoot, iter_check_shoot
     from sharpzone.catalog.engine import session_scope
-    from sharpzone.report.frames_render import check_records
+    from sharpzone.report.frames_machine import check_records
 
     with session_scope(shoot_catalog) as session:
         whole = check_records(check_shoot(session, FrameFilter()).frames)
@@ -100,7 +100,7 @@ def test_frames_without_a_measurement_read_the_same_once_another_is_measured(sho
     from sharpzone.analysis.frames import FrameFilter, frames_with_zones
     from sharpzone.catalog.engine import session_scope
     from sharpzone.catalog.models import Frame, FrameBlur
-    from sharpzone.report.frames_render import check_records
+    from sharpzone.report.frames_machine import check_records
 
     with session_scope(shoot_catalog) as session:
         before = check_records(frames_with_zones(session, FrameFilter()).frames)

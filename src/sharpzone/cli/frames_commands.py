@@ -57,14 +57,14 @@ def _stream(chunks, *, json: bool, jsonl: bool, checked: bool) -> None:
     import sys
 
     from sharpzone.collector import existing_objects_frozen
-    from sharpzone.report import frames_render
+    from sharpzone.report import frames_machine
 
     if json:
-        pieces = frames_render.stream_json(chunks, checked)
+        pieces = frames_machine.stream_json(chunks, checked)
     elif jsonl:
-        pieces = frames_render.stream_jsonl(chunks, checked)
+        pieces = frames_machine.stream_jsonl(chunks, checked)
     else:
-        pieces = frames_render.stream_csv(chunks)
+        pieces = frames_machine.stream_csv(chunks)
     # JSON comes as UTF-8 for the binary stream; a text-only stdout (a caller's StringIO) gets text.
     text_only = getattr(sys.stdout, "buffer", None) is None
     with existing_objects_frozen():
@@ -95,9 +95,11 @@ def stats(
 
     with catalog_session(ctx) as session:
         result = shoot_stats(session, where, coc_policy=judging.coc_policy, requirement=judging.requirement)
-    from sharpzone.report import frames_render
-
     if json:
-        echo_json(frames_render.stats_json(result))
+        from sharpzone.report.frames_machine import stats_json
+
+        echo_json(stats_json(result))
     else:
+        from sharpzone.report import frames_render
+
         frames_render.render_stats(result, imperial=imperial, wide=wide)
