@@ -112,3 +112,33 @@ def test_frames_without_a_measurement_read_the_same_once_another_is_measured(sho
     assert all(item["blur"] is None for item in before)
     assert after[0]["blur"]["analysed_long_px"] == 640 and after[0]["blur"]["focus_blur_px"] == 2.0
     assert after[1:] == before[1:]
+
+
+def test_a_reader_that_goes_away_part_way_gets_no_traceback(tmp_path):
+    """``sharpzone frames --jsonl | head``: the command stops quietly (exit 1, nothing on
+    stderr), its cursor closed while the catalogue is still open."""
+    import os
+    import subprocess
+    import sys
+
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_shoot
+
+    url = str(tmp_path / "big.sqlite")
+    with session_scope(url) as session:
+        shoot = add_shoot(session, "Long day")
+        session.add_all(Frame(path=f"/cards/day/IMG_{number:05d}.JPG", file_size=1000, file_mtime_ns=number,
+                              shoot=shoot, focal_mm=50.0, f_number=4.0, focus_mm=3000.0 + number, focus_source="exif")
+                        for number in range(6000))  # a few MB of output: far more than a pipe holds
+    # Buffered, as a shell runs it (unbuffered, a write the reader cut short returns short
+    # instead of failing, and a command whose output was one write ends with 0).
+    env = {**{key: value for key, value in os.environ.items() if key != "PYTHONUNBUFFERED"}, "SHARPZONE_CATALOG": url}
+    for output in ("--jsonl", "--json", "--csv"):
+        command = subprocess.Popen([sys.executable, "-m", "sharpzone", "frames", output], stdout=subprocess.PIPE,
+                                   stderr=subprocess.PIPE, env=env)
+        assert len(command.stdout.read(300)) == 300
+        command.stdout.close()  # the reader goes away
+        errors = command.stderr.read().decode()
+        assert command.wait(timeout=60) == 1, errors
+        assert errors == "", output

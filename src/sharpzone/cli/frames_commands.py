@@ -39,13 +39,18 @@ def frames(
 def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: bool, csv: bool, render) -> None:
     """Call the service of ``frames`` or (``checked``) ``check``: streamed for machine output
     (written a chunk of frames at a time), else whole and handed to ``render``."""
+    import contextlib
+
     from sharpzone.analysis import frames as service
 
     options = {"coc_policy": judging.coc_policy, "requirement": judging.requirement}
     with catalog_session(ctx) as session:
         if json or jsonl or csv:
             chunks = (service.iter_check_shoot if checked else service.iter_checked)(session, where, **options)
-            return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
+            # Closed while the catalogue is still open, also when the reader goes away
+            # (``| head``): its cursor is then closed in order, not after the database.
+            with contextlib.closing(chunks):
+                return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
         result = (service.check_shoot if checked else service.frames_with_zones)(session, where, **options)
     render(result)
 
