@@ -94,6 +94,8 @@ STAGES = textwrap.dedent("""
     def to_local(name):
         return lambda seconds: spent.__setitem__(name, spent[name] + seconds)
 
+    if hasattr(capture, "sniff_file"):  # reading is sniffing, then the readers (code before: read_tags did both)
+        capture.sniff_file = timed(capture.sniff_file, to_shared(0))
     capture.read_tags = timed(capture.read_tags, to_shared(0))
     capture.normalise_capture = timed(capture.normalise_capture, to_shared(1))
     match.CatalogMatcher.match = timed(match.CatalogMatcher.match, to_local("match"))
