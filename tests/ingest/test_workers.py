@@ -12,7 +12,8 @@ from sharpzone.catalog.engine import open_catalog, session_scope
 from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
 from sharpzone.ingest.workers import BackgroundReads, ReaderPool, timed_out
-from tests.ingest.images import exif_block, jpeg
+from tests.ingest import makernotes
+from tests.ingest.images import exif_block, jpeg, raw_with_embedded_jpeg, tiff_with_ifd_loop
 from tests.ingest.readers import MISBEHAVING_STAGES, SLOW_STAGES, misbehaving_reader
 
 CRASHED = "the metadata reader crashed on this file"
@@ -79,12 +80,24 @@ def test_a_record_read_in_a_worker_arrives_as_it_was_read(tmp_path, written, sta
     written("empty.JPG", b"", folder)
     written("notes.JPG", b"not a picture at all", folder)
     written("no-exif.JPG", b"\xff\xd8\xff\xd9", folder)
+    # Shaped as cameras write them: maker-note brackets (libexiv2 writes the fields), a raw
+    # container, a raw file carrying only an embedded JPEG, and a directory that loops.
+    written("canon.JPG", makernotes.makernote_jpeg(makernotes.CANON, {
+        "Exif.CanonFi.FocusDistanceUpper": "250", "Exif.CanonFi.FocusDistanceLower": "240"}), folder)
+    written("nikon.JPG", makernotes.makernote_jpeg(makernotes.NIKON, makernotes.nikon_lens_data("0204", 80)), folder)
+    written("raw.CR3", makernotes.cr3(220, 200), folder)
+    written("embedded.NEF", raw_with_embedded_jpeg(jpeg(exif_block(subject_distance=(3000, 1000)))), folder)
+    written("loop.TIF", tiff_with_ifd_loop(), folder)
     tasks = [(str(folder / name), 2500.0 if name == "G001.JPG" else None) for name in sorted(os.listdir(folder))]
     with ReaderPool(READER if stages else read_capture, 2) as pool:
         arrived = {result.path: result for result in pool.read(tasks)}
     expected = {path: read_capture(path, user_mm) for path, user_mm in tasks}
     assert arrived == expected
-    assert sum(isinstance(result, CaptureRecord) for result in arrived.values()) == 7  # no-exif.JPG: a frame
+    records = {os.path.basename(path) for path, result in arrived.items() if isinstance(result, CaptureRecord)}
+    assert records == {f"G{n:03d}.JPG" for n in range(6)} | {"no-exif.JPG", "canon.JPG", "nikon.JPG", "raw.CR3",
+                                                             "embedded.NEF", "loop.TIF"}  # no-exif.JPG: a frame
+    assert (arrived[str(folder / "canon.JPG")].focus_near_mm, arrived[str(folder / "canon.JPG")].focus_far_mm) == (
+        2400, 2500)  # the maker's bracket, as libexiv2 prints it (2.40 m / 2.50 m)
     assert isinstance(arrived[str(folder / "broken.JPG")], ReadProblem)
     assert (arrived[str(folder / "empty.JPG")].reason, arrived[str(folder / "notes.JPG")].reason) == (
         "empty file", "not an image")

@@ -231,7 +231,9 @@ def iter_checked(session: Session, where: FrameFilter = FrameFilter(), *, coc_po
                  requirement: Requirement | None = None, chunk_rows: int | None = CHUNK_ROWS) -> Iterator[pd.DataFrame]:
     """``frames_with_zones`` a chunk at a time (see ``iter_frames``): the frames of
     ``CheckResult.frames`` in the same order, as DataFrames of at most ``chunk_rows`` rows,
-    for output that is written as it is computed; none when no frame matches (``iter_frames``)."""
+    for output that is written as it is computed; none when no frame matches (``iter_frames``).
+    It reads from an open cursor: finish it, or close it (``contextlib.closing``) if you stop
+    early, before ``session`` ends, as ``sharpzone frames --json`` does."""
     from sharpzone.optics.coc import parse_coc_policy
 
     policy = parse_coc_policy(coc_policy) if coc_policy else None

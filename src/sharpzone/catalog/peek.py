@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import os
 import sqlite3
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 from urllib.parse import quote
 
@@ -50,17 +50,28 @@ def _stamp(connection: sqlite3.Connection) -> str | None:
     return stamped[0][0] if len(stamped) == 1 else None
 
 
+def _ask(url: str, head: str | None, question: Callable[[sqlite3.Connection], object], cautious):
+    """``question(connection)`` of the SQLite catalogue file at ``url``, on a connection
+    closed afterwards; ``cautious`` when it is not that simple: another database, no file,
+    a stamp other than ``head`` (``None``: any), or any error."""
+    connection = _connect(_sqlite_file(url))
+    if connection is None:
+        return cautious
+    try:
+        if head is not None and _stamp(connection) != head:
+            return cautious
+        return question(connection)
+    except sqlite3.Error:
+        return cautious
+    finally:
+        connection.close()
+
+
 def stamped_revision(url: str) -> str | None:
     """The revision stamped in an existing SQLite catalogue file (one read-only query);
     ``None`` when it is not that simple (another database, no file, no stamp, several, or
     any error)."""
-    connection = _connect(_sqlite_file(url))
-    if connection is None:
-        return None
-    try:
-        return _stamp(connection)
-    finally:
-        connection.close()
+    return _ask(url, None, _stamp, None)
 
 
 def may_hold_frames_under(url: str, roots: Iterable[str], head: str) -> bool:
@@ -73,14 +84,10 @@ def may_hold_frames_under(url: str, roots: Iterable[str], head: str) -> bool:
     path = _sqlite_file(url)
     if path is not None and not os.path.lexists(path):
         return False
-    connection = _connect(path)
-    if connection is None:
-        return True
-    try:
-        if _stamp(connection) != head:
-            return True
-        query = (f"SELECT 1 FROM {FRAME_TABLE} WHERE {FRAME_PATH_COLUMN} = ? "
-                 f"OR ({FRAME_PATH_COLUMN} >= ? AND {FRAME_PATH_COLUMN} < ?) LIMIT 1")
+    query = (f"SELECT 1 FROM {FRAME_TABLE} WHERE {FRAME_PATH_COLUMN} = ? "
+             f"OR ({FRAME_PATH_COLUMN} >= ? AND {FRAME_PATH_COLUMN} < ?) LIMIT 1")
+
+    def holds_any(connection: sqlite3.Connection) -> bool:
         for root in roots:
             folder = root.rstrip(os.sep) + os.sep
             # Under SQLite's default (binary) collation the paths below the folder are
@@ -89,10 +96,8 @@ def may_hold_frames_under(url: str, roots: Iterable[str], head: str) -> bool:
             if connection.execute(query, (root, folder, beyond)).fetchone() is not None:
                 return True
         return False
-    except sqlite3.Error:
-        return True
-    finally:
-        connection.close()
+
+    return _ask(url, head, holds_any, True)
 
 
 def sensor_format(url: str, name: str, head: str) -> SensorFormat | None:
@@ -100,17 +105,8 @@ def sensor_format(url: str, name: str, head: str) -> SensorFormat | None:
     catalogue at ``url``, read with one query; ``None`` when it is not that simple (another
     database, no file, a schema other than ``head``, any error) or the catalogue has no such
     format (the full path then says so, naming the ones it has)."""
-    connection = _connect(_sqlite_file(url))
-    if connection is None:
-        return None
-    try:
-        if _stamp(connection) != head:
-            return None
-        rows = connection.execute(f"SELECT {', '.join(FORMAT_COLUMNS)} FROM {FORMAT_TABLE} ORDER BY name").fetchall()
-    except sqlite3.Error:
-        return None
-    finally:
-        connection.close()
+    rows = _ask(url, head, lambda connection: connection.execute(
+        f"SELECT {', '.join(FORMAT_COLUMNS)} FROM {FORMAT_TABLE} ORDER BY name").fetchall(), [])
     for found, width_mm, height_mm, coc_divisor, aliases in rows:
         if format_answers_to(name, found, aliases):
             return SensorFormat(found, width_mm, height_mm, coc_divisor)

@@ -125,27 +125,30 @@ _WRAP_AT_LEAST = 12  # a wrapping column keeps this many cells (or its longest w
 
 def _widths(cells: Sequence[str | Text]) -> tuple[int, int]:
     """(natural width, longest word) of a column's cells."""
-    natural = longest_word = 0
-    for cell in cells:
-        text = cell.plain if isinstance(cell, Text) else inert(cell)
-        for part in text.split("\n"):
-            natural = max(natural, cell_len(part))
-            longest_word = max(longest_word, max((cell_len(word) for word in _words(part)), default=0))
+    natural, longest_word, _ = _measures(cells)
     return natural, longest_word
 
 
-def _deciding_rows(cells: Sequence[str | Text]) -> set[int]:
-    """The rows whose cells decide how rich measures a column of ``cells``: rich takes a
-    cell's longest line for its widest and its longest word (split at white space) for its
-    narrowest, and the column's as the largest of each over its cells."""
-    if not cells:
-        return set()
-    longest_line, longest_word = [], []
-    for cell in cells:
+def _measures(cells: Sequence[str | Text]) -> tuple[int, int, set[int]]:
+    """A column's (natural width, longest word as we wrap, rows deciding how rich measures
+    it), in one pass over its cells. Rich takes a cell's longest line for its widest and its
+    longest word (split at white space) for its narrowest, and the column's as the largest
+    of each over its cells, so the rows holding those two decide."""
+    natural = longest_word = 0
+    widest = (-1, 0)  # (cells, row) of the longest line, and of the longest white-space word
+    widest_word = (-1, 0)
+    for row, cell in enumerate(cells):
         text = cell.plain if isinstance(cell, Text) else inert(cell)
-        longest_line.append(max(map(cell_len, text.splitlines()), default=0))
-        longest_word.append(max(map(cell_len, text.split()), default=0))
-    return {longest_line.index(max(longest_line)), longest_word.index(max(longest_word))}
+        line_cells = 0
+        for part in text.split("\n"):
+            line_cells = max(line_cells, cell_len(part))
+            longest_word = max(longest_word, max((cell_len(word) for word in _words(part)), default=0))
+        natural = max(natural, line_cells)
+        word_cells = max(map(cell_len, text.split()), default=0)
+        widest = max(widest, (line_cells, -row))
+        widest_word = max(widest_word, (word_cells, -row))
+    rows = {-widest[1], -widest_word[1]} if cells else set()
+    return natural, longest_word, rows
 
 
 def _header_lines(header: str, width: int) -> str:
@@ -198,8 +201,8 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
 
     def column_widths(column) -> tuple[int, int]:
         if id(column) not in widths:
-            widths[id(column)] = _widths(cells[id(column)])
-            deciding[id(column)] = _deciding_rows(cells[id(column)])
+            natural, longest_word, rows = _measures(cells[id(column)])
+            widths[id(column)], deciding[id(column)] = (natural, longest_word), rows
         return widths[id(column)]
 
     def wrap_minimum(column) -> int:
