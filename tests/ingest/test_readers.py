@@ -224,7 +224,7 @@ class _ScriptedReader:
     result: object
     calls: list = dataclasses.field(default_factory=list)
 
-    def read(self, path, *, checked=False):
+    def read(self, path, *, checked=False, metadata=None):
         self.calls.append((path, checked))
         if isinstance(self.result, Exception):
             raise self.result

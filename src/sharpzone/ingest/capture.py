@@ -52,9 +52,9 @@ def sniffed(path: str | bytes, user_focus_mm: float | None = None) -> tuple | Re
 
 def tagged(state: tuple) -> tuple | ReadProblem:
     """The second stage: the tags, from the first reader that opens the file's kind."""
-    path, user_focus_mm, kind = state
+    path, user_focus_mm, sniffed = state
     try:
-        return path, user_focus_mm, read_tags(path, kind=kind)
+        return path, user_focus_mm, read_tags(path, sniffed=sniffed)
     except FileReadError as err:
         return ReadProblem(path, err.reason)
 

@@ -25,9 +25,12 @@ from __future__ import annotations
 
 import functools
 import os
-from typing import Protocol
+from typing import TYPE_CHECKING, Protocol
 
 from sharpzone.ingest.records import FileReadError
+
+if TYPE_CHECKING:
+    from sharpzone.ingest.readers.containers import Sniffed
 
 TagValue = int | float | str | bytes | tuple | None
 Tags = dict[str, TagValue]
@@ -39,9 +42,11 @@ class Reader(Protocol):
     name: str
     kinds: frozenset[str]
 
-    def read(self, path: str, *, checked: bool = False) -> Tags:
+    def read(self, path: str, *, checked: bool = False, metadata: bytes | None = None) -> Tags:
         """The file's tags, keyed and valued as this package's docstring says. ``checked``:
-        the shared directory check already ran on the file (a reader may skip its own)."""
+        the shared directory check already ran on the file (a reader may skip its own);
+        ``metadata``: a JPEG's bytes up to its image data, read already (``Sniffed``), which
+        a reader may decode instead of opening the file again."""
         ...
 
 
@@ -55,38 +60,36 @@ def default_readers() -> tuple[Reader, ...]:
     return (Exiv2Reader(), ExifreadReader())
 
 
-# ``read_tags`` without a kind told: it opens the file to tell it.
-_UNSNIFFED = object()
-
-
-def sniff_file(path: str | bytes | os.PathLike) -> str | None:
-    """The file's ``formats`` kind (``None``: not an image), told on one open that also runs
-    the shared directory check (the work budget for every reader); raises ``FileReadError``
-    for an empty, unreadable or damaged file."""
+def sniff_file(path: str | bytes | os.PathLike) -> Sniffed:
+    """The file's ``formats`` kind (``Sniffed.kind``; ``None``: not an image), told on one
+    open that also runs the shared directory check (the work budget for every reader) and,
+    for a JPEG, reads its metadata segments (``Sniffed.metadata``); raises
+    ``FileReadError`` for an empty, unreadable or damaged file."""
     from sharpzone.ingest.readers.containers import sniff_and_check
 
     return sniff_and_check(os.fsdecode(path))
 
 
 def read_tags(path: str | bytes | os.PathLike, readers: tuple[Reader, ...] | None = None, *,
-              kind: str | None | object = _UNSNIFFED) -> Tags:
+              sniffed: Sniffed | None = None) -> Tags:
     """Tags of one file from the first reader that opens its kind and does not fail.
 
-    ``kind`` is what ``sniff_file`` told of this file, when it was asked already; else the
-    file is sniffed first. A file that every reader refuses raises the last reader's
+    ``sniffed`` is what ``sniff_file`` told of this file, when it was asked already; else
+    the file is sniffed first. A file that every reader refuses raises the last reader's
     ``FileReadError`` (the fallback walks the container itself and names the damage most
     precisely); a damaged-directory verdict of the shared work budget is final (no other
     reader may spend the time).
     """
     path = os.fsdecode(path)
-    if kind is _UNSNIFFED:
-        kind = sniff_file(path)  # one open: the kind, and the work budget for every reader
+    if sniffed is None:
+        sniffed = sniff_file(path)  # one open: the kind, and the work budget for every reader
+    kind = sniffed.kind
     last_error: FileReadError | None = None
     for reader in readers if readers is not None else default_readers():
         if kind not in reader.kinds:
             continue
         try:
-            return reader.read(path, checked=True)
+            return reader.read(path, checked=True, metadata=sniffed.metadata)
         except FileReadError as err:
             if err.reason.startswith(_FINAL_REASONS):
                 raise

@@ -13,7 +13,7 @@ import io
 import os
 import struct
 from dataclasses import dataclass
-from typing import BinaryIO
+from typing import BinaryIO, NamedTuple
 
 from sharpzone.ingest import formats
 
@@ -102,8 +102,25 @@ def directory_damage(file: BinaryIO, head: bytes | None = None) -> str | None:
         else:
             check_directories(io.BytesIO(block), len(block))
     except Unreadable as err:
-        if str(err).startswith("damaged EXIF"):
-            return str(err)
+        return _final_damage(err)
+    return None
+
+
+def _final_damage(err: Unreadable) -> str | None:
+    """The reason of a damaged-directory verdict (final for every reader), else ``None``:
+    other trouble walking a container is left to the reader, which names it."""
+    return str(err) if str(err).startswith("damaged EXIF") else None
+
+
+def _block_damage(block: bytes | None) -> str | None:
+    """``directory_damage`` for an EXIF TIFF block already in hand."""
+    if block is None:
+        return None
+    try:
+        check_tiff_header(block, len(block))
+        check_directories(io.BytesIO(block), len(block))
+    except Unreadable as err:
+        return _final_damage(err)
     return None
 
 
@@ -398,26 +415,98 @@ def _webp_exif_block(file: BinaryIO) -> bytes | None:
     return None
 
 
-def sniff_and_check(path: str) -> str | None:
-    """The ``formats`` kind of a file by its first bytes (``None`` when none matches), and
-    the shared directory check on the same open file (one open for both).
+class Sniffed(NamedTuple):
+    """What ``sniff_and_check`` told of a file: its ``formats`` kind (``None``: not an
+    image), and for a JPEG whose metadata segments end within ``METADATA_PREFIX_BYTES``, its
+    bytes up to the start of the image data (``metadata``), which hold everything a reader
+    decodes; else ``None``."""
+
+    kind: str | None
+    metadata: bytes | None = None
+
+
+# A JPEG whose marker segments before the image data (EXIF, maker notes, XMP, ICC profile)
+# take more than this is read from the file, not from memory.
+METADATA_PREFIX_BYTES = 256 << 10
+
+
+def sniff_and_check(path: str) -> Sniffed:
+    """The ``formats`` kind of a file by its first bytes, and the shared directory check on
+    the same open file (one open for both); a JPEG's metadata segments come back with it
+    (``Sniffed.metadata``), read on that open, so a reader need not open the file again.
 
     Raises ``FileReadError`` for an empty or unreadable file, and for damaged directories.
     """
     from sharpzone.ingest.records import FileReadError, os_error_reason
 
     try:
-        with open(path, "rb") as file:
-            head = file.read(HEAD_BYTES)
-            if not head:
-                raise FileReadError(path, "empty file")
-            kind = formats.sniff_image_kind(head[:64])
+        descriptor = os.open(path, os.O_RDONLY | getattr(os, "O_CLOEXEC", 0))
+    except OSError as err:
+        raise FileReadError(path, os_error_reason(err)) from None
+    try:
+        head = os.read(descriptor, HEAD_BYTES)
+        if not head:
+            raise FileReadError(path, "empty file")
+        kind = formats.sniff_image_kind(head[:64])
+        if kind == formats.JPEG:
+            metadata = _jpeg_metadata(descriptor, head)
+            if metadata is not None:
+                damage = _block_damage(metadata[0])
+                if damage is not None:
+                    raise FileReadError(path, damage)
+                return Sniffed(kind, metadata[1])
+        # Anything else, or a JPEG off the common shape: walked on the file, as readers see it.
+        with open(descriptor, "rb", closefd=False) as file:
             damage = directory_damage(file, head) if kind is not None else None
     except OSError as err:
         raise FileReadError(path, os_error_reason(err)) from None
+    finally:
+        os.close(descriptor)
     if damage is not None:
         raise FileReadError(path, damage)
-    return kind
+    return Sniffed(kind)
+
+
+def _jpeg_metadata(descriptor: int, head: bytes) -> tuple[bytes | None, bytes] | None:
+    """A JPEG's EXIF TIFF block (or ``None``) and its bytes up to the end of the start-of-scan
+    marker, read on from ``head`` as the segment lengths lead; ``None`` for anything off the
+    common shape (fill bytes, markers without a length, the end of the data before the scan,
+    a short file, more than ``METADATA_PREFIX_BYTES``), which the file-based walk then names."""
+    data = bytearray(head)
+    position, block = 2, None
+    while True:
+        if position + 4 > len(data) and not _read_up_to(descriptor, data, position + 4):
+            return None
+        if data[position] != 0xFF:
+            return None
+        marker = data[position + 1]
+        if marker == 0xDA:  # start of scan: the metadata is all before it
+            return block, bytes(data[:position + 2])
+        if marker == 0xFF or marker == 0xD9 or 0xD0 <= marker <= 0xD7 or marker == 0x01:
+            return None
+        length = (data[position + 2] << 8) | data[position + 3]
+        if length < 2:
+            return None
+        end = position + 2 + length
+        if marker == 0xE1 and block is None:
+            if end > len(data) and not _read_up_to(descriptor, data, end):
+                return None
+            if data.startswith(b"Exif\x00\x00", position + 4):
+                block = bytes(data[position + 10:end])
+        position = end
+
+
+def _read_up_to(descriptor: int, data: bytearray, size: int) -> bool:
+    """Read on until ``data`` holds ``size`` bytes; ``False`` past the prefix limit or the
+    end of the file."""
+    if size > METADATA_PREFIX_BYTES:
+        return False
+    while len(data) < size:
+        more = os.read(descriptor, max(size - len(data), HEAD_BYTES))
+        if not more:
+            return False
+        data += more
+    return True
 
 
 # JPEG start-of-frame markers (ISO/IEC 10918-1 B.1.1.3): C0-CF except DHT C4, JPG C8, DAC CC.

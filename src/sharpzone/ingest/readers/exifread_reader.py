@@ -56,10 +56,10 @@ class ExifreadReader:
     kinds = frozenset({formats.JPEG, formats.TIFF, formats.PNG, formats.HEIF, formats.WEBP, formats.RAF,
                        formats.EMBEDDED_JPEG, None})
 
-    def read(self, path: str, *, checked: bool = False) -> Tags:
+    def read(self, path: str, *, checked: bool = False, metadata: bytes | None = None) -> Tags:
         """The file's standard tags (see the package docstring); ``{}`` without EXIF.
-        (``checked`` changes nothing here: this reader walks the directories itself, for
-        the loops it must skip.)"""
+        (``checked`` and ``metadata`` change nothing here: this reader walks the container
+        and its directories itself, for the loops it must skip.)"""
         try:
             with open(path, "rb") as file:
                 block = exif_tiff_block(file)
