@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Iterator
-from contextlib import contextmanager
+from contextlib import ExitStack, contextmanager
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -207,24 +207,31 @@ def open_catalog(location: str | os.PathLike | None = None, *, write: bool = Tru
     …") instead of a new empty one, and a file in a read-only folder, or itself read-only,
     is opened read-only (SQLite's immutable mode: no journal files are needed).
     """
-    from sqlalchemy.exc import DBAPIError
+    from sharpzone.collector import collections_paused, existing_objects_frozen
 
-    from sharpzone.catalog.migrate import prepare_catalog
+    with ExitStack() as open_while:
+        # Loading the database layer and the models makes objects that live on: the
+        # collector is paused meanwhile and they stay frozen while the catalogue is open, so
+        # none of its passes walks them (``sharpzone.collector``).
+        with collections_paused():
+            from sqlalchemy.exc import DBAPIError
 
-    url = resolve_catalog_url(location)
-    if not write:
-        url = _url_for_reading(url, named=location is not None or bool(os.environ.get(ENV_VAR)))
-    else:
-        _make_sqlite_folder(url)
-    prepare_catalog(url)
-    engine = create_catalog_engine(url)
-    catalog = Catalog(url, engine)
-    try:
-        yield catalog
-    except DBAPIError as error:
-        raise translate_database_error(error, url) from error
-    finally:
-        catalog.close()
+            import sharpzone.catalog.models  # noqa: F401 - every use of a catalogue needs them
+            from sharpzone.catalog.migrate import prepare_catalog
+
+            url = resolve_catalog_url(location)
+            if not write:
+                url = _url_for_reading(url, named=location is not None or bool(os.environ.get(ENV_VAR)))
+            else:
+                _make_sqlite_folder(url)
+            prepare_catalog(url)
+            catalog = Catalog(url, create_catalog_engine(url))
+            open_while.callback(catalog.close)
+            open_while.enter_context(existing_objects_frozen())
+        try:
+            yield catalog
+        except DBAPIError as error:
+            raise translate_database_error(error, url) from error
 
 
 @contextmanager

@@ -572,8 +572,8 @@ def _ingest(opening: contextlib.AbstractContextManager[Catalog], read_early: Cal
                 ahead.hand_over(plan)
             else:
                 reads = stack.enter_context(_Reads(plan.files_to_read(scan), jobs, reader, time_limit_s))
-            # What is alive now (modules, the catalogue's metadata, the frames known) stays out
-            # of the collections the run's many short-lived objects set off.
+            # What is alive now (the frames known too) stays out of the collections the run's
+            # many short-lived objects set off.
             with existing_objects_frozen():
                 _run(catalog, plan, reads, target, stored, summary, batch_size, matcher_factory, notify, prune,
                      shoot_names)
