@@ -201,7 +201,7 @@ def test_catalogue_commands_load_no_database_library_until_run():
 
 
 def test_lens_max_magnification_forms_edit_clear_and_refusals(cli):
-    # The specification's forms: 1:1, 0.5x, 0.25 (one parser, optics.macro.parse_magnification).
+    # The specification's forms: 1:1, 0.5x, 0.25 (one parser, optics.magnification.parse_magnification).
     assert cli("lens", "add", "Vale Macro 100", "--focal", "100", "--aperture", "2.8", "--close-focus", "30cm",
                "--max-magnification", "1:1").exit_code == 0
     data = json.loads(cli("lens", "show", "Vale Macro 100", "--json").stdout)

@@ -44,6 +44,10 @@ def env(tmp_path_factory):
     environment = {**os.environ, "SHARPZONE_CATALOG": str(folder / "empty.sqlite"), "COLUMNS": "120"}
     subprocess.run([sys.executable, "-m", "sharpzone", "shoot", "add", "Empty"], check=True, capture_output=True,
                    env=environment)
+    # A lens with a maximum magnification, which the lens tables show as 1:1.
+    subprocess.run([sys.executable, "-m", "sharpzone", "lens", "add", "Close 100/2.8", "--focal", "100", "--aperture",
+                    "2.8", "--close-focus", "30cm", "--max-magnification", "1:1"], check=True, capture_output=True,
+                   env=environment)
     return environment
 
 
@@ -65,7 +69,7 @@ def test_dof_with_a_current_catalogue_loads_no_database_library(env, options):
 
 
 @pytest.mark.parametrize("command", [["body", "list"], ["format", "list"], ["shoot", "show", "Empty"],
-                                     ["catalog", "info"]])
+                                     ["catalog", "info"], ["lens", "list"], ["lens", "show", "Close 100/2.8"]])
 def test_catalogue_lists_load_neither_pandas_numpy_nor_the_bundle_code(env, command):
     assert not _loaded(env, *command) & {"pandas", "numpy", "alembic", "sharpzone.catalog.service.bundle"}
 

@@ -25,9 +25,9 @@ from sharpzone.optics.macro import (
     close_focus_focal_mm,
     effective_focal_mm,
     magnification_at_focus,
-    parse_magnification,
     sharp_zone_focusing,
 )
+from sharpzone.optics.magnification import parse_magnification
 
 optics = pytest.importorskip("sympy.physics.optics")
 

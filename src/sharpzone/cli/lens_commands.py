@@ -50,7 +50,7 @@ MaxMagnificationOpt = Annotated[Optional[str], typer.Option(
 
 
 def _magnification_option(value: str | None) -> float | None:
-    from sharpzone.optics.macro import parse_magnification
+    from sharpzone.optics.magnification import parse_magnification
 
     if value is None:
         return None

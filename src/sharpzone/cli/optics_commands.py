@@ -89,7 +89,7 @@ def _lens(ctx, given: _LensOptions, pupil: float | None) -> _Lens:
     """Focal length and focusing from the options, a catalogued lens filling the gaps."""
     focal, lens, max_magnification, close_focus = given.focal, given.lens, given.max_magnification, given.close_focus
     from sharpzone.errors import InvalidValue
-    from sharpzone.optics.macro import parse_magnification
+    from sharpzone.optics.magnification import parse_magnification
 
     found = None
     if lens is not None:

@@ -28,7 +28,7 @@ _EXPORTS = {
     "MacroSpec": "sharpzone.optics.macro",
     "check_macro_spec": "sharpzone.optics.macro",
     "effective_focal_mm": "sharpzone.optics.macro",
-    "parse_magnification": "sharpzone.optics.macro",
+    "parse_magnification": "sharpzone.optics.magnification",
     "sharp_zone_focusing": "sharpzone.optics.macro",
     "FocusPlan": "sharpzone.optics.planning",
     "StackPlan": "sharpzone.optics.planning",

@@ -86,7 +86,7 @@ BODY_FIELDS = [
 ]
 
 def _magnification_text(value: float | None) -> str:
-    from sharpzone.optics.macro import format_magnification
+    from sharpzone.optics.magnification import format_magnification
 
     return "—" if value is None else format_magnification(value)
 

@@ -133,7 +133,7 @@ def _focusing_fact(sheet: Sheet, *, imperial: bool, table: FocalTable | None) ->
         return []
     each = followed[0]
     spec = each.macro
-    from sharpzone.optics.macro import format_magnification
+    from sharpzone.optics.magnification import format_magnification
 
     return [("Close focusing", f"{format_magnification(spec.max_magnification)} at "
              f"{format_round_distance(spec.close_focus_mm, imperial=imperial)}: "
