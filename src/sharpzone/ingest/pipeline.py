@@ -157,11 +157,15 @@ class _CaptureStage:
 
     def __init__(self, number: int) -> None:
         self.number = number
+        self._stage = None  # found at the first call (an import statement per file cost ~1 µs)
 
     def __call__(self, *args):
-        from sharpzone.ingest.capture import STAGES
+        stage = self._stage
+        if stage is None:
+            from sharpzone.ingest.capture import STAGES
 
-        return STAGES[self.number](*args)
+            stage = self._stage = STAGES[self.number]
+        return stage(*args)
 
 
 # The ingest's reader: ``ingest.capture.read_capture`` in its three stages, which the
@@ -219,12 +223,10 @@ _NO_POINT = (None, None, None, None)
 
 
 def _frame_values(record: CaptureRecord, candidate: CandidateFile, shown: str, shoot_id: int | None, body_id,
-                  lens_id, warnings: list[str]) -> list:
+                  lens_id, warnings: list[str], checked: Callable[[list, list[str]], list]) -> list:
     """The frame row of ``record`` (at ``shown``, the printable form of its path) as values
-    of ``FRAME_COLUMNS``, each value that breaks a
-    catalogue rule dropped with a warning (``catalog.rules.frame_values_checker``)."""
-    from sharpzone.catalog.rules import frame_values_checker
-
+    of ``FRAME_COLUMNS``, each value that breaks a catalogue rule dropped with a warning by
+    ``checked`` (``catalog.rules.frame_values_checker(FRAME_COLUMNS)``)."""
     near, far, key = record.focus_near_mm, record.focus_far_mm, record.focus_key
     if record.focus_source == "user":
         near = far = record.focus_mm
@@ -232,7 +234,7 @@ def _frame_values(record: CaptureRecord, candidate: CandidateFile, shown: str, s
     elif record.focus_mm is not None and near is None and far is None:
         near = far = record.focus_mm  # a reader that gives no bracket gives an exact distance
     point = record.focus_point or _NO_POINT
-    values = frame_values_checker(FRAME_COLUMNS)([
+    values = checked([
         shoot_id, shown, candidate.size, candidate.mtime_ns, record.captured_at,
         record.utc_offset_minutes, body_id, lens_id, record.focal_mm, record.f_number, record.exposure_s,
         record.iso, record.focus_mm, record.focus_source, near, far, key, record.subject_distance_range,
@@ -317,8 +319,10 @@ def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem
     from sqlalchemy import delete, select, update
 
     from sharpzone.catalog.models import Frame, IngestProblem
+    from sharpzone.catalog.rules import frame_values_checker
     from sharpzone.catalog.upsert import upsert_values
 
+    checked = frame_values_checker(FRAME_COLUMNS)
     for attempt in range(2):
         added = updated = warnings = duplicates = 0
         failed: list[tuple[str, str]] = []
@@ -349,7 +353,7 @@ def _write_batch(catalog: Catalog, batch: list[tuple[CaptureRecord | ReadProblem
                     if keep is None and shoot_id is None:
                         shoot_id = target.ensure(session)
                     rows.append(_frame_values(result, candidate, shown, shoot_id if keep is None else keep,
-                                              outcome.body_id, outcome.lens_id, notes))
+                                              outcome.body_id, outcome.lens_id, notes, checked))
                     read_ok.append(shown)
                 if memory is not None:
                     matcher.finish()

@@ -27,6 +27,7 @@ import functools
 import os
 from typing import TYPE_CHECKING, Protocol
 
+from sharpzone.ingest.readers.containers import sniff_and_check
 from sharpzone.ingest.records import FileReadError
 
 if TYPE_CHECKING:
@@ -65,8 +66,6 @@ def sniff_file(path: str | bytes | os.PathLike) -> Sniffed:
     open that also runs the shared directory check (the work budget for every reader) and,
     for a JPEG, reads its metadata segments (``Sniffed.metadata``); raises
     ``FileReadError`` for an empty, unreadable or damaged file."""
-    from sharpzone.ingest.readers.containers import sniff_and_check
-
     return sniff_and_check(os.fsdecode(path))
 
 

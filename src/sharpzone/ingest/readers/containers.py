@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from typing import BinaryIO, NamedTuple
 
 from sharpzone.ingest import formats
+from sharpzone.ingest.records import FileReadError, os_error_reason
 
 # A HEIF meta box or EXIF item beyond this is not metadata but damage.
 _MAX_METADATA_BYTES = 16 << 20
@@ -437,8 +438,6 @@ def sniff_and_check(path: str) -> Sniffed:
 
     Raises ``FileReadError`` for an empty or unreadable file, and for damaged directories.
     """
-    from sharpzone.ingest.records import FileReadError, os_error_reason
-
     try:
         descriptor = os.open(path, os.O_RDONLY | getattr(os, "O_CLOEXEC", 0))
     except OSError as err:
