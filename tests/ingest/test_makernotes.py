@@ -265,7 +265,7 @@ def test_each_tag_is_read_as_the_general_path_reads_it(written, make_model):
     image = exiv2.ImageFactory.open(path)
     image.readMetadata()
     data = image.exifData()
-    tags = exiv2_reader._tags(exiv2, data, False)
+    tags = exiv2_reader._tags(data, False)
     types = exiv2_reader._type_table()
     first = {}
     for datum in data:
@@ -277,3 +277,37 @@ def test_each_tag_is_read_as_the_general_path_reads_it(written, make_model):
     assert {str, int, float, tuple} <= kinds
     assert read["Exif.Photo.SubjectDistance"] == math.inf
     assert first["Exif.Photo.ApertureValue"] is None and "Exif.Photo.ApertureValue" not in tags
+
+
+class _Entry:
+    """A decoded entry as libexiv2's bindings hand it over: text (type name "Ascii")."""
+
+    def __init__(self, key: str, text: str) -> None:
+        self._key, self._text = key, text
+
+    def key(self):
+        return self._key
+
+    def typeName(self):  # noqa: N802 - the bindings' name
+        return "Ascii"
+
+    def toString(self):  # noqa: N802 - the bindings' name
+        return self._text
+
+    def print(self, data):
+        return self._text
+
+
+@pytest.mark.parametrize(("make", "kept"), [("Canon", False), ("NIKON CORPORATION", True), ("Unknown Works", True),
+                                            (None, True)])
+def test_only_the_maker_note_groups_a_make_can_hold_are_kept(make, kept):
+    # The Make is learned in the same pass as the other entries, after some of them (here a
+    # Nikon maker-note entry comes first): entries of another Make's maker notes are dropped.
+    from sharpzone.ingest.readers import exiv2_reader
+
+    entries = [_Entry("Exif.Nikon3.SerialNumber", "2007511"), _Entry("Exif.Photo.LensModel", "Test 50mm"),
+               *([_Entry("Exif.Image.Make", make)] if make else []), _Entry("Exif.Image.Make", "Second Make")]
+    tags = exiv2_reader._tags(entries, False)
+    assert ("Exif.Nikon3.SerialNumber" in tags) is kept
+    assert tags["Exif.Photo.LensModel"] == "Test 50mm"
+    assert tags["Exif.Image.Make"] == (make or "Second Make")

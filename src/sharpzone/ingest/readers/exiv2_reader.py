@@ -75,7 +75,7 @@ class Exiv2Reader:
             data = image.exifData()
             mime = image.mimeType()
             is_raw = mime not in _NOT_RAW_TYPES or formats.is_raw_name(path)
-            tags = _tags(exiv2, data, is_raw)
+            tags = _tags(data, is_raw)
             width, height = image.pixelWidth(), image.pixelHeight()
         except exiv2.Exiv2Error as err:
             raise FileReadError(path, f"the metadata reader refused the file ({_error_name(err)})") from None
@@ -139,19 +139,23 @@ def _wanted_names(make: str | None, is_raw: bool) -> frozenset[str]:
     return _keys[cache_key]
 
 
-def _tags(exiv2, data, is_raw: bool) -> Tags:
+def _tags(data, is_raw: bool) -> Tags:
     # One pass over the decoded entries, keeping the wanted ones: a file holds a few dozen
     # entries, and one pass costs about a fortieth of looking up each wanted key by name.
+    # Every Make's keys are kept on the way and those of other Makes' maker notes dropped
+    # after: the Make is learned in the same pass (a look-up of it first cost two more
+    # calls into the bindings a file).
     tags: Tags = {}
-    make_datum = data.findKey(exiv2.ExifKey("Exif.Image.Make"))
-    make = None if make_datum == data.end() else make_datum.toString()[:_MAX_TEXT_BYTES]
-    wanted = _wanted_names(make, is_raw)
+    wanted = _wanted_names(None, is_raw)
+    make = _UNSEEN
     type_ids = _type_table()
     printed_keys = fields.PRINTED_KEYS
     for datum in data:
         name = datum.key()
         if name not in wanted or name in tags:  # the first of a repeated key, as a look-up gives
             continue
+        if make is _UNSEEN and name == _MAKE_KEY:
+            make = datum.toString()[:_MAX_TEXT_BYTES]
         # The common shapes (text, one whole number, one rational) inline, as _plain_value
         # reads them; a tag is read this way a few dozen times a frame.
         type_id = type_ids.get(datum.typeName())
@@ -170,7 +174,14 @@ def _tags(exiv2, data, is_raw: bool) -> Tags:
             printed = datum.print(data)
             if printed:
                 tags[name + fields.PRINTED] = printed[:_MAX_TEXT_BYTES].strip()
+    for_make = _wanted_names(None if make is _UNSEEN else make, is_raw)
+    if len(for_make) < len(wanted):
+        tags = {name: value for name, value in tags.items() if name.removesuffix(fields.PRINTED) in for_make}
     return tags
+
+
+_MAKE_KEY = "Exif.Image.Make"
+_UNSEEN = object()
 
 
 _type_ids: dict[str, int] | None = None
