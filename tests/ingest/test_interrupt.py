@@ -88,7 +88,7 @@ def test_interrupt_says_one_line_and_a_rerun_finishes(card, sqlite_url, number, 
     assert process.returncode == code, err
     lines = err.strip().splitlines()
     assert len(lines) == 1, err
-    match = re.fullmatch(r"sharpzone: interrupted: (\d+) frames saved; run the same command again to finish", lines[0])
+    match = re.fullmatch(r"sharpzone: interrupted: (\d+) frames saved; rerun the same command to finish", lines[0])
     assert match, lines[0]
     saved = int(match.group(1))
     assert 40 <= saved < FILES and saved == _frame_count(sqlite_url)

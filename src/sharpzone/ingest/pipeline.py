@@ -596,7 +596,7 @@ def _ingest(opening: contextlib.AbstractContextManager[Catalog], read_early: Cal
 def _interrupted(summary: IngestSummary | None, signal_number: int) -> Interrupted:
     saved = summary.saved if summary is not None else 0
     frames = "1 frame" if saved == 1 else f"{saved:,} frames"
-    return Interrupted(f"interrupted: {frames} saved; run the same command again to finish",
+    return Interrupted(f"interrupted: {frames} saved; rerun the same command to finish",
                        signal_number=signal_number)
 
 
