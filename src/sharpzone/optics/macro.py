@@ -50,8 +50,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from sharpzone.errors import InvalidValue
-from sharpzone.optics.magnification import format_magnification, parse_magnification
 from sharpzone.optics._checks import all_scalar, as_array, scalar_or_array
+from sharpzone.optics.magnification import format_magnification, parse_magnification
 
 # Samples of m at which the monotonicity of D(m) is checked (log-spaced up to M).
 _CHECK_SAMPLES = 400

@@ -25,13 +25,10 @@ from __future__ import annotations
 
 import functools
 import os
-from typing import TYPE_CHECKING, Protocol
+from typing import Protocol
 
-from sharpzone.ingest.readers.containers import sniff_and_check
+from sharpzone.ingest.readers.containers import Sniffed, sniff_and_check
 from sharpzone.ingest.records import FileReadError
-
-if TYPE_CHECKING:
-    from sharpzone.ingest.readers.containers import Sniffed
 
 TagValue = int | float | str | bytes | tuple | None
 Tags = dict[str, TagValue]

@@ -36,6 +36,9 @@ _WHOLE_TYPES = frozenset({1, 3, 4, 6, 8, 9, 13})
 # A tag we look up never holds more values than this; more is damage, not information.
 _MAX_VALUES = 64
 _MAX_TEXT_BYTES = 1024
+# Its text decides which maker-note keys a file can hold (``fields.keys_for_make``).
+_MAKE_KEY = "Exif.Image.Make"
+_UNSEEN = object()  # no Make entry met yet in the pass
 from sharpzone.vocabulary import SUBJECT_DISTANCE_INFINITY as _INFINITE_NUMERATOR  # noqa: E402
 # Containers whose main image is not the sensor data (libexiv2 MIME types).
 _NOT_RAW_TYPES = frozenset({"image/jpeg", "image/png", "image/webp", "image/tiff", "image/heic", "image/heif",
@@ -178,10 +181,6 @@ def _tags(data, is_raw: bool) -> Tags:
     if len(for_make) < len(wanted):
         tags = {name: value for name, value in tags.items() if name.removesuffix(fields.PRINTED) in for_make}
     return tags
-
-
-_MAKE_KEY = "Exif.Image.Make"
-_UNSEEN = object()
 
 
 _type_ids: dict[str, int] | None = None
