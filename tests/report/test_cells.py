@@ -129,3 +129,17 @@ def test_any_values_are_written_as_the_libraries_write_them(rows):
     columns = [list(column) for column in zip(*rows)] if rows else [[], [], []]
     assert json_objects(("a", "b", "c"), columns, default=plain) == _by_orjson(("a", "b", "c"), columns)
     assert csv_lines(columns) == _by_csv_module(columns)
+
+
+def test_float_values_read_as_pandas_to_numeric_reads_them():
+    """``float_values`` takes a float column as it is and anything else through pandas'
+    ``to_numeric(errors="coerce")``: the same numbers either way (pandas as the reference)."""
+    import pandas as pd
+
+    from sharpzone.report.cells import float_values
+
+    columns = [pd.Series(FLOATS), pd.Series([1, 2, 3]), pd.Series([None, "2.5", "x", 4, math.inf], dtype=object),
+               pd.Series([True, False]), pd.Series([], dtype=float), pd.Series([1, None], dtype="Int64")]
+    for column in columns:
+        expected = pd.to_numeric(column, errors="coerce").to_numpy(dtype=float)
+        np.testing.assert_array_equal(float_values(column), expected)

@@ -129,3 +129,22 @@ def test_a_blur_finer_than_the_preview_resolves_is_said_as_a_bound_in_the_table_
     assert measured_blur(fine, "focus") == "under 225 µm, the finest this preview shows"
     coarse = {"blur_focus_px": 12.8, "blur_floor_mm": 0.225, "blur_focus_mm": 0.962, "blur_focus_coc": 33.3}
     assert _blur_at_focus(coarse) == "962 µm (33.3× CoC)"
+
+
+def test_a_rows_values_are_those_pandas_gives():
+    """The values the words read (``_column_values``) are, column by column, what pandas'
+    ``Series.iloc[...].tolist()`` gives: numbers, flags, text, lists, times, nullable counts."""
+    import numpy as np
+    import pandas as pd
+
+    from sharpzone.report.verdicts import _column_values
+
+    positions = [3, 0, 2, 2]
+    columns = [pd.Series([1.5, math.nan, math.inf, -0.0]), pd.Series([1, 2, 3, 4]), pd.Series([True, False] * 2),
+               pd.Series(["a", None, ["x"], math.nan], dtype=object), pd.Series([1, None, 3, 4], dtype="Int64"),
+               pd.to_datetime(pd.Series(["2026-05-01 10:00:00", None, "2026-05-02 00:00:00", "2026-05-03 11:30:01"])),
+               pd.Series(np.array([1, 2, 3, 4], dtype=np.uint16))]
+    for column in columns:
+        got, expected = _column_values(column, positions), column.iloc[positions].tolist()
+        assert [type(value) for value in got] == [type(value) for value in expected]
+        assert [repr(value) for value in got] == [repr(value) for value in expected]

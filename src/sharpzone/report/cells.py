@@ -11,9 +11,12 @@ from __future__ import annotations
 import csv
 import io
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from sharpzone.report.spreadsheet import FORMULA_STARTS, safe_cell
+
+if TYPE_CHECKING:
+    import numpy as np
 
 
 _SCALARS = frozenset((float, int, bool, type(None)))
@@ -39,6 +42,17 @@ class NumberColumn:
         if self.values.dtype.kind == "f":
             out[np.isnan(self.values)] = None
         return out.tolist()
+
+
+def float_values(column) -> np.ndarray:
+    """A frames column (a ``Series``) as floats, NaN for unknown and for what is no number;
+    a column of floats as it is (not copied: read it, do not change it)."""
+    import numpy as np
+    import pandas as pd
+
+    if isinstance(column.dtype, np.dtype) and column.dtype.kind == "f":
+        return column.to_numpy(dtype=float)
+    return pd.to_numeric(column, errors="coerce").to_numpy(dtype=float)
 
 
 def as_list(column) -> list:

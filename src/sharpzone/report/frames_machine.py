@@ -46,9 +46,9 @@ def frame_json(row) -> dict[str, Any]:
 
 def _number_values(frames: pd.DataFrame, name: str, scale: float = 1.0):
     """A column as floats divided by ``scale`` (NaN for unknown and for what is no number)."""
-    import pandas as pd
+    from sharpzone.report.cells import float_values
 
-    values = pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    values = float_values(frames[name])
     return values / scale if scale != 1.0 else values
 
 

@@ -6,9 +6,12 @@ them, with units, in metric or imperial.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from sharpzone.analysis.blur_checks import PREVIEW_FLOOR_PX
+from sharpzone.report.cells import float_values
 from sharpzone.units import format_distance, format_f_number
 
 
@@ -153,21 +156,21 @@ FLAG_INPUTS: dict[str, tuple[tuple[str, str | None], ...] | None] = {
 DERIVED_INPUTS = {"focus_bracketed": ("focus_nearest_mm", "focus_farthest_mm")}
 
 
-def _key_codes(frames, name: str, form: str | None, positions, imperial: bool) -> tuple[np.ndarray, int]:
+def _key_codes(frames, name: str, form: str | None, positions, imperial: bool, floats) -> tuple[np.ndarray, int]:
     """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``) as
     numbers, equal values (==; unknown, NaN or None, one value) one number, and how many
-    numbers there are."""
+    numbers there are; ``floats(name)`` gives a column as floats."""
     import pandas as pd
 
     if name == "focus_bracketed":
         with np.errstate(invalid="ignore"):
-            nearest = _float_column(frames, "focus_nearest_mm")[positions]
-            farthest = _float_column(frames, "focus_farthest_mm")[positions]
+            nearest = floats("focus_nearest_mm")[positions]
+            farthest = floats("focus_farthest_mm")[positions]
             return (farthest > nearest * (1 + 1e-9)).astype(np.int64), 2  # NaN compares false: no bracket
     if name not in frames:
         return np.zeros(len(positions), dtype=np.int64), 1
     if form is not None:
-        values = _float_column(frames, name)[positions]
+        values = floats(name)[positions]
         distinct, inverse = np.unique(values, return_inverse=True)
         if form == "distance":
             shown = [format_distance(value, imperial=imperial) for value in distinct.tolist()]
@@ -180,11 +183,31 @@ def _key_codes(frames, name: str, form: str | None, positions, imperial: bool) -
 
 
 def _float_column(frames, name: str) -> np.ndarray:
-    import pandas as pd
-
     if name not in frames:
         return np.full(len(frames), np.nan)
-    return pd.to_numeric(frames[name], errors="coerce").to_numpy(dtype=float)
+    return float_values(frames[name])
+
+
+def _input_codes(frames, by_flag: dict[str, list[np.ndarray]], imperial: bool) -> dict[tuple, tuple[np.ndarray, int]]:
+    """Each input that the flags present read (``FLAG_INPUTS``), keyed once for the rows of
+    all the flags that read it: ``(name, form)`` → (a number per row of ``frames``, -1 where
+    no such flag is, and how many numbers there are). Each column is read as floats once."""
+    rows_of: dict[tuple, list[np.ndarray]] = {}
+    for flag, blocks in by_flag.items():
+        for name_form in FLAG_INPUTS.get(flag) or ():
+            rows_of.setdefault(name_form, []).extend(blocks)
+    floats = functools.cache(functools.partial(_float_column, frames))
+    codes = {}
+    for (name, form), blocks in rows_of.items():
+        read = np.zeros(len(frames), dtype=bool)
+        for block in blocks:
+            read[block] = True
+        positions = np.flatnonzero(read)
+        numbers, size = _key_codes(frames, name, form, positions, imperial, floats)
+        column = np.full(len(frames), -1, dtype=np.int64)
+        column[positions] = numbers
+        codes[name, form] = column, size
+    return codes
 
 
 def _read_by(flag: str, frames) -> list[str]:
@@ -200,8 +223,17 @@ def _rows(frames, positions: list[int], names: list[str]) -> list[dict]:
     """The rows at ``positions`` as dicts of the ``names`` columns, a column at a time."""
     if not names:
         return [{} for _ in positions]
-    values = [frames[name].iloc[positions].tolist() for name in names]
+    values = [_column_values(frames[name], positions) for name in names]
     return [dict(zip(names, row)) for row in zip(*values)]
+
+
+def _column_values(column, positions: list[int]) -> list:
+    """The column's values at ``positions`` as ``Series.tolist`` gives them: through numpy
+    for numbers, flags and text (the same values, without pandas' indexing per call),
+    through pandas for the rest (times come as timestamps)."""
+    if isinstance(column.dtype, np.dtype) and column.dtype.kind in "fiubO":
+        return column.to_numpy()[positions].tolist()
+    return column.iloc[positions].tolist()
 
 
 def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str]]]:
@@ -217,6 +249,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
             by_flag.setdefault(flag, []).append(positions)
     # Each row's sentence number for each flag, the first row saying each sentence, then those
     # rows (a column at a time) and the sentences.
+    codes = _input_codes(frames, by_flag, imperial)
     sentence_of: dict[str, np.ndarray] = {}
     first_rows: dict[str, list[int]] = {}
     for flag, blocks in by_flag.items():
@@ -227,7 +260,7 @@ def describe_flags(frames, *, imperial: bool = False) -> list[list[dict[str, str
         elif not inputs:
             which = np.zeros(len(index), dtype=np.int64)
         else:
-            which = _numbered(_key_codes(frames, name, form, index, imperial) for name, form in inputs)
+            which = _numbered((codes[name_form][0][index], codes[name_form][1]) for name_form in inputs)
         _, first = np.unique(which, return_index=True)  # sentence numbers count up from 0
         first_rows[flag] = index[first].tolist()
         sentence_of[flag] = np.full(count, -1, dtype=np.int64)
