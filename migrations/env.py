@@ -7,6 +7,8 @@ SQLite uses batch mode, since it cannot alter most of a table in place.
 
 from __future__ import annotations
 
+import warnings
+
 from alembic import context
 
 from sharpzone.catalog.models import Base
@@ -21,7 +23,13 @@ def _configure_and_run(connection) -> None:
         render_as_batch=connection.dialect.name == "sqlite",
         compare_type=True,
     )
-    with context.begin_transaction():
+    with context.begin_transaction(), warnings.catch_warnings():
+        # SQLite's batch mode copies a table after reflecting it and the tables its foreign
+        # keys name; reflection cannot read the body table's expression index and says so.
+        # That index is never copied: 0003 and 0004 drop it before the body table is copied
+        # and make it again after. So the notice would only puzzle whoever upgrades.
+        warnings.filterwarnings("ignore", message="Skipped unsupported reflection of expression-based index "
+                                "uq_body_exif_identity")
         context.run_migrations()
 
 

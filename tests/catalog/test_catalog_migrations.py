@@ -121,6 +121,20 @@ def test_body_identity_index_exists_after_migration(tmp_path, path):
     assert "UNIQUE" in sql.upper() and "coalesce(serial, '')" in sql
 
 
+def test_an_upgrade_through_every_revision_says_nothing_on_the_way(tmp_path):
+    # A photographer opening an old catalogue sees the upgrade's one line, not a library's
+    # notice about an index it never copies (the index is kept: the test above).
+    url = sqlite_url(tmp_path / "c.sqlite")
+    migrate.upgrade(url, "0001")
+    _fill_revision_0001(url)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        migrate.upgrade(url)
+    connection = sqlite3.connect(tmp_path / "c.sqlite")
+    assert connection.execute("SELECT count(*) FROM sqlite_master WHERE name = 'uq_body_exif_identity'").fetchone() == (1,)
+    connection.close()
+
+
 def _fill_revision_0001(url: str) -> None:
     """Rows in every 0001 table, written with plain SQL in the 0001 shape."""
     engine = create_engine(url)
