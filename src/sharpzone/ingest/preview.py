@@ -97,7 +97,8 @@ def _embedded_preview(path: str, long_side_px: int) -> tuple[bytes | None, str, 
         big_enough = [p for p in candidates if max(p.width_, p.height_) >= long_side_px]
         chosen = min(big_enough, key=lambda p: p.size_) if big_enough else max(candidates, key=lambda p: p.size_)
         preview = manager.getPreviewImage(chosen)
-        return (bytes(preview.copy()), f"embedded preview {chosen.width_}×{chosen.height_}",
+        # A view of the preview object's own bytes, copied out while it is alive.
+        return (bytes(preview.data()), f"embedded preview {chosen.width_}×{chosen.height_}",
                 max(chosen.width_, chosen.height_))
     except exiv2.Exiv2Error:
         return None, "", 0
