@@ -35,3 +35,18 @@ def test_wrapping_never_parts_a_number_from_its_unit():
     wrapped = wrap_text("a focus stack of 14 frames at f/2.8 would hold 41.7 cm–42.5 cm", 18).plain
     for piece in ("14 frames", "41.7 cm–42.5 cm"):
         assert piece in wrapped.splitlines() or any(piece in line for line in wrapped.splitlines())
+
+
+def test_the_worst_frames_come_first_in_the_documented_verdict_order():
+    """``worst_first``: the most serious verdict first (the order of ``FLAG_STYLES``, the
+    README's verdict list), more verdicts before fewer, and frames of equal severity in
+    their own order (Python's sort is stable: the order ``sorted`` of the rows gave)."""
+    from sharpzone.report.frames_render import worst_first
+
+    shared = ["out-of-reach"]
+    flag_lists = [["distance-unknown"], shared, ["too-wide-open", "past-diffraction"], ["past-diffraction"],
+                  shared, ["too-wide-open"], ["some-future-verdict"], [], ["out-of-reach", "past-diffraction"]]
+    # too-wide-open with two verdicts, then alone; out-of-reach with two, then the two alone in
+    # frame order; past-diffraction; distance-unknown; a code not listed; none.
+    assert worst_first(flag_lists) == [2, 5, 8, 1, 4, 3, 0, 6, 7]
+    assert worst_first([]) == []

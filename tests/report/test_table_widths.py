@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
+import re
 
 import pytest
 from typer.testing import CliRunner
@@ -87,6 +88,35 @@ def test_long_check_shows_the_summary_and_the_worst_first(long_catalog):
     everything = _run(long_catalog, 120, "check", "--all")
     assert everything.count("VHB_") > CHECK_DETAIL_ROWS
     assert "--all lists" not in everything
+    # Every frame listed was flagged, so the titles say so, with the counts the summary gives.
+    flagged = int(re.search(r"([\d,]+) flagged", short).group(1).replace(",", ""))
+    assert f"The {CHECK_DETAIL_ROWS} worst of {flagged:,} flagged frames" in short
+    assert f"{flagged - CHECK_DETAIL_ROWS:,} more not shown" in short
+    assert "Flagged frames and what would have worked" in everything
+
+
+def test_a_check_listing_frames_that_were_not_judged_does_not_call_them_flagged(tmp_path):
+    """Frames with no focus distance are not judged; they are listed with the flagged ones
+    (they may need a look), and the title names them for what they are; counts of a
+    thousand and more are grouped by thousands, as everywhere a person reads them."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
+        lens = add_lens(session, "Altamira 50mm", focal_min_mm=50, max_aperture_wide=1.8)
+        shoot = add_shoot(session, "Quay", near_mm=2500, far_mm=4000)
+        for number in range(2400):
+            session.add(Frame(path=f"/cards/quay/QY_{number:04d}.JPG", file_size=1, file_mtime_ns=number,
+                              shoot=shoot, body=body, lens=lens, focal_mm=50.0, f_number=1.8,
+                              focus_mm=None if number % 2 else 3000.0 + number,
+                              focus_source="none" if number % 2 else "exif"))
+    short = _run(url, 120, "check")
+    assert "Checked 2,400 frames" in short and "1,200 not judged" in short
+    assert "flagged frames" not in short
+    assert f"The {CHECK_DETAIL_ROWS} worst of" in short and "frames that did not pass" in short
 
 
 @pytest.mark.parametrize("width", [30, 44, 60, 80, 200])

@@ -218,7 +218,7 @@ def render_info(info, *, console: Console | None = None) -> None:
         revision += f" (this program's newest: {info.newest_revision})"
     table.add_row("Schema revision", revision)
     for name, count in info.row_counts.items():
-        table.add_row(name.replace("_", " ").capitalize() + " rows", str(count))
+        table.add_row(name.replace("_", " ").capitalize() + " rows", f"{count:,}")
     console.print(table)
 
 

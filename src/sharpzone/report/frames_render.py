@@ -121,7 +121,7 @@ def render_frames(frames: pd.DataFrame, *, imperial: bool = False, wide: bool = 
         return
     records = frames.to_dict("records")
     fitted = fit_table(frame_columns(imperial), records, console=console, wide=wide,
-                       title=f"{len(frames)} frames", title_justify="left")
+                       title=f"{len(frames):,} frames", title_justify="left")
     print_fitted(console, fitted)
     console.print(_policy_line(frames) + " Distances from the sensor plane.")
     if _measured(records):
@@ -178,6 +178,15 @@ def _plans_line(frames: pd.DataFrame, imperial: bool) -> str:
 CHECK_DETAIL_ROWS = 20
 
 
+def worst_first(flag_lists: list) -> list[int]:
+    """Positions of the frames with these flags, worst first (``_severity``), frames of equal
+    severity in their order; each distinct combination of flags is ranked once."""
+    ranks: dict[tuple[str, ...], tuple[int, int]] = {}
+    keys = [ranks[key] if (key := tuple(flags)) in ranks else ranks.setdefault(key, _severity(list(key)))
+            for flags in flag_lists]
+    return sorted(range(len(keys)), key=keys.__getitem__)
+
+
 def _severity(flags: list[str]) -> tuple[int, int]:
     """Sort key, worst first: the most serious verdict (the order of ``FLAG_STYLES``; codes
     it does not list come after), then more verdicts before fewer."""
@@ -228,13 +237,13 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
     summary = result.summary_by_verdict()
     against = (result.requirement.describe(imperial) if result.requirement
                else f"the plan ({_plans_line(frames, imperial)})")
-    counts = f", {summary['flagged']} flagged"
+    counts = f", {summary['flagged']:,} flagged"
     if summary["uncertain"]:
-        counts += f", {summary['uncertain']} uncertain (distance known only as a bracket)"
+        counts += f", {summary['uncertain']:,} uncertain (distance known only as a bracket)"
     if summary["unjudged"]:
-        counts += f", {summary['unjudged']} not judged"
-    console.print(wrap_text(line(f"Checked {summary['frames']} frames against ", against, ": ",
-                                 styled(f"{summary['passed']} passed", PASSED_STYLE), counts),
+        counts += f", {summary['unjudged']:,} not judged"
+    console.print(wrap_text(line(f"Checked {summary['frames']:,} frames against ", against, ": ",
+                                 styled(f"{summary['passed']:,} passed", PASSED_STYLE), counts),
                             console.width))
     console.print(styled(_policy_line(frames) + " Distances from the sensor plane.", "dim"))
     from sharpzone.analysis.checks import OUTCOMES
@@ -244,31 +253,35 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
         console.print()
         print_fitted(console, fit_table([
             Column("Verdict", lambda item: styled(item[0], _flag_style(item[0]))),
-            Column("Frames", lambda item: str(item[1]), "right"),
+            Column("Frames", lambda item: f"{item[1]:,}", "right"),
         ], verdict_rows, console=console, wide=wide, title="By verdict", title_justify="left"))
     console.print()
     print_fitted(console, fit_table([
         Column("Lens", lambda item: item["lens"], wrap=True),
-        Column("Frames", lambda item: str(item["frames"]), "right"),
-        Column("Flagged", lambda item: str(item["flagged"]), "right"),
-        Column("Uncertain", lambda item: str(item["uncertain"]), "right", priority=2),
-        Column("Not judged", lambda item: str(item["unjudged"]), "right", priority=1),
+        Column("Frames", lambda item: f"{item['frames']:,}", "right"),
+        Column("Flagged", lambda item: f"{item['flagged']:,}", "right"),
+        Column("Uncertain", lambda item: f"{item['uncertain']:,}", "right", priority=2),
+        Column("Not judged", lambda item: f"{item['unjudged']:,}", "right", priority=1),
         Column("Share", lambda item: "—" if item["share_flagged"] is None else f"{item['share_flagged']:.0%}", "right"),
     ], result.summary_by_lens(), console=console, wide=wide, title="By lens", title_justify="left"))
     console.print(styled("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", "dim"))
     # Every frame that did not simply pass: flagged, uncertain or not judged, worst first.
-    flagged = frames[frames["outcome"].to_numpy(dtype=object) != "passed"]
-    if flagged.empty:
+    outcomes = frames["outcome"].to_numpy(dtype=object)
+    others = frames[outcomes != "passed"]
+    if others.empty:
         return
-    records = sorted(flagged.to_dict("records"), key=lambda row: _severity(list(row["flags"])))
-    shown = records if show_all else records[:CHECK_DETAIL_ROWS]
+    order = worst_first(others["flags"].tolist())
+    shown = others.iloc[order if show_all else order[:CHECK_DETAIL_ROWS]].to_dict("records")
+    total = len(others)
+    # "Flagged" only where every one of them is: uncertain and unjudged frames are listed too.
+    which = "flagged frames" if (outcomes == "flagged").sum() == total else "frames that did not pass"
     console.print()
-    title = ("Flagged frames and what would have worked" if len(shown) == len(records)
-             else f"The {len(shown)} worst of {len(records)} flagged frames and what would have worked")
+    title = (f"{which[0].upper()}{which[1:]} and what would have worked" if len(shown) == total
+             else f"The {len(shown)} worst of {total:,} {which} and what would have worked")
     print_fitted(console, fit_table(check_columns(imperial), shown, console=console, wide=wide, show_lines=True,
                                     title=title, title_justify="left"))
-    if len(shown) < len(records):
-        console.print(styled(f"{len(records) - len(shown)} more flagged frames not shown: --all lists every one "
+    if len(shown) < total:
+        console.print(styled(f"{total - len(shown):,} more not shown: --all lists every one "
                              "(--json gives them all to scripts).", "dim"))
     from sharpzone.analysis.blur_checks import BLUR_FLAGS
 
@@ -284,13 +297,13 @@ def _focus_text(group, imperial: bool) -> str:
         focus = (f"{format_distance(group.median_focus_mm, imperial=imperial)}\nmiddle half\n"
                  f"{format_distance(low, imperial=imperial)}–{format_distance(high, imperial=imperial)}")
     if group.unknown_focus:
-        focus += f"\n{group.unknown_focus} without\na distance"
+        focus += f"\n{group.unknown_focus:,} without\na distance"
     return focus
 
 
 def _f_number_bars(group) -> str:
     most = max((count for _, count in group.f_number_counts), default=1)
-    return "\n".join(f"{format_f_number(f_number):>6} {'█' * max(1, round(12 * count / most))} {count}"
+    return "\n".join(f"{format_f_number(f_number):>6} {'█' * max(1, round(12 * count / most))} {count:,}"
                      for f_number, count in group.f_number_counts) or "—"
 
 
@@ -303,7 +316,7 @@ def render_stats(result: StatsResult, *, imperial: bool = False, wide: bool = Fa
         return
     columns = [
         Column("Name", lambda group: group.name, wrap=True),
-        Column("Frames", lambda group: str(group.frames), "right"),
+        Column("Frames", lambda group: f"{group.frames:,}", "right"),
         Column("f-numbers used", _f_number_bars),
         Column("Flagged", lambda group: "—" if group.share_flagged is None else f"{group.share_flagged:.0%}", "right"),
         Column("Typical focus", lambda group: _focus_text(group, imperial)),

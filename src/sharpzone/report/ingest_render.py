@@ -104,7 +104,7 @@ def render_ingest(summary: IngestSummary, catalog: str) -> None:
         console.print(line(f"body {name!r} needs its sensor format before its frames can be judged: "
                            f"{format_command(name)}"))
     if summary.vanished and not summary.pruned:
-        console.print(f"{len(summary.vanished)} catalogued frames were not found again; kept (use --prune to remove).")
+        console.print(f"{len(summary.vanished):,} catalogued frames were not found again; kept (use --prune to remove).")
     for item in summary.registered:
         console.print(Text(f"registered {item} — check it with 'sharpzone body list' / 'sharpzone lens list'"),
                       highlight=False)

@@ -102,7 +102,7 @@ def render_page(data: ReportData, *, imperial: bool = False) -> str:
         sections.append(
             f'<section class="group k-{verdict_kind(verdict)}" id="g-{_text(verdict)}" data-verdict="{_text(verdict)}">'
             f'<h2>{_icon(verdict)} {_text(flag_word(verdict))} <span class="count">'
-            f'{count} frame{"s" if count != 1 else ""}</span></h2>'
+            f'{count:,} frame{"s" if count != 1 else ""}</span></h2>'
             f'<div class="scale-row" aria-hidden="true"><div></div><div></div>{_scale_svg(scale, ticks, imperial)}</div>'
             f'<div class="frames">{rows}</div></section>')
     body = (f'<header>{_heading(data, imperial)}{_summary(data)}{_legend(scale, ticks, imperial)}</header>'
@@ -147,10 +147,10 @@ def _heading(data: ReportData, imperial: bool) -> str:
     policies = "; ".join(sorted({f"{p} (from the {o})" for p, o in
                                  frames[["coc_policy", "coc_from"]].itertuples(index=False)}))
     missing = len(data.thumbnail_problems())
-    pictures = f" {missing} shown without a picture (reason given)." if missing else ""
+    pictures = f" {missing:,} shown without a picture (reason given)." if missing else ""
     return (f'<h1>{_text(data.title)}</h1>'
-            f'<p class="lede">{summary["frames"]} frames checked against {_text(against)}: '
-            f'<strong>{summary["passed"]} passed</strong>, {summary["frames"] - summary["passed"]} with a verdict.'
+            f'<p class="lede">{summary["frames"]:,} frames checked against {_text(against)}: '
+            f'<strong>{summary["passed"]:,} passed</strong>, {summary["frames"] - summary["passed"]:,} with a verdict.'
             f'{pictures}</p>'
             f'<p class="small">Circle of confusion: {_text(policies)}. Distances from the sensor plane. '
             f'Made {data.made_at:%Y-%m-%d %H:%M %Z}.</p>')
@@ -175,11 +175,11 @@ def _summary(data: ReportData) -> str:
         carried = counts.get("passed") if verdict == PASSED else counts.get(verdict, 0)
         verdict_rows.append(
             f'<tr class="k-{verdict_kind(verdict)}"><td>{_icon(verdict)} <a href="#g-{_text(verdict)}">'
-            f'{_text(flag_word(verdict))}</a></td><td class="num">{carried}</td>'
-            f'<td class="num">{listed[verdict]}</td></tr>')
+            f'{_text(flag_word(verdict))}</a></td><td class="num">{carried:,}</td>'
+            f'<td class="num">{listed[verdict]:,}</td></tr>')
     lens_rows = "".join(
-        f'<tr><td>{_text(item["lens"])}</td><td class="num">{item["frames"]}</td>'
-        f'<td class="num">{item["flagged"]}</td>'
+        f'<tr><td>{_text(item["lens"])}</td><td class="num">{item["frames"]:,}</td>'
+        f'<td class="num">{item["flagged"]:,}</td>'
         f'<td class="num">{"—" if item["share_flagged"] is None else format(item["share_flagged"], ".0%")}</td></tr>'
         for item in check.summary_by_lens())
     return ('<div class="summary">'
