@@ -60,7 +60,7 @@ MEASURE = textwrap.dedent("""
     with session_scope(url) as session:
         result = check_shoot(session, FrameFilter(shoot="Big day"))
     seconds = time.perf_counter() - start
-    flagged = len(result.flagged)
+    flagged = result.summary_by_verdict()["flagged"]
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(json.dumps({"seconds": seconds, "peak_mb": peak_mb, "frames": len(result.frames), "flagged": flagged}))
 """)

@@ -156,3 +156,47 @@ def test_a_long_table_is_fitted_as_rich_measures_the_whole_of_it(width):
     longest = max((row["note"] for row in rows), key=len)
     assert any(longest in line for line in captured.get().splitlines())  # on one line, unwrapped
     console.file.close()
+
+
+def test_the_streamed_check_report_prints_what_the_whole_check_prints(tmp_path):
+    """``sharpzone check`` reads its frames a chunk at a time (``check_report``); over chunks
+    of 7 frames its report is, character for character, the report of all the frames at
+    once (``render_check`` of ``check_shoot``): the same counts, lenses, plans and the same
+    frames listed, worst first, with and without ``--all``."""
+    import io
+
+    from sharpzone.analysis.frames import FrameFilter, check_shoot, iter_check_shoot
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+    from sharpzone.report.console import SafeConsole
+    from sharpzone.report.frames_render import check_report, render_check
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
+        lenses = [add_lens(session, name, focal_min_mm=focal, max_aperture_wide=2.8, min_aperture=22)
+                  for name, focal in (("Altamira 35mm", 35), ("Senlo 85mm", 85))]
+        shoot = add_shoot(session, "Quay", near_mm=2500, far_mm=4000)
+        for number in range(90):
+            lens = lenses[number % 2]
+            focus = None if number % 5 == 0 else (1500.0, 3000.0, 3200.0, 9000.0)[number % 4]
+            session.add(Frame(path=f"/cards/quay/QY_{number:04d}.JPG", file_size=1, file_mtime_ns=number,
+                              shoot=shoot, body=body, lens=lens, focal_mm=lens.focal_min_mm,
+                              f_number=(2.8, 5.6, 11.0, 22.0)[number % 4 - 1], focus_mm=focus,
+                              focus_source="exif" if focus else "none"))
+
+    def printed(result, show_all):
+        buffer = io.StringIO()
+        render_check(result, show_all=show_all, console=SafeConsole(file=buffer, width=120, markup=False))
+        return buffer.getvalue()
+
+    where = FrameFilter(shoot="Quay")
+    with session_scope(url) as session:
+        whole = check_shoot(session, where)
+        for show_all in (False, True):
+            streamed = check_report(iter_check_shoot(session, where, chunk_rows=7), keep=None if show_all else 20)
+            assert printed(streamed, show_all) == printed(whole, show_all)
+    verdicts = set(flag for flags in whole.frames["flags"] for flag in flags)
+    assert "distance-unknown" in verdicts and len(verdicts) >= 3, verdicts  # a varied list
+    assert "passed" in set(whole.frames["outcome"])

@@ -179,11 +179,6 @@ class CheckResult:
     requirement: Requirement | None
     coc_policy: str | None
 
-    @property
-    def flagged(self) -> pd.DataFrame:
-        """Frames whose outcome is flagged (judged and missed)."""
-        return self.frames[self.frames["outcome"].to_numpy(dtype=object) == "flagged"]
-
     def summary_by_verdict(self) -> dict[str, int]:
         """How many frames carry each verdict, plus ``frames`` and the count of each outcome
         (``passed``, ``flagged``, ``uncertain``, ``unjudged``)."""

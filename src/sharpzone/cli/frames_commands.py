@@ -36,22 +36,31 @@ def frames(
     _frames_or_check(ctx, where, judging, checked=False, json=json, jsonl=jsonl, csv=csv, render=render)
 
 
-def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: bool, csv: bool, render) -> None:
+def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: bool, csv: bool, render,
+                     list_all: bool = False) -> None:
     """Call the service of ``frames`` or (``checked``) ``check``: streamed for machine output
-    (written a chunk of frames at a time), else whole and handed to ``render``."""
+    (written a chunk of frames at a time) and for ``check``'s report (``frames_render.
+    check_report``: the worst frames that did not pass kept, all with ``list_all``), else
+    whole; what is not written as it streams is handed to ``render``."""
     import contextlib
 
     from sharpzone.analysis import frames as service
 
     options = {"coc_policy": judging.coc_policy, "requirement": judging.requirement}
     with catalog_session(ctx) as session:
-        if json or jsonl or csv:
+        if json or jsonl or csv or checked:
             chunks = (service.iter_check_shoot if checked else service.iter_checked)(session, where, **options)
             # Closed while the catalogue is still open, also when the reader goes away
             # (``| head``): its cursor is then closed in order, not after the database.
             with contextlib.closing(chunks):
-                return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
-        result = (service.check_shoot if checked else service.frames_with_zones)(session, where, **options)
+                if json or jsonl or csv:
+                    return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
+                from sharpzone.report.frames_render import CHECK_DETAIL_ROWS, check_report
+
+                result = check_report(chunks, judging.requirement, judging.coc_policy,
+                                      keep=None if list_all else CHECK_DETAIL_ROWS)
+        else:
+            result = service.frames_with_zones(session, where, **options)
     render(result)
 
 
@@ -83,12 +92,13 @@ def check(
     csv: CsvOpt = False, wide: WideOpt = False, all_frames: AllOpt = False,
 ) -> None:
     """Which frames' sharp zones missed what the shoot needed, and what would have worked."""
-    def render(result) -> None:
+    def render(report) -> None:
         from sharpzone.report import frames_render
 
-        frames_render.render_check(result, imperial=imperial, show_all=all_frames, wide=wide)
+        frames_render.render_check(report, imperial=imperial, show_all=all_frames, wide=wide)
 
-    _frames_or_check(ctx, where, judging, checked=True, json=json, jsonl=jsonl, csv=csv, render=render)
+    _frames_or_check(ctx, where, judging, checked=True, json=json, jsonl=jsonl, csv=csv, render=render,
+                     list_all=all_frames)
 
 
 @uses(FILTERS, JUDGING)

@@ -4,6 +4,7 @@ interface is ``frames_machine``)."""
 from __future__ import annotations
 
 import os
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from rich.console import Console
@@ -17,6 +18,8 @@ from sharpzone.units import format_distance, format_f_number, format_focal_lengt
 # The verdicts' words, the checks and numpy are imported by the functions that use them, so
 # a command whose selection holds no frame does without them.
 if TYPE_CHECKING:
+    from collections.abc import Iterable
+
     import pandas as pd
 
     from sharpzone.analysis.frames import CheckResult
@@ -225,15 +228,68 @@ def check_columns(imperial: bool) -> list[Column]:
     ]
 
 
-def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool = False, wide: bool = False,
-                 console: Console | None = None) -> None:
-    """Summary per verdict and per lens, then the flagged frames, worst first, with their
-    remedies (the ``CHECK_DETAIL_ROWS`` worst unless ``show_all``)."""
+# What the summary of ``check`` reads of every frame; the frames listed are kept whole.
+_SUMMARY_COLUMNS = ("lens", "outcome", "flags", "shoot", "plan_kind", "plan_near_mm", "plan_far_mm",
+                    "plan_front_mm", "plan_back_mm", "coc_policy", "coc_from")
+
+
+@dataclass(frozen=True)
+class CheckReport:
+    """What ``render_check`` shows of checked frames: ``result``, whose frames hold only the
+    columns the summary reads (``None`` when no frame matched), the frames that did not
+    pass, worst first (all, or the worst ``keep`` of ``check_report``), and how many did
+    not pass."""
+
+    result: CheckResult | None
+    listed: pd.DataFrame | None
+    not_passed: int
+
+
+def check_report(chunks: Iterable[pd.DataFrame], requirement=None, coc_policy: str | None = None, *,
+                 keep: int | None = CHECK_DETAIL_ROWS) -> CheckReport:
+    """The ``CheckReport`` of checked frames that come a chunk at a time (``analysis.frames.
+    iter_check_shoot``): memory follows a chunk and the summary's few columns, not every
+    column of every frame. ``keep=None`` lists every frame that did not pass."""
+    import pandas as pd
+
+    from sharpzone.analysis.frames import CheckResult
+
+    summary, every, listed, not_passed = [], [], None, 0
+    for frames in chunks:
+        summary.append(frames[[name for name in _SUMMARY_COLUMNS if name in frames]])
+        others = frames[frames["outcome"].to_numpy(dtype=object) != "passed"]
+        not_passed += len(others)
+        if keep is None:
+            every.append(others)
+            continue
+        # The worst so far (worst first) then this chunk's, in frame order: a stable sort
+        # of the two keeps frames of equal severity in frame order, as one sort of all would.
+        pool = others if listed is None else pd.concat([listed, others])
+        listed = pool.iloc[worst_first(pool["flags"].tolist())[:keep]]
+    if not summary:
+        return CheckReport(None, None, 0)
+    if keep is None:
+        pool = pd.concat(every) if len(every) > 1 else every[0]
+        listed = pool.iloc[worst_first(pool["flags"].tolist())]
+    frames = pd.concat(summary, ignore_index=True) if len(summary) > 1 else summary[0]
+    return CheckReport(CheckResult(frames, requirement, coc_policy), listed, not_passed)
+
+
+def render_check(result: CheckResult | CheckReport, *, imperial: bool = False, show_all: bool = False,
+                 wide: bool = False, console: Console | None = None) -> None:
+    """Summary per verdict and per lens, then the frames that did not pass, worst first, with
+    their remedies (the ``CHECK_DETAIL_ROWS`` worst unless ``show_all``). ``result`` is a
+    ``CheckReport`` (``check_report``, what ``sharpzone check`` streams) or a whole
+    ``CheckResult``."""
     console = console or stdout_console()
-    frames = result.frames
-    if frames.empty:
+    if not isinstance(result, CheckReport):
+        result = check_report([result.frames] if not result.frames.empty else [], result.requirement,
+                              result.coc_policy, keep=None if show_all else CHECK_DETAIL_ROWS)
+    report, result = result, result.result
+    if result is None:
         console.print("No frames match.")
         return
+    frames = result.frames
     summary = result.summary_by_verdict()
     against = (result.requirement.describe(imperial) if result.requirement
                else f"the plan ({_plans_line(frames, imperial)})")
@@ -266,15 +322,12 @@ def render_check(result: CheckResult, *, imperial: bool = False, show_all: bool 
     ], result.summary_by_lens(), console=console, wide=wide, title="By lens", title_justify="left"))
     console.print(styled("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", "dim"))
     # Every frame that did not simply pass: flagged, uncertain or not judged, worst first.
-    outcomes = frames["outcome"].to_numpy(dtype=object)
-    others = frames[outcomes != "passed"]
-    if others.empty:
+    total = report.not_passed
+    if not total:
         return
-    order = worst_first(others["flags"].tolist())
-    shown = others.iloc[order if show_all else order[:CHECK_DETAIL_ROWS]].to_dict("records")
-    total = len(others)
+    shown = report.listed.iloc[:None if show_all else CHECK_DETAIL_ROWS].to_dict("records")
     # "Flagged" only where every one of them is: uncertain and unjudged frames are listed too.
-    which = "flagged frames" if (outcomes == "flagged").sum() == total else "frames that did not pass"
+    which = "flagged frames" if summary["flagged"] == total else "frames that did not pass"
     console.print()
     title = (f"{which[0].upper()}{which[1:]} and what would have worked" if len(shown) == total
              else f"The {len(shown)} worst of {total:,} {which} and what would have worked")
