@@ -115,6 +115,21 @@ def test_stats(shoot_catalog):
     assert "█" in table.stdout
 
 
+@pytest.mark.parametrize("chunk_rows", [2, 1000])
+def test_stats_read_a_chunk_at_a_time_count_every_frame(shoot_catalog, chunk_rows):
+    # The same five frames as above, read two at a time (three chunks) or all at once.
+    from sharpzone.analysis.stats import shoot_stats
+    from sharpzone.catalog.engine import session_scope
+
+    with session_scope(shoot_catalog) as session:
+        result = shoot_stats(session, chunk_rows=chunk_rows)
+    (lens,) = result.lenses
+    assert lens.frames == 5 and lens.unknown_focus == 1 and result.judged
+    assert dict(lens.f_number_counts) == {2.8: 1, 8.0: 4}
+    assert lens.share_flagged == pytest.approx(3 / 4)
+    assert [body.frames for body in result.bodies] == [5]
+
+
 @pytest.mark.parametrize(
     "args, words",
     [

@@ -7,7 +7,7 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.frames import CheckResult, FrameFilter, frames_with_zones
+from sharpzone.analysis.frames import CHUNK_ROWS, FrameFilter, iter_checked
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -69,16 +69,26 @@ def _group_stats(kind: str, name: str, rows) -> GroupStats:
     )
 
 
-def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_policy: str | None = None,
-                requirement: Requirement | None = None) -> StatsResult:
-    """``sharpzone stats``: per lens and per body, frames, f-numbers used, share flagged
-    (against ``requirement`` or each shoot's plan) and typical focus distances."""
-    from sharpzone.catalog.frame_query import has_frames
+# What the statistics read of each frame: the rest of a chunk is let go as it is read.
+_STATS_COLUMNS = ("lens", "body", "f_number", "focus_mm", "outcome", "flags", "blur_analysed_long_px")
 
-    if not has_frames(session, where):  # nothing to count: asked of the database, no frames table
+
+def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_policy: str | None = None,
+                requirement: Requirement | None = None, chunk_rows: int = CHUNK_ROWS) -> StatsResult:
+    """``sharpzone stats``: per lens and per body, frames, f-numbers used, share flagged
+    (against ``requirement`` or each shoot's plan) and typical focus distances. The frames
+    are checked ``chunk_rows`` at a time (``iter_checked``), and of each only the columns
+    the statistics read are kept."""
+    import contextlib
+
+    chunks = iter_checked(session, where, coc_policy=coc_policy, requirement=requirement, chunk_rows=chunk_rows)
+    with contextlib.closing(chunks):
+        kept = [frames[[name for name in _STATS_COLUMNS if name in frames]] for frames in chunks]
+    if not kept:  # nothing to count: asked of the database, no frames table
         return StatsResult((), (), False)
-    result: CheckResult = frames_with_zones(session, where, coc_policy=coc_policy, requirement=requirement)
-    frames = result.frames
+    import pandas as pd
+
+    frames = pd.concat(kept, ignore_index=True) if len(kept) > 1 else kept[0]
     groups = {}
     for kind, column in (("lens", "lens"), ("body", "body")):
         named = frames.assign(_name=frames[column].fillna(f"(unknown {kind})"))
