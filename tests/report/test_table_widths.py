@@ -200,3 +200,33 @@ def test_the_streamed_check_report_prints_what_the_whole_check_prints(tmp_path):
     verdicts = set(flag for flags in whole.frames["flags"] for flag in flags)
     assert "distance-unknown" in verdicts and len(verdicts) >= 3, verdicts  # a varied list
     assert "passed" in set(whole.frames["outcome"])
+
+
+@pytest.mark.parametrize("imperial", [False, True])
+def test_a_wide_focus_bracket_takes_two_lines_and_the_verdicts_stay_whole(tmp_path, imperial):
+    """A bracket whose ends print in different units ("84.0 cm" to "1.02 m") is split after
+    its dash in the frames table, so at 80 columns the verdict column is not cut; a bracket
+    in one unit keeps that unit once ("(14.5–15.3)" under "14.9 m"; "(47.6–50.2)" under
+    "48.9 ft")."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
+        lens = add_lens(session, "Senlo 100mm", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=22)
+        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
+        for number, (focus, near, far) in enumerate([(881.0, 840.0, 1020.0), (14900.0, 14500.0, 15300.0)] * 3):
+            session.add(Frame(path=f"/cards/quay/QY_{number:04d}.JPG", file_size=1, file_mtime_ns=number,
+                              shoot=shoot, body=body, lens=lens, focal_mm=100.0, f_number=4.0, focus_mm=focus,
+                              focus_near_mm=near, focus_far_mm=far, focus_source="exif"))
+    text = _run(url, 80, "frames", *(["--imperial"] if imperial else []))
+    lines = text.splitlines()
+    assert all(len(line) <= 80 for line in lines)
+    if imperial:
+        assert "(47.6–50.2)" in text and "(2 ft 9 in–" in text and "3 ft 4 in)" in text
+    else:
+        assert "(14.5–15.3)" in text and "(84.0 cm–" in text and "1.02 m)" in text
+        assert "(84.0 cm–1.02 m)" not in text
+        assert text.count("focus-misplaced") + text.count("out-of-reach") + text.count("too-wide-open") >= 6

@@ -137,10 +137,17 @@ BLUR_CAUTION = ("Blur is an estimate from a small preview (the edge methods of Z
                 "you decide what to reject — nothing is deleted or written to an image file.")
 
 
+# In a narrow table a bracket wider than this (and than the focus distance above it) takes
+# two lines, one end each: "(84.0 cm–" / "1.02 m)", so the focus column stays as narrow
+# as "(14.5–15.3)" and the 80-column frames table keeps its verdicts whole.
+_BRACKET_LINE_AT_MOST = 11
+
+
 def _focus_with_bracket(row, imperial: bool, separator: str = " ") -> str:
     """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"
-    (``separator`` "\n" puts the bracket on a line of its own, for a narrow table). A bracket
-    narrower than the printed precision is not shown."""
+    (``separator`` "\n" puts the bracket on a line of its own, for a narrow table, or on two
+    where it is wide: ``_BRACKET_LINE_AT_MOST``). A bracket narrower than the printed
+    precision is not shown."""
     focus = known_number(row["focus_mm"])
     text = format_distance(focus, imperial=imperial)
     nearest, farthest = bracket_end(row, "focus_near_mm"), bracket_end(row, "focus_far_mm")
@@ -150,10 +157,13 @@ def _focus_with_bracket(row, imperial: bool, separator: str = " ") -> str:
     if low == high:
         return text
     unit = text.rsplit(" ", 1)[-1] if " " in text else ""
-    # "2.90 m (2.80–3.10)": a metric unit once; feet and inches stay whole.
-    if unit in ("mm", "cm", "m", "km") and low.endswith(" " + unit) and high.endswith(" " + unit):
+    # "2.90 m (2.80–3.10)", "48.9 ft (47.4–50.3)": a unit once; feet and inches stay whole.
+    if unit in ("mm", "cm", "m", "km", "ft") and low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low[: -len(unit) - 1], high[: -len(unit) - 1]
-    return f"{text}{separator}({low}–{high})"
+    bracket = f"({low}–{high})"
+    if separator == "\n" and len(bracket) > max(len(text), _BRACKET_LINE_AT_MOST):
+        bracket = f"({low}–\n{high})"
+    return f"{text}{separator}{bracket}"
 
 
 _zone_text = format_zone  # one rounding rule for near – far, in units
