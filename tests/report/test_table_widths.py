@@ -230,3 +230,35 @@ def test_a_wide_focus_bracket_takes_two_lines_and_the_verdicts_stay_whole(tmp_pa
         assert "(14.5–15.3)" in text and "(84.0 cm–" in text and "1.02 m)" in text
         assert "(84.0 cm–1.02 m)" not in text
         assert text.count("focus-misplaced") + text.count("out-of-reach") + text.count("too-wide-open") >= 6
+
+
+def test_verdicts_too_long_for_80_columns_break_after_a_hyphen_not_off_the_edge(tmp_path):
+    """With every droppable column gone the frames table is still wider than 80 columns when
+    a verdict as long as "distance-uncertain" is in it: then the long verdicts take two
+    lines, broken after their last hyphen, instead of the terminal cutting them; at 120
+    columns they stay whole."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
+        lens = add_lens(session, "Altamira 24mm", focal_min_mm=24, max_aperture_wide=2.8, min_aperture=22)
+        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
+        # A wide bracket around a good distance: some of it holds, some not (uncertain); a
+        # frame focused too far; file names as long as a phone camera's.
+        rows = [(3000.0, 1500.0, 9000.0, 5.6), (3000.0, 2000.0, 4500.0, 2.8), (14900.0, None, None, 2.8)]
+        for number, (focus, near, far, f_number) in enumerate(rows * 2):
+            session.add(Frame(path=f"/cards/quay/QUAY_{number:05d}.JPEG", file_size=1, file_mtime_ns=number,
+                              shoot=shoot, body=body, lens=lens, focal_mm=24.0, f_number=f_number,
+                              focus_mm=focus, focus_near_mm=near, focus_far_mm=far, focus_source="exif"))
+    narrow = _run(url, 80, "frames")
+    assert all(len(line) <= 80 for line in narrow.splitlines())
+    assert "distance-uncertain" not in narrow and "distance-uncertai" not in narrow
+    lines = narrow.splitlines()
+    broken = [index for index, line in enumerate(lines) if line.rstrip().endswith("distance-")]
+    assert broken and all(lines[index + 1].rstrip().endswith("uncertain") for index in broken)
+    broken = [index for index, line in enumerate(lines) if line.rstrip().endswith("too-wide-")]
+    assert broken and all(lines[index + 1].rstrip().endswith("open") for index in broken)
+    assert "distance-uncertain" in _run(url, 120, "frames")

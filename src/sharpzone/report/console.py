@@ -107,7 +107,9 @@ class Column:
     """One table column: ``cell(row)`` gives its text (a str or a ``styled`` Text; lines
     joined by newlines stay lines). ``priority`` 0 is never dropped; when the table does not
     fit, the highest number goes first. ``wrap`` lets text wrap at spaces (numbers and file
-    names never wrap). ``shown(rows)`` can leave the column out for these rows altogether."""
+    names never wrap). ``shown(rows)`` can leave the column out for these rows altogether.
+    ``narrow(row)`` is the cell set on more lines, used when the table would not fit even
+    with every column that may go gone (rather than have the terminal cut it)."""
 
     header: str
     cell: Callable[[Any], str | Text]
@@ -115,6 +117,7 @@ class Column:
     priority: int = 0
     wrap: bool = False
     shown: Callable[[list], bool] | None = None
+    narrow: Callable[[Any], str | Text] | None = None
 
 
 # Every fitted table: a rule under the header, columns one space apart, no outer padding,
@@ -242,6 +245,11 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
         worst = max(droppable, key=lambda column: (column.priority, kept.index(column)))
         kept.remove(worst)
         dropped.append(worst.header)
+    if not wide and measure(kept).minimum > console.width:
+        for column in kept:
+            if column.narrow is not None:
+                cells[id(column)] = [_renderable(column.narrow(row)) for row in rows]
+                widths.pop(id(column), None)
     width = max(console.width, measure(kept).maximum) if wide else console.width
     wrapping = [column for column in kept if column.wrap]
     if wrapping:

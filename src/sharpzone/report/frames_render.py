@@ -52,8 +52,19 @@ def _flag_style(flag: str) -> str:
     return FLAG_STYLES.get(flag, "bold")
 
 
-def _flags_text(flags: list[str], separator: str = " ") -> Text:
-    parts = [styled(flag, _flag_style(flag)) for flag in flags]
+# A verdict code this long or shorter ("out-of-reach") stays on one line when the codes break.
+_UNBROKEN_AT_MOST = 12
+
+
+def _flags_text(flags: list[str], separator: str = " ", *, break_at_hyphen: bool = False) -> Text:
+    """The verdicts, each in its colour (``passed`` where none is a problem); with
+    ``break_at_hyphen`` each code longer than a short word goes on two lines, after its last
+    hyphen ("distance-" / "uncertain"), for a table that would not fit otherwise."""
+    def shown(flag: str) -> str:
+        head, hyphen, tail = flag.rpartition("-")
+        return f"{head}-\n{tail}" if break_at_hyphen and hyphen and len(flag) > _UNBROKEN_AT_MOST else flag
+
+    parts = [styled(shown(flag), _flag_style(flag)) for flag in flags]
     from sharpzone.analysis.checks import count_problems
 
     if not count_problems(flags):  # no verdict, or only notes and good news
@@ -111,7 +122,8 @@ def frame_columns(imperial: bool) -> list[Column]:
         Column("CoC", lambda row: format_length_mm(known_number(row["coc_mm"])), "right", priority=7),
         Column("Airy disk", lambda row: format_length_mm(known_number(row["airy_disk_mm"])), "right", priority=8),
         Column("Blur at focus", _blur_at_focus, "right", priority=2, shown=_measured),
-        Column("Verdict", lambda row: _flags_text(row["flags"], "\n")),
+        Column("Verdict", lambda row: _flags_text(row["flags"], "\n"),
+               narrow=lambda row: _flags_text(row["flags"], "\n", break_at_hyphen=True)),
     ]
 
 
