@@ -50,3 +50,37 @@ def test_the_worst_frames_come_first_in_the_documented_verdict_order():
     # frame order; past-diffraction; distance-unknown; a code not listed; none.
     assert worst_first(flag_lists) == [2, 5, 8, 1, 4, 3, 0, 6, 7]
     assert worst_first([]) == []
+
+
+def test_a_fitted_table_draws_as_rich_would_lay_it_out_itself():
+    """A table that fits is handed to rich with each column's width (so rich measures no
+    cell again); rich laying out the same table without those widths (the reference) draws
+    it character for character the same, at every terminal width."""
+    import copy
+
+    from rich.text import Text
+
+    rows = [{"name": f"VHB_{number:04d}.JPG", "value": f"{number * 37.5:.1f} mm", "lines": "a\nlonger line",
+             "note": "wraps at spaces " * (number % 4), "flag": Text("too-wide-open", style="bold")}
+            for number in range(40)]
+    columns = [
+        Column("File", lambda row: row["name"]),
+        Column("Value with a long header", lambda row: row["value"], "right"),
+        Column("Lines", lambda row: row["lines"]),
+        Column("Note", lambda row: row["note"].strip(), wrap=True, priority=1),
+        Column("Verdict", lambda row: row["flag"]),
+    ]
+    for width in (50, 80, 120):
+        console = SafeConsole(file=io.StringIO(), width=width, markup=False)
+        fitted = fit_table(columns, rows, console=console)
+        # At 50 columns the note must wrap narrower than its natural width: rich lays that out.
+        assert any(column.width is not None for column in fitted.table.columns) == (width > 50)
+        reference = copy.deepcopy(fitted.table)
+        for column in reference.columns:
+            column.width = None
+        drawn = []
+        for table in (fitted.table, reference):
+            buffer = io.StringIO()
+            SafeConsole(file=buffer, width=width, markup=False).print(table)
+            drawn.append(buffer.getvalue())
+        assert drawn[0] == drawn[1]

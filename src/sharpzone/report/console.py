@@ -213,18 +213,23 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
         natural, longest_word = column_widths(column)
         return max(longest_word, _widths([column.header])[1], min(natural, _WRAP_AT_LEAST))
 
-    def build(selection, indexes: Iterable[int] | None = None) -> Table:
+    def build(selection, indexes: Iterable[int] | None = None, final: bool = False) -> Table:
+        """The table of ``selection`` (the rows at ``indexes``, else all). ``final``: each
+        column as wide as rich would measure it over all its cells, said to rich, which then
+        measures no cell again (about a sixth of drawing a long table)."""
         table = Table(**_TABLE_STYLE, **table_options)
         for column in selection:
             natural, longest_word = column_widths(column)
             header_word = _widths([column.header])[1]
             if column.wrap:
+                fixed = max(natural, _widths([column.header])[0]) if final else None
                 table.add_column(column.header, justify=column.justify, overflow="fold",
-                                 min_width=wrap_minimum(column))
+                                 min_width=wrap_minimum(column), width=fixed)
             else:
                 width = max(natural, header_word)
-                table.add_column(_header_lines(column.header, width), justify=column.justify, no_wrap=True,
-                                 overflow="fold", min_width=width)
+                header = _header_lines(column.header, width)
+                table.add_column(header, justify=column.justify, no_wrap=True, overflow="fold", min_width=width,
+                                 width=max(width, _widths([header])[0]) if final else None)
         for index in range(len(rows)) if indexes is None else indexes:
             table.add_row(*(cells[id(column)][index] for column in selection))
         return table
@@ -265,7 +270,9 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
         for column in wrapping:
             cells[id(column)] = [wrap_text(cell, allowed[id(column)]) for cell in cells[id(column)]]
             widths.pop(id(column))
-    table = build(kept)
+    # Widths are given to rich only where every column fits at its natural width (rich then
+    # gives each that width); a table it must squeeze is left to rich to squeeze.
+    table = build(kept, final=measure(kept).maximum <= width)
     return FittedTable(table, dropped, width)
 
 
