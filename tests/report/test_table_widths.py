@@ -262,3 +262,22 @@ def test_verdicts_too_long_for_80_columns_break_after_a_hyphen_not_off_the_edge(
     broken = [index for index, line in enumerate(lines) if line.rstrip().endswith("too-wide-")]
     assert broken and all(lines[index + 1].rstrip().endswith("open") for index in broken)
     assert "distance-uncertain" in _run(url, 120, "frames")
+
+
+def test_a_list_at_80_columns_keeps_its_headers_whole_when_its_cells_fit(tmp_path):
+    """The lens list at 80 columns: the wrapping columns' headers are broken at spaces to
+    the width their cells need ("EXIF" over "names"), so rich does not widen those columns
+    and squeeze the last one ("Confir" before); with room to spare they stay on one line."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.service import add_lens
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        for focal in (24, 50, 85, 200):
+            add_lens(session, f"Altamira {focal}mm", focal_min_mm=focal, max_aperture_wide=2.8)
+        add_lens(session, "Senlo 100mm", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=22)
+    narrow = _run(url, 80, "lens", "list")
+    assert all(len(line) <= 80 for line in narrow.splitlines())
+    assert "Confirmed" in narrow and "Max" in narrow and "magnification" in narrow
+    wide = _run(url, 200, "lens", "list")
+    assert "EXIF names" in wide and "Confirmed" in wide

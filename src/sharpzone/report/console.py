@@ -201,6 +201,7 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
     cells = {id(column): [_renderable(column.cell(row)) for row in rows] for column in columns}
     widths: dict[int, tuple[int, int]] = {}  # per column: (natural width, longest word), as its cells are now
     deciding: dict[int, set[int]] = {}  # per column: the rows whose cells decide how rich measures it
+    header_at: dict[int, int] = {}  # per wrapping column: the width its header is broken at, once its cells are
 
     def column_widths(column) -> tuple[int, int]:
         if id(column) not in widths:
@@ -222,8 +223,10 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
             natural, longest_word = column_widths(column)
             header_word = _widths([column.header])[1]
             if column.wrap:
-                fixed = max(natural, _widths([column.header])[0]) if final else None
-                table.add_column(column.header, justify=column.justify, overflow="fold",
+                header = _header_lines(column.header, header_at[id(column)]) if id(column) in header_at \
+                    else column.header
+                fixed = max(natural, _widths([header])[0]) if final else None
+                table.add_column(header, justify=column.justify, overflow="fold",
                                  min_width=wrap_minimum(column), width=fixed)
             else:
                 width = max(natural, header_word)
@@ -270,6 +273,15 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
         for column in wrapping:
             cells[id(column)] = [wrap_text(cell, allowed[id(column)]) for cell in cells[id(column)]]
             widths.pop(id(column))
+        for column in wrapping:
+            # A header wider than its column takes what room is left, and is broken at spaces
+            # beyond it: rich would otherwise widen the column for it and squeeze the others.
+            over = cell_len(column.header) - allowed[id(column)]
+            if over > 0:
+                grant = min(spare, over)
+                spare -= grant
+                if grant < over:
+                    header_at[id(column)] = allowed[id(column)] + grant
     # Widths are given to rich only where every column fits at its natural width (rich then
     # gives each that width); a table it must squeeze is left to rich to squeeze.
     table = build(kept, final=measure(kept).maximum <= width)
