@@ -281,3 +281,37 @@ def test_a_list_at_80_columns_keeps_its_headers_whole_when_its_cells_fit(tmp_pat
     assert "Confirmed" in narrow and "Max" in narrow and "magnification" in narrow
     wide = _run(url, 200, "lens", "list")
     assert "EXIF names" in wide and "Confirmed" in wide
+
+
+def test_the_frames_table_in_feet_and_inches_fits_80_columns_without_cutting(tmp_path):
+    """In feet and inches a close frame's near and far limits ("2 ft 10.2 in") and a long
+    file name make the frames table wider than 80 columns with every droppable column gone:
+    the limits then go feet over inches and the long verdicts break after a hyphen, and no
+    line is cut."""
+    from sharpzone.catalog.engine import session_scope
+    from sharpzone.catalog.models import Frame
+    from sharpzone.catalog.service import add_body, add_lens, add_shoot
+    from sharpzone.report.frames_render import FLAG_STYLES
+
+    url = str(tmp_path / "catalog.sqlite")
+    with session_scope(url) as session:
+        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
+        lens = add_lens(session, "Senlo 100mm", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=22)
+        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
+        rows = [(881.0, 840.0, 1020.0, 4.0), (2900.0, None, None, 2.8), (None, None, None, 8.0)]
+        for number, (focus, near, far, f_number) in enumerate(rows * 2):
+            session.add(Frame(path=f"/cards/quay/QUAY_{number:05d}.JPEG", file_size=1, file_mtime_ns=number,
+                              shoot=shoot, body=body, lens=lens, focal_mm=100.0, f_number=f_number,
+                              focus_mm=focus, focus_near_mm=near, focus_far_mm=far,
+                              focus_source="exif" if focus else "none"))
+    lines = _run(url, 80, "frames", "--imperial").splitlines()
+    assert all(len(line) <= 80 for line in lines)
+    rows_at = [index for index, line in enumerate(lines) if line.startswith("QUAY_")]
+    assert len(rows_at) == 6
+    codes = set(FLAG_STYLES) | {"passed"}
+    for index in rows_at:  # each row's verdict, whole or broken after a hyphen onto the next line
+        last = lines[index].split()[-1]
+        assert last in codes or (last.endswith("-") and last + lines[index + 1].split()[-1] in codes), lines[index]
+    # The close frame's limits (2 ft 10½ in to 2 ft 11 in): feet on its line, inches below.
+    first = rows_at[0]
+    assert re.search(r"\b2 ft\s+2 ft\s", lines[first]) and re.search(r"\b10½ in\s+11 in\b", lines[first + 1])

@@ -108,14 +108,18 @@ def frame_columns(imperial: bool) -> list[Column]:
     def zone(end):
         return lambda row: _zone_text(known_number(row["near_mm"]), known_number(row["far_mm"]), imperial).split(" – ")[end]
 
+    def zone_on_two_lines(end):
+        # Feet over inches ("5 ft" / "10.7 in"), for a table that would not fit otherwise.
+        return lambda row: zone(end)(row).replace(" ft ", " ft\n", 1)
+
     return [
         Column("File", lambda row: _short_path(row["path"])),
         Column("Lens", lambda row: row.get("lens") or "—", wrap=True, priority=3),
         Column("Focal", lambda row: _focal_text(known_number(row["focal_mm"])), "right"),
         Column("Aperture", lambda row: format_f_number(known_number(row["f_number"])), "right"),
         Column("Focus", lambda row: _focus_with_bracket(row, imperial, "\n"), "right"),
-        Column("Near", zone(0), "right"),
-        Column("Far", zone(1), "right"),
+        Column("Near", zone(0), "right", narrow=zone_on_two_lines(0)),
+        Column("Far", zone(1), "right", narrow=zone_on_two_lines(1)),
         Column("Depth", dist("total_mm"), "right", priority=4),
         Column("Working f", _working_f, "right", priority=5, shown=lambda rows: any(map(_closeup, rows))),
         Column("Hyperfocal", dist("hyperfocal_mm"), "right", priority=6),
