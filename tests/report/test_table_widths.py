@@ -95,24 +95,41 @@ def test_long_check_shows_the_summary_and_the_worst_first(long_catalog):
     assert "Flagged frames and what would have worked" in everything
 
 
-def test_a_check_listing_frames_that_were_not_judged_does_not_call_them_flagged(tmp_path):
-    """Frames with no focus distance are not judged; they are listed with the flagged ones
-    (they may need a look), and the title names them for what they are; counts of a
-    thousand and more are grouped by thousands, as everywhere a person reads them."""
+def _one_lens_catalog(tmp_path, lens: tuple[str, float], frames: list[dict], *, near_mm=2000, far_mm=6000,
+                      widest: float = 2.8) -> str:
+    """A catalogue of one body, one lens (name, focal length; ``widest`` f-number) and one
+    shoot "Quay" planned to hold ``near_mm``–``far_mm``, with ``frames`` (each a dict of
+    Frame fields; the file name, shoot, body, lens and focal length filled in where not
+    given)."""
     from sharpzone.catalog.engine import session_scope
     from sharpzone.catalog.models import Frame
     from sharpzone.catalog.service import add_body, add_lens, add_shoot
 
     url = str(tmp_path / "catalog.sqlite")
+    name, focal = lens
     with session_scope(url) as session:
         body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
-        lens = add_lens(session, "Altamira 50mm", focal_min_mm=50, max_aperture_wide=1.8)
-        shoot = add_shoot(session, "Quay", near_mm=2500, far_mm=4000)
-        for number in range(2400):
-            session.add(Frame(path=f"/cards/quay/QY_{number:04d}.JPG", file_size=1, file_mtime_ns=number,
-                              shoot=shoot, body=body, lens=lens, focal_mm=50.0, f_number=1.8,
-                              focus_mm=None if number % 2 else 3000.0 + number,
-                              focus_source="none" if number % 2 else "exif"))
+        lens_row = add_lens(session, name, focal_min_mm=focal, max_aperture_wide=widest, min_aperture=22)
+        shoot = add_shoot(session, "Quay", near_mm=near_mm, far_mm=far_mm)
+        for number, fields in enumerate(frames):
+            values = {"path": f"/cards/quay/QY_{number:04d}.JPG", "file_size": 1, "file_mtime_ns": number,
+                      "focal_mm": float(focal), **fields}
+            session.add(Frame(shoot=shoot, body=body, lens=lens_row, **values))
+    return url
+
+
+def _frame(number: int, focus, near=None, far=None, f_number=4.0, name="QY_{:04d}.JPG") -> dict:
+    return {"path": "/cards/quay/" + name.format(number), "focus_mm": focus, "focus_near_mm": near,
+            "focus_far_mm": far, "f_number": f_number, "focus_source": "exif" if focus else "none"}
+
+
+def test_a_check_listing_frames_that_were_not_judged_does_not_call_them_flagged(tmp_path):
+    """Frames with no focus distance are not judged; they are listed with the flagged ones
+    (they may need a look), and the title names them for what they are; counts of a
+    thousand and more are grouped by thousands, as everywhere a person reads them."""
+    url = _one_lens_catalog(tmp_path, ("Altamira 50mm", 50), [
+        _frame(number, None if number % 2 else 3000.0 + number, f_number=1.8) for number in range(2400)],
+        near_mm=2500, far_mm=4000, widest=1.8)
     short = _run(url, 120, "check")
     assert "Checked 2,400 frames" in short and "1,200 not judged" in short
     assert "flagged frames" not in short
@@ -205,22 +222,13 @@ def test_the_streamed_check_report_prints_what_the_whole_check_prints(tmp_path):
 @pytest.mark.parametrize("imperial", [False, True])
 def test_a_wide_focus_bracket_takes_two_lines_and_the_verdicts_stay_whole(tmp_path, imperial):
     """A bracket whose ends print in different units ("84.0 cm" to "1.02 m") is split after
-    its dash in the frames table, so at 80 columns the verdict column is not cut; a bracket
-    in one unit keeps that unit once ("(14.5–15.3)" under "14.9 m"; "(47.6–50.2)" under
-    "48.9 ft")."""
-    from sharpzone.catalog.engine import session_scope
-    from sharpzone.catalog.models import Frame
-    from sharpzone.catalog.service import add_body, add_lens, add_shoot
-
-    url = str(tmp_path / "catalog.sqlite")
-    with session_scope(url) as session:
-        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
-        lens = add_lens(session, "Senlo 100mm", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=22)
-        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
-        for number, (focus, near, far) in enumerate([(881.0, 840.0, 1020.0), (14900.0, 14500.0, 15300.0)] * 3):
-            session.add(Frame(path=f"/cards/quay/QY_{number:04d}.JPG", file_size=1, file_mtime_ns=number,
-                              shoot=shoot, body=body, lens=lens, focal_mm=100.0, f_number=4.0, focus_mm=focus,
-                              focus_near_mm=near, focus_far_mm=far, focus_source="exif"))
+    its dash in the frames table where the table would not fit 80 columns otherwise (long
+    file names), so the verdict column is not cut; with room to spare it stays on one line.
+    A bracket in one unit keeps that unit once ("(14.5–15.3)" under "14.9 m"; "(47.6–50.2)"
+    under "48.9 ft")."""
+    url = _one_lens_catalog(tmp_path, ("Senlo 100mm", 100), [
+        _frame(number, focus, near, far, name="QUAY_{:06d}.JPG")
+        for number, (focus, near, far) in enumerate([(881.0, 840.0, 1020.0), (14900.0, 14500.0, 15300.0)] * 3)])
     text = _run(url, 80, "frames", *(["--imperial"] if imperial else []))
     lines = text.splitlines()
     assert all(len(line) <= 80 for line in lines)
@@ -230,6 +238,7 @@ def test_a_wide_focus_bracket_takes_two_lines_and_the_verdicts_stay_whole(tmp_pa
         assert "(14.5–15.3)" in text and "(84.0 cm–" in text and "1.02 m)" in text
         assert "(84.0 cm–1.02 m)" not in text
         assert text.count("focus-misplaced") + text.count("out-of-reach") + text.count("too-wide-open") >= 6
+        assert "(84.0 cm–1.02 m)" in _run(url, 120, "frames")
 
 
 def test_verdicts_too_long_for_80_columns_break_after_a_hyphen_not_off_the_edge(tmp_path):
@@ -237,22 +246,12 @@ def test_verdicts_too_long_for_80_columns_break_after_a_hyphen_not_off_the_edge(
     a verdict as long as "distance-uncertain" is in it: then the long verdicts take two
     lines, broken after their last hyphen, instead of the terminal cutting them; at 120
     columns they stay whole."""
-    from sharpzone.catalog.engine import session_scope
-    from sharpzone.catalog.models import Frame
-    from sharpzone.catalog.service import add_body, add_lens, add_shoot
-
-    url = str(tmp_path / "catalog.sqlite")
-    with session_scope(url) as session:
-        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
-        lens = add_lens(session, "Altamira 24mm", focal_min_mm=24, max_aperture_wide=2.8, min_aperture=22)
-        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
-        # A wide bracket around a good distance: some of it holds, some not (uncertain); a
-        # frame focused too far; file names as long as a phone camera's.
-        rows = [(3000.0, 1500.0, 9000.0, 5.6), (3000.0, 2000.0, 4500.0, 2.8), (14900.0, None, None, 2.8)]
-        for number, (focus, near, far, f_number) in enumerate(rows * 2):
-            session.add(Frame(path=f"/cards/quay/QUAY_{number:05d}.JPEG", file_size=1, file_mtime_ns=number,
-                              shoot=shoot, body=body, lens=lens, focal_mm=24.0, f_number=f_number,
-                              focus_mm=focus, focus_near_mm=near, focus_far_mm=far, focus_source="exif"))
+    # A wide bracket around a good distance: some of it holds, some not (uncertain); a
+    # frame focused too far; file names as long as a phone camera's.
+    rows = [(3000.0, 1500.0, 9000.0, 5.6), (3000.0, 2000.0, 4500.0, 2.8), (14900.0, None, None, 2.8)]
+    url = _one_lens_catalog(tmp_path, ("Altamira 24mm", 24), [
+        _frame(number, focus, near, far, f_number, name="QUAY_{:05d}.JPEG")
+        for number, (focus, near, far, f_number) in enumerate(rows * 2)])
     narrow = _run(url, 80, "frames")
     assert all(len(line) <= 80 for line in narrow.splitlines())
     assert "distance-uncertain" not in narrow and "distance-uncertai" not in narrow
@@ -288,22 +287,12 @@ def test_the_frames_table_in_feet_and_inches_fits_80_columns_without_cutting(tmp
     file name make the frames table wider than 80 columns with every droppable column gone:
     the limits then go feet over inches and the long verdicts break after a hyphen, and no
     line is cut."""
-    from sharpzone.catalog.engine import session_scope
-    from sharpzone.catalog.models import Frame
-    from sharpzone.catalog.service import add_body, add_lens, add_shoot
     from sharpzone.report.frames_render import FLAG_STYLES
 
-    url = str(tmp_path / "catalog.sqlite")
-    with session_scope(url) as session:
-        body = add_body(session, "Korvath K1", exif_make="Korvath", exif_model="K1", format_name="36x24")
-        lens = add_lens(session, "Senlo 100mm", focal_min_mm=100, max_aperture_wide=2.8, min_aperture=22)
-        shoot = add_shoot(session, "Quay", near_mm=2000, far_mm=6000)
-        rows = [(881.0, 840.0, 1020.0, 4.0), (2900.0, None, None, 2.8), (None, None, None, 8.0)]
-        for number, (focus, near, far, f_number) in enumerate(rows * 2):
-            session.add(Frame(path=f"/cards/quay/QUAY_{number:05d}.JPEG", file_size=1, file_mtime_ns=number,
-                              shoot=shoot, body=body, lens=lens, focal_mm=100.0, f_number=f_number,
-                              focus_mm=focus, focus_near_mm=near, focus_far_mm=far,
-                              focus_source="exif" if focus else "none"))
+    rows = [(881.0, 840.0, 1020.0, 4.0), (2900.0, None, None, 2.8), (None, None, None, 8.0)]
+    url = _one_lens_catalog(tmp_path, ("Senlo 100mm", 100), [
+        _frame(number, focus, near, far, f_number, name="QUAY_{:05d}.JPEG")
+        for number, (focus, near, far, f_number) in enumerate(rows * 2)])
     lines = _run(url, 80, "frames", "--imperial").splitlines()
     assert all(len(line) <= 80 for line in lines)
     rows_at = [index for index, line in enumerate(lines) if line.startswith("QUAY_")]

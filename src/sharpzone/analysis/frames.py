@@ -92,6 +92,16 @@ def iter_frames(session: Session, where: FrameFilter = FrameFilter(), *,
         yield _frames_table(names, rows, small, expected)
 
 
+def joined(parts: list[pd.DataFrame], *, keep_index: bool = False) -> pd.DataFrame:
+    """Chunks of frames (at least one) as one DataFrame: the chunk itself when there is one;
+    numbered afresh unless ``keep_index``."""
+    if len(parts) == 1:
+        return parts[0]
+    import pandas as pd
+
+    return pd.concat(parts, ignore_index=not keep_index)
+
+
 def _floats(values) -> np.ndarray:
     """Values as the driver gave them as floats, NaN for unknown (and for what is no number)."""
     import numpy as np

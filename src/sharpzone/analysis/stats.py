@@ -7,7 +7,7 @@ from collections import Counter
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from sharpzone.analysis.frames import CHUNK_ROWS, FrameFilter, iter_checked
+from sharpzone.analysis.frames import CHUNK_ROWS, FrameFilter, iter_checked, joined
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -86,9 +86,7 @@ def shoot_stats(session: Session, where: FrameFilter = FrameFilter(), *, coc_pol
         kept = [frames[[name for name in _STATS_COLUMNS if name in frames]] for frames in chunks]
     if not kept:  # nothing to count: asked of the database, no frames table
         return StatsResult((), (), False)
-    import pandas as pd
-
-    frames = pd.concat(kept, ignore_index=True) if len(kept) > 1 else kept[0]
+    frames = joined(kept)
     groups = {}
     for kind, column in (("lens", "lens"), ("body", "body")):
         named = frames.assign(_name=frames[column].fillna(f"(unknown {kind})"))

@@ -47,20 +47,20 @@ def _frames_or_check(ctx, where, judging, *, checked: bool, json: bool, jsonl: b
     from sharpzone.analysis import frames as service
 
     options = {"coc_policy": judging.coc_policy, "requirement": judging.requirement}
+    machine = json or jsonl or csv
     with catalog_session(ctx) as session:
-        if json or jsonl or csv or checked:
+        if not (machine or checked):
+            result = service.frames_with_zones(session, where, **options)
+        else:
             chunks = (service.iter_check_shoot if checked else service.iter_checked)(session, where, **options)
             # Closed while the catalogue is still open, also when the reader goes away
             # (``| head``): its cursor is then closed in order, not after the database.
             with contextlib.closing(chunks):
-                if json or jsonl or csv:
+                if machine:
                     return _stream(chunks, json=json, jsonl=jsonl, checked=checked)
                 from sharpzone.report.frames_render import CHECK_DETAIL_ROWS, check_report
 
-                result = check_report(chunks, judging.requirement, judging.coc_policy,
-                                      keep=None if list_all else CHECK_DETAIL_ROWS)
-        else:
-            result = service.frames_with_zones(session, where, **options)
+                result = check_report(chunks, **options, keep=None if list_all else CHECK_DETAIL_ROWS)
     render(result)
 
 

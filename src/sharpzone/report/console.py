@@ -109,7 +109,8 @@ class Column:
     fit, the highest number goes first. ``wrap`` lets text wrap at spaces (numbers and file
     names never wrap). ``shown(rows)`` can leave the column out for these rows altogether.
     ``narrow(row)`` is the cell set on more lines, used when the table would not fit even
-    with every column that may go gone (rather than have the terminal cut it)."""
+    with every column that may go gone (rather than have the terminal cut it); the columns'
+    narrow forms are taken one at a time, in column order, until the table fits."""
 
     header: str
     cell: Callable[[Any], str | Text]
@@ -253,11 +254,12 @@ def fit_table(columns: Sequence[Column], rows: list, *, console: Console, wide: 
         worst = max(droppable, key=lambda column: (column.priority, kept.index(column)))
         kept.remove(worst)
         dropped.append(worst.header)
-    if not wide and measure(kept).minimum > console.width:
-        for column in kept:
-            if column.narrow is not None:
-                cells[id(column)] = [_renderable(column.narrow(row)) for row in rows]
-                widths.pop(id(column), None)
+    # Still too wide: the columns' narrower forms, one at a time in column order, until it fits.
+    for column in [column for column in kept if column.narrow is not None]:
+        if wide or measure(kept).minimum <= console.width:
+            break
+        cells[id(column)] = [_renderable(column.narrow(row)) for row in rows]
+        widths.pop(id(column), None)
     width = max(console.width, measure(kept).maximum) if wide else console.width
     wrapping = [column for column in kept if column.wrap]
     if wrapping:

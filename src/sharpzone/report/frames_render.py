@@ -117,7 +117,8 @@ def frame_columns(imperial: bool) -> list[Column]:
         Column("Lens", lambda row: row.get("lens") or "—", wrap=True, priority=3),
         Column("Focal", lambda row: _focal_text(known_number(row["focal_mm"])), "right"),
         Column("Aperture", lambda row: format_f_number(known_number(row["f_number"])), "right"),
-        Column("Focus", lambda row: _focus_with_bracket(row, imperial, "\n"), "right"),
+        Column("Focus", lambda row: _focus_with_bracket(row, imperial, "\n"), "right",
+               narrow=lambda row: _focus_with_bracket(row, imperial, "\n", split_wide=True)),
         Column("Near", zone(0), "right", narrow=zone_on_two_lines(0)),
         Column("Far", zone(1), "right", narrow=zone_on_two_lines(1)),
         Column("Depth", dist("total_mm"), "right", priority=4),
@@ -153,17 +154,17 @@ BLUR_CAUTION = ("Blur is an estimate from a small preview (the edge methods of Z
                 "you decide what to reject — nothing is deleted or written to an image file.")
 
 
-# In a narrow table a bracket wider than this (and than the focus distance above it) takes
-# two lines, one end each: "(84.0 cm–" / "1.02 m)", so the focus column stays as narrow
-# as "(14.5–15.3)" and the 80-column frames table keeps its verdicts whole.
+# In a table that would not fit otherwise, a bracket wider than this (and than the focus
+# distance above it) takes two lines, one end each: "(84.0 cm–" / "1.02 m)", so the focus
+# column is as narrow as "(14.5–15.3)".
 _BRACKET_LINE_AT_MOST = 11
 
 
-def _focus_with_bracket(row, imperial: bool, separator: str = " ") -> str:
+def _focus_with_bracket(row, imperial: bool, separator: str = " ", *, split_wide: bool = False) -> str:
     """The recorded focus distance, with the camera's bracket when it is one: "2.9 m (2.8–3.1)"
-    (``separator`` "\n" puts the bracket on a line of its own, for a narrow table, or on two
-    where it is wide: ``_BRACKET_LINE_AT_MOST``). A bracket narrower than the printed
-    precision is not shown."""
+    (``separator`` "\n" puts the bracket on a line of its own, for a narrow table; with
+    ``split_wide`` also a wide bracket on two: ``_BRACKET_LINE_AT_MOST``). A bracket narrower
+    than the printed precision is not shown."""
     focus = known_number(row["focus_mm"])
     text = format_distance(focus, imperial=imperial)
     nearest, farthest = bracket_end(row, "focus_near_mm"), bracket_end(row, "focus_far_mm")
@@ -177,7 +178,7 @@ def _focus_with_bracket(row, imperial: bool, separator: str = " ") -> str:
     if unit in ("mm", "cm", "m", "km", "ft") and low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low[: -len(unit) - 1], high[: -len(unit) - 1]
     bracket = f"({low}–{high})"
-    if separator == "\n" and len(bracket) > max(len(text), _BRACKET_LINE_AT_MOST):
+    if split_wide and len(bracket) > max(len(text), _BRACKET_LINE_AT_MOST):
         bracket = f"({low}–\n{high})"
     return f"{text}{separator}{bracket}"
 
@@ -276,9 +277,7 @@ def check_report(chunks: Iterable[pd.DataFrame], requirement=None, coc_policy: s
     """The ``CheckReport`` of checked frames that come a chunk at a time (``analysis.frames.
     iter_check_shoot``): memory follows a chunk and the summary's few columns, not every
     column of every frame. ``keep=None`` lists every frame that did not pass."""
-    import pandas as pd
-
-    from sharpzone.analysis.frames import CheckResult
+    from sharpzone.analysis.frames import CheckResult, joined
 
     summary, every, listed, not_passed = [], [], None, 0
     for frames in chunks:
@@ -290,15 +289,14 @@ def check_report(chunks: Iterable[pd.DataFrame], requirement=None, coc_policy: s
             continue
         # The worst so far (worst first) then this chunk's, in frame order: a stable sort
         # of the two keeps frames of equal severity in frame order, as one sort of all would.
-        pool = others if listed is None else pd.concat([listed, others])
+        pool = others if listed is None else joined([listed, others], keep_index=True)
         listed = pool.iloc[worst_first(pool["flags"].tolist())[:keep]]
     if not summary:
         return CheckReport(None, None, 0)
     if keep is None:
-        pool = pd.concat(every) if len(every) > 1 else every[0]
+        pool = joined(every, keep_index=True)
         listed = pool.iloc[worst_first(pool["flags"].tolist())]
-    frames = pd.concat(summary, ignore_index=True) if len(summary) > 1 else summary[0]
-    return CheckReport(CheckResult(frames, requirement, coc_policy), listed, not_passed)
+    return CheckReport(CheckResult(joined(summary), requirement, coc_policy), listed, not_passed)
 
 
 def render_check(result: CheckResult | CheckReport, *, imperial: bool = False, show_all: bool = False,
@@ -308,16 +306,16 @@ def render_check(result: CheckResult | CheckReport, *, imperial: bool = False, s
     ``CheckReport`` (``check_report``, what ``sharpzone check`` streams) or a whole
     ``CheckResult``."""
     console = console or stdout_console()
-    if not isinstance(result, CheckReport):
-        result = check_report([result.frames] if not result.frames.empty else [], result.requirement,
-                              result.coc_policy, keep=None if show_all else CHECK_DETAIL_ROWS)
-    report, result = result, result.result
-    if result is None:
+    report = result if isinstance(result, CheckReport) else check_report(
+        [result.frames] if not result.frames.empty else [], result.requirement, result.coc_policy,
+        keep=None if show_all else CHECK_DETAIL_ROWS)
+    checked = report.result
+    if checked is None:
         console.print("No frames match.")
         return
-    frames = result.frames
-    summary = result.summary_by_verdict()
-    against = (result.requirement.describe(imperial) if result.requirement
+    frames = checked.frames
+    summary = checked.summary_by_verdict()
+    against = (checked.requirement.describe(imperial) if checked.requirement
                else f"the plan ({_plans_line(frames, imperial)})")
     counts = f", {summary['flagged']:,} flagged"
     if summary["uncertain"]:
@@ -345,7 +343,7 @@ def render_check(result: CheckResult | CheckReport, *, imperial: bool = False, s
         Column("Uncertain", lambda item: f"{item['uncertain']:,}", "right", priority=2),
         Column("Not judged", lambda item: f"{item['unjudged']:,}", "right", priority=1),
         Column("Share", lambda item: "—" if item["share_flagged"] is None else f"{item['share_flagged']:.0%}", "right"),
-    ], result.summary_by_lens(), console=console, wide=wide, title="By lens", title_justify="left"))
+    ], checked.summary_by_lens(), console=console, wide=wide, title="By lens", title_justify="left"))
     console.print(styled("Share flagged: of the frames that could be judged (passed, flagged or uncertain).", "dim"))
     # Every frame that did not simply pass: flagged, uncertain or not judged, worst first.
     total = report.not_passed
