@@ -53,3 +53,12 @@ def _slow_sniffed(path, user_focus_mm=None):
 # ``capture.STAGES`` with a first stage of 0.15 s a file: a batch takes longer through it
 # than a time limit of 1 s, though no file does.
 SLOW_STAGES = (_slow_sniffed, tagged, recorded)
+
+
+def pid_noting_hang(path, user_focus_mm=None):
+    """Notes its process id beside the file (``<path>.pid``), then hangs: for telling that a
+    worker was stopped."""
+    with open(f"{path}.pid-part", "w", encoding="ascii") as note:
+        note.write(f"{os.getpid()}\n")
+    os.replace(f"{path}.pid-part", f"{path}.pid")  # whole when it appears
+    time.sleep(3600)

@@ -3,6 +3,8 @@ rerun that changes nothing, kill-safety, concurrent runs, and the CLI's JSON sum
 
 from __future__ import annotations
 
+import contextlib
+
 import json
 import math
 import os
@@ -284,9 +286,11 @@ def test_progress_comes_every_so_many_files_and_at_the_end(tmp_path, written):
     assert read[-1] == (count, count)
 
 
-def test_the_progress_bar_knows_its_total_early_on_a_large_card(tmp_path, written, monkeypatch):
+@pytest.mark.parametrize("early", [False, True], ids=["catalogue open first", "read before it opens"])
+def test_the_progress_bar_knows_its_total_early_on_a_large_card(tmp_path, written, monkeypatch, early):
     """More files than the readers hold at once: after the first few the folder walk is
-    finished, so every report but the earliest carries the total (a bar with a time left)."""
+    finished, so every report but the earliest carries the total (a bar with a time left),
+    whether the walk goes on in this process or in the one that drives the early readers."""
     from sharpzone.catalog.location import sqlite_url
     from sharpzone.ingest import pipeline
 
@@ -296,25 +300,29 @@ def test_the_progress_bar_knows_its_total_early_on_a_large_card(tmp_path, writte
     for number in range(count):
         written(f"L{number:03d}.JPG", picture, tmp_path / "large")
     calls = []
-    with open_catalog(sqlite_url(tmp_path / "large.sqlite")) as catalog:
-        ingest_paths(catalog, [tmp_path / "large"], jobs=1, progress=lambda *call: calls.append(call))
+    handed = _forced_early(monkeypatch) if early else []
+    with contextlib.ExitStack() as stack:
+        where = str(tmp_path / "large.sqlite") if early else stack.enter_context(
+            open_catalog(sqlite_url(tmp_path / "large.sqlite")))
+        ingest_paths(where, [tmp_path / "large"], jobs=1, progress=lambda *call: calls.append(call))
+    assert len(handed) == int(early)
     totals = [total for stage, done, total in calls if stage == "read" and done]
     assert len(totals) >= count // pipeline.PROGRESS_EVERY
     assert totals == [count] * len(totals)
 
 
 def _forced_early(monkeypatch):
-    """Make ``ingest_paths` given a location` read before the catalogue opens whatever the catalogue holds, and
-    count the hand-overs (so a test knows the early path ran)."""
+    """Make ``ingest_paths`` given a location read before the catalogue opens whatever the
+    catalogue holds, and keep each plan handed over (so a test knows the early path ran)."""
     from sharpzone.catalog import peek
     from sharpzone.ingest import pipeline
 
     monkeypatch.setattr(peek, "may_hold_frames_under", lambda url, roots, head: False)
     handed = []
-    original = pipeline._ReadAhead.hand_over
-    monkeypatch.setattr(pipeline._ReadAhead, "hand_over",
-                        lambda self, plan: (handed.append((plan, len(self._taken))), original(self, plan)))
-    return handed  # (the plan, the walk's events taken before it) per hand-over
+    original = pipeline._EarlyReads.hand_over
+    monkeypatch.setattr(pipeline._EarlyReads, "hand_over",
+                        lambda self, plan: (handed.append(plan), original(self, plan))[1])
+    return handed
 
 
 def test_files_read_before_the_catalogue_opens_are_filed_once_and_unchanged_ones_dropped(
@@ -333,11 +341,12 @@ def test_files_read_before_the_catalogue_opens_are_filed_once_and_unchanged_ones
     assert _counts(f"sqlite:///{url}") == (GOOD, 5)
 
 
-def test_the_walk_goes_on_under_the_plan_when_the_early_reads_fill_up(tmp_path, written, monkeypatch):
-    """A card larger than what is read ahead: the readers stop drawing from the walk while
-    the results wait, the plan takes over the walk mid-way, and each file is filed once."""
+def test_the_early_readers_wait_while_their_results_wait_and_each_file_is_filed_once(tmp_path, written, monkeypatch):
+    """A card larger than what is read ahead: the process that drives the readers stops
+    while its results wait for the catalogue to open, goes on as they are taken, and every
+    file is filed once, with the progress bar's total right."""
     from sharpzone.ingest import workers
-    
+
     monkeypatch.setattr(workers, "READ_AHEAD", workers.RESULT_BATCH)  # one list waits at most
     handed = _forced_early(monkeypatch)
     count = 700  # beyond two workers' queues and the one waiting list
@@ -347,8 +356,8 @@ def test_the_walk_goes_on_under_the_plan_when_the_early_reads_fill_up(tmp_path, 
     calls = []
     url = str(tmp_path / "big.sqlite")
     summary = ingest_paths(url, [tmp_path / "big"], jobs=2, progress=lambda *call: calls.append(call))
-    (plan, walked_before), = handed
-    assert walked_before < count and len(plan.by_path) == count
+    (plan,) = handed
+    assert len(plan.by_path) == count
     assert (summary.added, summary.unchanged) == (count, 0)
     assert _counts(f"sqlite:///{url}") == (count, 0)
     assert [(done, total) for stage, done, total in calls if stage == "read"][-1] == (count, count)
@@ -375,7 +384,7 @@ def test_a_rescan_through_ingest_into_opens_no_file(shoot_tree, tmp_path, monkey
     
     url = str(tmp_path / "rescan.sqlite")
     ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=1)
-    monkeypatch.setattr(pipeline, "_ReadAhead", None)  # any early read would fail loudly
+    monkeypatch.setattr(pipeline, "_EarlyReads", None)  # any early read would fail loudly
     again = ingest_paths(url, [shoot_tree], shoot="Harbour", jobs=1)
     assert (again.added, again.updated, again.unchanged) == (0, 0, GOOD)
 

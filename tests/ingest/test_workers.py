@@ -11,10 +11,10 @@ import pytest
 from sharpzone.catalog.engine import open_catalog, session_scope
 from sharpzone.catalog.models import Frame, IngestProblem
 from sharpzone.ingest.pipeline import ingest_paths
-from sharpzone.ingest.workers import BackgroundReads, ReaderPool, timed_out
+from sharpzone.ingest.workers import BackgroundReads, ForkedReads, ReaderPool, can_fork, timed_out, unpacked_answer
 from tests.ingest import makernotes
 from tests.ingest.images import exif_block, jpeg, raw_with_embedded_jpeg, tiff_with_ifd_loop
-from tests.ingest.readers import MISBEHAVING_STAGES, SLOW_STAGES, misbehaving_reader
+from tests.ingest.readers import MISBEHAVING_STAGES, SLOW_STAGES, misbehaving_reader, pid_noting_hang
 
 CRASHED = "the metadata reader crashed on this file"
 
@@ -45,6 +45,99 @@ def test_crashing_and_hanging_readers_cost_one_file_each(tmp_path, written, cata
         focus = sorted(frame.focus_mm for frame in session.query(Frame))
         assert focus == pytest.approx([1000 + n for n in range(90)])  # every good file, once
         assert session.query(IngestProblem).count() == 4
+
+
+@READERS
+def test_through_the_process_that_drives_the_readers_a_crash_or_a_hang_costs_one_file(tmp_path, written, reader):
+    """A first ingest into a catalogue given by its place reads from a process of its own
+    (``pipeline._EarlyReads``): the same containment holds there."""
+    from sharpzone.ingest import pipeline
+
+    folder = tmp_path / "card"
+    _card(written, folder, 90, ["A_segv.JPG", "M_abort.JPG", "T_hang.JPG", "Z_bug.JPG"])
+    early = []
+    original = pipeline._EarlyReads.hand_over
+    pipeline._EarlyReads.hand_over = lambda self, plan: (early.append(plan), original(self, plan))[1]
+    try:
+        result = ingest_paths(str(tmp_path / "first.sqlite"), [folder], jobs=2, reader=reader, time_limit_s=1.5,
+                              batch_size=20)
+    finally:
+        pipeline._EarlyReads.hand_over = original
+    assert len(early) == 1
+    reasons = {os.path.basename(path): reason for path, reason in result.failed}
+    assert reasons == {"A_segv.JPG": CRASHED, "M_abort.JPG": CRASHED, "T_hang.JPG": timed_out(1.5),
+                       "Z_bug.JPG": "the metadata reader failed on this file (RuntimeError)"}
+    assert result.added == 90
+
+
+def _tasks_noting(paths):
+    def tasks_of(note):
+        for path in paths:
+            note(("found", path))
+            yield (path, None)
+    return tasks_of
+
+
+def _two_readers(reader):
+    return lambda head: ReaderPool(reader, 2, depth=4)  # one file each at first
+
+
+needs_fork = pytest.mark.skipif(not can_fork(), reason="this platform does not fork processes")
+
+
+@needs_fork
+def test_forked_reads_give_every_answer_once_each_after_the_notes_taken_before_it(tmp_path, written):
+    folder = tmp_path / "noted"
+    _card(written, folder, 150, ["Q_segv.JPG"])
+    paths = [str(folder / name) for name in sorted(os.listdir(folder))]
+    noted: list = []
+    with ForkedReads(_tasks_noting(paths), _two_readers(misbehaving_reader), 64, unpacked=unpacked_answer) as reads:
+        answers = []
+        for answer in reads.results(noted.extend):
+            assert ("found", answer.path) in noted  # its note came first
+            answers.append(answer)
+    assert sorted(answer.path for answer in answers) == paths
+    assert [note[1] for note in noted] == paths  # in the order taken
+    crashed = [os.path.basename(a.path) for a in answers if getattr(a, "reason", None) == CRASHED]
+    assert crashed == ["Q_segv.JPG"]
+    assert next(a for a in answers if a.path.endswith("G007.JPG")).focus_mm == pytest.approx(1007)
+
+
+@needs_fork
+def test_an_error_in_the_driving_process_reaches_the_caller(tmp_path):
+    def tasks_of(note):
+        yield (str(tmp_path / "a.JPG"), None)
+        raise ValueError("the walk broke")
+
+    with pytest.raises(ValueError, match="the walk broke"):
+        with ForkedReads(tasks_of, _two_readers(misbehaving_reader), 64) as reads:
+            list(reads.results(lambda notes: None))
+
+
+@needs_fork
+def test_leaving_at_once_stops_the_driving_process_and_its_hanging_workers(tmp_path, written):
+    import time
+
+    folder = tmp_path / "hung"
+    _card(written, folder, 2, [])
+    paths = [str(folder / name) for name in sorted(os.listdir(folder))]
+    with pytest.raises(KeyboardInterrupt):
+        with ForkedReads(_tasks_noting(paths), _two_readers(pid_noting_hang), 64):
+            deadline = time.monotonic() + 30
+            while time.monotonic() < deadline and not all(os.path.exists(f"{path}.pid") for path in paths):
+                time.sleep(0.02)
+            raise KeyboardInterrupt  # as Ctrl-C would, while both workers hang
+    pids = [int(open(f"{path}.pid", encoding="ascii").read()) for path in paths]
+    alive = []
+    for pid in pids:
+        try:
+            os.kill(pid, 0)
+            alive.append(pid)
+        except ProcessLookupError:
+            pass
+    for pid in alive:  # (so that a failure leaves no hanging process holding the test run's output)
+        os.kill(pid, 9)
+    assert len(set(pids)) == 2 and alive == []
 
 
 @READERS

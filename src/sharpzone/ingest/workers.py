@@ -25,7 +25,9 @@ changes.
 from __future__ import annotations
 
 import collections
+import contextlib
 import dataclasses
+import itertools
 import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
 import multiprocessing
 import operator
@@ -76,7 +78,8 @@ def _packed(result):
     return _record_values(result) if type(result) is CaptureRecord else result
 
 
-def _unpacked(answer):
+def unpacked_answer(answer):
+    """A reader's answer as it came across the pipe (``ReaderPool``), as the reader gave it."""
     if type(answer) is not tuple:
         return answer
     record = object.__new__(CaptureRecord)  # as unpickling the dataclass itself would make it
@@ -152,14 +155,30 @@ def _stage_by_stage(job: _Job, tasks: list[Task], at) -> list:
     return results
 
 
+def _start_contained(process) -> None:
+    """Start ``process`` with the stop signals blocked across the fork, so a child that
+    ignores them (``_ignore_stop_signals``) does so before any could reach it; the parent
+    gets any that arrived meanwhile right after."""
+    signal.pthread_sigmask(signal.SIG_BLOCK, _STOP_SIGNALS)
+    try:
+        process.start()
+    finally:
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+
+
+def _ignore_stop_signals() -> None:
+    """In a child started by ``_start_contained``: Ctrl-C and SIGTERM are the parent's to act on."""
+    for number in _STOP_SIGNALS:
+        signal.signal(number, signal.SIG_IGN)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+
+
 def _worker_main(connection, job: _Job, parent_pid: int, at) -> None:
     """A worker's loop: run the job on each batch of tasks sent, keep where it is in ``at``
     (shared memory: the place of the file at work, and the steps taken), and answer with
     the results in order, at most ``answer_batch`` at a time."""
     faulthandler.disable()  # a crash is reported by the parent, in one line
-    for number in _STOP_SIGNALS:
-        signal.signal(number, signal.SIG_IGN)
-    signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+    _ignore_stop_signals()
     try:
         while True:
             if not connection.poll(PARENT_CHECK_S):
@@ -191,13 +210,7 @@ class _Worker:
         self.at = context.RawArray("q", 2)  # where it is (_PLACE, _STEPS)
         self.process = context.Process(target=_worker_main, args=(child_end, job, os.getpid(), self.at),
                                        daemon=True)
-        # Block the stop signals across the fork so the child ignores them before any
-        # could reach it; the parent gets any that arrived meanwhile right after.
-        signal.pthread_sigmask(signal.SIG_BLOCK, _STOP_SIGNALS)
-        try:
-            self.process.start()
-        finally:
-            signal.pthread_sigmask(signal.SIG_UNBLOCK, _STOP_SIGNALS)
+        _start_contained(self.process)
         child_end.close()
         self.queue: collections.deque[Task] = collections.deque()
         self.answered = 0  # files whose answers the parent has received
@@ -293,9 +306,10 @@ class ContainedPool:
         for answers in self._read_lists(tasks, stop=stop):
             yield from answers
 
-    def _read_lists(self, tasks: Iterable[Task], *, stop: threading.Event | None = None
+    def _read_lists(self, tasks: Iterable[Task], *, stop: threading.Event | None = None, unpack: bool = True
                     ) -> Iterator[list]:
-        """``read``, the results in the lists the workers send them in."""
+        """``read``, the results in the lists the workers send them in (``unpack=False``: as
+        they crossed the pipe, for a process that passes them on: see ``ForkedReads``)."""
         tasks = iter(tasks)
         retry: collections.deque[Task] = collections.deque()
         exhausted = False
@@ -337,14 +351,14 @@ class ContainedPool:
                 if id(worker) in handled:
                     continue
                 handled.add(id(worker))
-                yield from self._drain(worker, retry)
+                yield from self._drain(worker, retry, unpack)
             now = time.monotonic()
             for worker in list(self._workers):
                 worker.note_progress(now)
                 if worker.queue and now - worker.head_since > self.time_limit_s:
                     yield from self._replace(worker, timed_out(self.time_limit_s, self._job.doer), retry)
 
-    def _drain(self, worker: _Worker, retry: collections.deque) -> Iterator[list]:
+    def _drain(self, worker: _Worker, retry: collections.deque, unpack: bool = True) -> Iterator[list]:
         """Every answer the worker has sent; if it died, its culprit and a replacement."""
         try:
             while worker.queue and worker.connection.poll():
@@ -352,7 +366,7 @@ class ContainedPool:
                 for _ in answers:
                     worker.queue.popleft()
                 worker.answered += len(answers)
-                yield list(map(self._job.unpacked, answers)) if self._job.unpacked else answers
+                yield list(map(self._job.unpacked, answers)) if unpack and self._job.unpacked else answers
         except (EOFError, OSError):
             pass
         if worker.queue and not worker.process.is_alive():
@@ -433,6 +447,152 @@ class BackgroundReads:
         self.close()
 
 
+class ForkedReads:
+    """A pool's reading driven from a process of its own, forked now (where the platform
+    forks: ``can_fork``), so that the caller's process spends nothing on it: no walk, no
+    hand-out, no waiting on the workers, no interpreter lock shared with a thread that does
+    (the ingest writes in the caller's process, and that is what an ingest waits for).
+
+    In the child, ``tasks_of(note)`` gives the tasks (a generator: the folder walk), and may
+    ``note(item)`` anything the caller must see before the answers to the tasks after it
+    (the walk's events); ``pool_for(head)`` makes the pool, knowing the first ``head_size``
+    tasks (a short run wants fewer workers). Iterate ``results(on_notes)`` for the answers
+    (unpacked with ``unpacked``): the notes arrive, in order, through ``on_notes(items)``
+    before any answer that came after them. Use as a context manager; leaving stops the
+    child and its workers (at once after an error or an interrupt). The child ignores
+    Ctrl-C and SIGTERM as the workers do, stops its workers and leaves when this process
+    goes away, and keeps at most ``READ_AHEAD`` answers waiting for it. ``niceness`` lowers
+    the priority of the child and its workers (``os.nice``) so that, where they compete for
+    the cores, the caller's process comes first.
+    """
+
+    def __init__(self, tasks_of: Callable[[Callable[[object], None]], Iterable[Task]],
+                 pool_for: Callable[[list[Task]], ContainedPool], head_size: int,
+                 unpacked: Callable | None = None, niceness: int = 0) -> None:
+        context = multiprocessing.get_context("fork")
+        self._receive, send = context.Pipe(duplex=False)
+        self._unpacked = unpacked
+        self._finished = False
+        # Not a daemon: a daemon may not start processes of its own (the workers).
+        self._process = context.Process(target=_drive, args=(send, self._receive, tasks_of, pool_for, head_size, niceness),
+                                        name="sharpzone-reads")
+        _start_contained(self._process)
+        send.close()
+
+    def results(self, on_notes: Callable[[list], None]) -> Iterator:
+        unpacked = self._unpacked
+        while not self._finished:
+            try:
+                message = self._receive.recv()
+            except (EOFError, OSError):
+                raise RuntimeError("the process that drives the readers ended unexpectedly") from None
+            if message is None:
+                self._finished = True
+                return
+            if isinstance(message, _Failed):
+                raise message.error
+            notes, answers = message
+            if notes:
+                on_notes(notes)
+            yield from (map(unpacked, answers) if unpacked else answers)
+
+    def close(self, *, at_once: bool = False) -> None:
+        self._receive.close()
+        if at_once or not self._finished:
+            self._process.terminate()  # the child stops its workers at once, then leaves
+            self._process.join(PARENT_CHECK_S)
+            if self._process.is_alive():
+                self._process.kill()
+        self._process.join()
+
+    def __enter__(self) -> ForkedReads:
+        return self
+
+    def __exit__(self, kind, error, traceback) -> None:
+        self.close(at_once=kind is not None)
+
+
+def can_fork() -> bool:
+    """Whether ``ForkedReads`` can run here (the child takes its work as it is, unpickled)."""
+    return "fork" in multiprocessing.get_all_start_methods()
+
+
+class _Stopped(BaseException):
+    """SIGTERM from the caller, in ``ForkedReads``' child: stop the workers at once and leave."""
+
+
+def _raise_stopped(signal_number, frame) -> None:
+    raise _Stopped()
+
+
+def _drive(connection, callers_end, tasks_of, pool_for, head_size: int, niceness: int) -> None:
+    """``ForkedReads``' child: the reading, each list of answers sent with the notes taken
+    before it, by a thread of its own (so the workers are kept fed while the caller is
+    busy), then ``None``; an error is sent as ``_Failed``."""
+    callers_end.close()  # else the pipe would not break when the caller goes away
+    _ignore_stop_signals()
+    if niceness:
+        with contextlib.suppress(AttributeError, OSError):  # (no os.nice, or not allowed: as it is)
+            os.nice(niceness)
+    signal.signal(signal.SIGTERM, _raise_stopped)
+    gone = threading.Event()  # the caller went away (its end of the pipe is closed)
+    outgoing: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
+    sender = threading.Thread(target=_send_all, args=(connection, outgoing, gone), daemon=True)
+    notes: list = []
+
+    def put(item) -> None:
+        while not gone.is_set():
+            try:
+                outgoing.put(item, timeout=STOP_CHECK_S)
+                return
+            except queue.Full:
+                continue
+        raise _Stopped()
+
+    def taken() -> list:
+        items = notes[:]
+        notes.clear()
+        return items
+
+    try:
+        try:
+            with contextlib.ExitStack() as stack:
+                tasks = iter(tasks_of(notes.append))
+                head = list(itertools.islice(tasks, head_size))
+                pool = stack.enter_context(pool_for(head)) if head else None  # left at once on an error
+                if pool is not None:
+                    pool._start_workers()  # forked before the sender starts, as BackgroundReads does
+                sender.start()
+                if pool is not None:
+                    for answers in pool._read_lists(itertools.chain(head, tasks), stop=gone, unpack=False):
+                        put((taken(), answers))
+                    if gone.is_set():
+                        raise _Stopped()
+                put((taken(), []))
+                put(None)
+        except _Stopped:
+            raise
+        except BaseException as error:  # noqa: BLE001 - handed to the caller
+            if sender.ident is None:
+                sender.start()
+            put(_Failed(error))
+        sender.join()
+    except _Stopped:
+        return  # asked to stop, or the caller is gone: without a word
+
+
+def _send_all(connection, outgoing: queue.Queue, gone: threading.Event) -> None:
+    while True:
+        item = outgoing.get()
+        try:
+            connection.send(item)
+        except (OSError, ValueError):  # the caller went away
+            gone.set()
+            return
+        if item is None or isinstance(item, _Failed):
+            return
+
+
 class ReaderPool(ContainedPool):
     """The ingest's pool: ``reader`` is a module-level function ``(path, user_focus_mm) ->
     CaptureRecord | ReadProblem`` (tests pass readers that crash or hang on marker files),
@@ -441,7 +601,7 @@ class ReaderPool(ContainedPool):
     def __init__(self, reader: Reader | tuple[Callable, ...], workers: int, *,
                  time_limit_s: float = TIME_LIMIT_S, depth: int = DEPTH) -> None:
         super().__init__(reader, workers, problem=read_problem, doer=METADATA_READER, time_limit_s=time_limit_s,
-                         depth=depth, packed=_packed, unpacked=_unpacked, final=_is_read_problem)
+                         depth=depth, packed=_packed, unpacked=unpacked_answer, final=_is_read_problem)
 
 
 def _is_read_problem(result) -> bool:
