@@ -22,12 +22,19 @@ def ingest_progress(enabled: bool) -> Iterator:
     if not enabled:
         yield None
         return
-    from rich.progress import (BarColumn, MofNCompleteColumn, Progress, SpinnerColumn, TaskProgressColumn,
-                               TextColumn, TimeRemainingColumn)
+    from rich.progress import (BarColumn, Progress, ProgressColumn, SpinnerColumn, TaskProgressColumn, TextColumn,
+                               TimeRemainingColumn)
+    from rich.text import Text
 
     from sharpzone.report.console import stderr_console
 
-    columns = (SpinnerColumn(), TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+    class DoneOfTotal(ProgressColumn):
+        """Files done of the total, grouped by thousands as every count a person reads."""
+
+        def render(self, task) -> Text:
+            return Text(done_of_total(task.completed, task.total), style="progress.download")
+
+    columns = (SpinnerColumn(), TextColumn("{task.description}"), BarColumn(), DoneOfTotal(),
                TaskProgressColumn(), TextColumn("{task.fields[rate]}"), TimeRemainingColumn())
     with Progress(*columns, console=stderr_console(), transient=True) as bar:
         tasks: dict[str, Any] = {}
@@ -38,9 +45,14 @@ def ingest_progress(enabled: bool) -> Iterator:
                 tasks[stage] = bar.add_task(label, total=total, rate="")
             task = bar.tasks[tasks[stage]]
             speed = task.speed
-            bar.update(tasks[stage], completed=done, total=total, rate=f"{speed:.0f} files/s" if speed else "")
+            bar.update(tasks[stage], completed=done, total=total, rate=f"{speed:,.0f} files/s" if speed else "")
 
         yield update
+
+
+def done_of_total(done: float, total: float | None) -> str:
+    """The progress bar's count: ``12,345/40,000``, or ``12,345/?`` while the total is unknown."""
+    return f"{int(done):,}/{'?' if total is None else f'{int(total):,}'}"
 
 
 def ingest_json(summary: IngestSummary, catalog: str) -> dict[str, Any]:
