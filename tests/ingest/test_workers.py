@@ -70,10 +70,16 @@ def test_through_the_process_that_drives_the_readers_a_crash_or_a_hang_costs_one
     assert result.added == 90
 
 
-def _tasks_noting(paths):
+def _tasks_noting(paths, walk_first: bool = False):
+    """Tasks that note each path before it is handed out; ``walk_first``: every path noted
+    before the first is (as the ingest's walk does beyond its first files)."""
     def tasks_of(note):
+        if walk_first:
+            for path in paths:
+                note(("found", path))
         for path in paths:
-            note(("found", path))
+            if not walk_first:
+                note(("found", path))
             yield (path, None)
     return tasks_of
 
@@ -86,18 +92,26 @@ needs_fork = pytest.mark.skipif(not can_fork(), reason="this platform does not f
 
 
 @needs_fork
-def test_forked_reads_give_every_answer_once_each_after_the_notes_taken_before_it(tmp_path, written):
+@pytest.mark.parametrize(("notes_at_once", "walk_first"), [(4096, False), (4096, True), (7, True)])
+def test_forked_reads_give_every_answer_once_each_after_the_notes_taken_before_it(tmp_path, written, monkeypatch,
+                                                                                   notes_at_once, walk_first):
+    from sharpzone.ingest import workers
+
+    monkeypatch.setattr(workers, "NOTES_AT_ONCE", notes_at_once)  # 7: many notes go in messages of their own
     folder = tmp_path / "noted"
     _card(written, folder, 150, ["Q_segv.JPG"])
     paths = [str(folder / name) for name in sorted(os.listdir(folder))]
     noted: list = []
-    with ForkedReads(_tasks_noting(paths), _two_readers(misbehaving_reader), 64, unpacked=unpacked_answer) as reads:
+    messages = []
+    with ForkedReads(_tasks_noting(paths, walk_first), _two_readers(misbehaving_reader), 64,
+                     unpacked=unpacked_answer) as reads:
         answers = []
-        for answer in reads.results(noted.extend):
+        for answer in reads.results(lambda notes: (messages.append(len(notes)), noted.extend(notes))):
             assert ("found", answer.path) in noted  # its note came first
             answers.append(answer)
     assert sorted(answer.path for answer in answers) == paths
     assert [note[1] for note in noted] == paths  # in the order taken
+    assert max(messages) <= notes_at_once
     crashed = [os.path.basename(a.path) for a in answers if getattr(a, "reason", None) == CRASHED]
     assert crashed == ["Q_segv.JPG"]
     assert next(a for a in answers if a.path.endswith("G007.JPG")).focus_mm == pytest.approx(1007)

@@ -20,6 +20,10 @@ second hangs waiting for the lost task.)
 Workers ignore Ctrl-C and SIGTERM (the parent decides when they stop), and leave quietly
 when the parent goes away, even by SIGKILL: their pipe closes, or their parent process id
 changes.
+
+Who drives a pool (hands out the tasks, takes the answers, replaces the dead): the caller
+(``ContainedPool.read``), a thread of the caller's (``BackgroundReads``), or a process
+forked for it (``ForkedReads``, for a caller whose own time is what everyone waits for).
 """
 
 from __future__ import annotations
@@ -57,6 +61,9 @@ STOP_CHECK_S = 0.1
 # Results read ahead of the consumer at most (memory stays flat however slow it is): about
 # what two workers read while an ingest opens its catalogue, a few MB.
 READ_AHEAD = 4096
+# Notes (``ForkedReads``) sent at once at most: a walk of a million files noted in one go
+# goes across in messages of a few hundred kB, not in one of tens of MB.
+NOTES_AT_ONCE = 4096
 METADATA_READER = "the metadata reader"
 PICTURE_DECODER = "the picture decoder"
 
@@ -549,10 +556,14 @@ def _drive(connection, callers_end, tasks_of, pool_for, head_size: int, niceness
                 continue
         raise _Stopped()
 
-    def taken() -> list:
-        items = notes[:]
+    def put_with_notes(answers: list) -> None:
+        """``answers``, after the notes taken before them (in messages of their own while
+        there are more than ``NOTES_AT_ONCE``)."""
+        while len(notes) > NOTES_AT_ONCE:
+            put((notes[:NOTES_AT_ONCE], []))
+            del notes[:NOTES_AT_ONCE]
+        put((notes[:], answers))
         notes.clear()
-        return items
 
     try:
         try:
@@ -565,10 +576,10 @@ def _drive(connection, callers_end, tasks_of, pool_for, head_size: int, niceness
                 sender.start()
                 if pool is not None:
                     for answers in pool._read_lists(itertools.chain(head, tasks), stop=gone, unpack=False):
-                        put((taken(), answers))
+                        put_with_notes(answers)
                     if gone.is_set():
                         raise _Stopped()
-                put((taken(), []))
+                put_with_notes([])
                 put(None)
         except _Stopped:
             raise
