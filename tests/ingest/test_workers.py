@@ -117,13 +117,22 @@ def test_forked_reads_give_every_answer_once_each_after_the_notes_taken_before_i
     assert next(a for a in answers if a.path.endswith("G007.JPG")).focus_mm == pytest.approx(1007)
 
 
+class _Unpicklable(ValueError):
+    def __reduce__(self):
+        raise TypeError("this error does not cross between processes")
+
+
 @needs_fork
-def test_an_error_in_the_driving_process_reaches_the_caller(tmp_path):
+@pytest.mark.parametrize(("error", "expected", "words"), [
+    (ValueError("the walk broke"), ValueError, "the walk broke"),
+    (_Unpicklable("the walk broke"), RuntimeError, r"drives the readers failed \(_Unpicklable: the walk broke\)"),
+], ids=["as raised", "in words"])
+def test_an_error_in_the_driving_process_reaches_the_caller(tmp_path, error, expected, words):
     def tasks_of(note):
         yield (str(tmp_path / "a.JPG"), None)
-        raise ValueError("the walk broke")
+        raise error
 
-    with pytest.raises(ValueError, match="the walk broke"):
+    with pytest.raises(expected, match=words):
         with ForkedReads(tasks_of, _two_readers(misbehaving_reader), 64) as reads:
             list(reads.results(lambda notes: None))
 

@@ -481,8 +481,8 @@ class ForkedReads:
         self._unpacked = unpacked
         self._finished = False
         # Not a daemon: a daemon may not start processes of its own (the workers).
-        self._process = context.Process(target=_drive, args=(send, self._receive, tasks_of, pool_for, head_size, niceness),
-                                        name="sharpzone-reads")
+        self._process = context.Process(target=_drive, name="sharpzone-reads",
+                                        args=(send, self._receive, tasks_of, pool_for, head_size, niceness))
         _start_contained(self._process)
         send.close()
 
@@ -593,11 +593,21 @@ def _drive(connection, callers_end, tasks_of, pool_for, head_size: int, niceness
 
 
 def _send_all(connection, outgoing: queue.Queue, gone: threading.Event) -> None:
+    """``ForkedReads``' child: send each message in turn, up to the last (``None`` or a
+    failure). A message that cannot be pickled (it is pickled whole before a byte is
+    written) ends the reading with a failure that can."""
     while True:
         item = outgoing.get()
         try:
             connection.send(item)
         except (OSError, ValueError):  # the caller went away
+            gone.set()
+            return
+        except Exception as error:  # noqa: BLE001 - told to the caller in words
+            failure = item.error if isinstance(item, _Failed) else error
+            with contextlib.suppress(Exception):
+                connection.send(_Failed(RuntimeError(
+                    f"the process that drives the readers failed ({type(failure).__name__}: {failure})")))
             gone.set()
             return
         if item is None or isinstance(item, _Failed):
