@@ -148,3 +148,34 @@ def test_a_rows_values_are_those_pandas_gives():
         got, expected = _column_values(column, positions), column.iloc[positions].tolist()
         assert [type(value) for value in got] == [type(value) for value in expected]
         assert [repr(value) for value in got] == [repr(value) for value in expected]
+
+
+@pytest.mark.parametrize("form", [".0f", ".0%", ".1f"])
+def test_values_are_keyed_together_exactly_when_format_prints_them_the_same(form):
+    """``_key_codes`` finds equal prints of whole-number forms by rounding first: rows get
+    one number exactly when Python's own ``format`` (what the words print) prints them the
+    same, ties, signed zeros, infinity and NaN included."""
+    import numpy as np
+    import pandas as pd
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    from sharpzone.report.verdicts import _key_codes
+
+    special = [0.5, 1.5, 2.5, -0.5, -0.4, 0.005, 0.015, 0.125, 0.285, 0.575, 0.995, 1e300, 5e-324, -0.0, 0.0,
+               math.inf, -math.inf, math.nan]
+
+    @settings(max_examples=300, deadline=None)
+    @given(st.lists(st.one_of(st.sampled_from(special), st.floats(-100, 100), st.floats(width=64)), min_size=1,
+                    max_size=40))
+    def check(values):
+        frames = pd.DataFrame({"share": values})
+        positions = np.arange(len(values))
+        codes, size = _key_codes(frames, "share", form, positions, False,
+                                 lambda name: frames[name].to_numpy(dtype=float))
+        printed = [None if value != value else format(value, form) for value in values]
+        assert size == len(set(printed))
+        for a, b in itertools.combinations(range(len(values)), 2):
+            assert (codes[a] == codes[b]) == (printed[a] == printed[b]), (values[a], values[b])
+
+    check()

@@ -156,10 +156,18 @@ FLAG_INPUTS: dict[str, tuple[tuple[str, str | None], ...] | None] = {
 DERIVED_INPUTS = {"focus_bracketed": ("focus_nearest_mm", "focus_farthest_mm")}
 
 
+# Formats that print a whole number, as (the factor applied first, what follows the number):
+# ``format(x, ".0%")`` is ``format(x * 100, ".0f") + "%"`` (CPython multiplies in double, as
+# numpy does), and rounding to a whole number half to even, as ``np.round`` and ``format`` both
+# do it, gives what the format prints, so equal prints are found without printing every value.
+_WHOLE_FORMS = {".0f": (1.0, ""), ".0%": (100.0, "%")}
+
+
 def _key_codes(frames, name: str, form: str | None, positions, imperial: bool, floats) -> tuple[np.ndarray, int]:
     """A column's values at ``positions`` as the words show them (see ``FLAG_INPUTS``) as
-    numbers, equal values (==; unknown, NaN or None, one value) one number, and how many
-    numbers there are; ``floats(name)`` gives a column as floats."""
+    numbers, and how many numbers there are: with a form, values printed the same are one
+    number; without, equal values (==; unknown, NaN or None, one value). ``floats(name)``
+    gives a column as floats."""
     import pandas as pd
 
     if name == "focus_bracketed":
@@ -171,11 +179,20 @@ def _key_codes(frames, name: str, form: str | None, positions, imperial: bool, f
         return np.zeros(len(positions), dtype=np.int64), 1
     if form is not None:
         values = floats(name)[positions]
-        distinct, inverse = np.unique(values, return_inverse=True)
+        suffix = ""
+        if form in _WHOLE_FORMS:  # rounded as printed first: a format per number printed, not per value
+            scale, suffix = _WHOLE_FORMS[form]
+            with np.errstate(over="ignore"):  # (beyond 1e306 a share prints "inf%" either way)
+                values, form = np.round(values * scale), ".0f"
+        # Distinct by their bits, so that -0.0 and 0.0 (which print apart) stay apart; equal
+        # prints are then one number by the prints themselves.
+        distinct, inverse = np.unique(np.ascontiguousarray(values, dtype=np.float64).view(np.int64),
+                                      return_inverse=True)
+        distinct = distinct.view(np.float64)
         if form == "distance":
             shown = [format_distance(value, imperial=imperial) for value in distinct.tolist()]
         else:
-            shown = [None if value != value else format(value, form) for value in distinct.tolist()]
+            shown = [None if value != value else format(value, form) + suffix for value in distinct.tolist()]
         codes, said = pd.factorize(np.asarray(shown, dtype=object), use_na_sentinel=False)
         return codes[inverse.reshape(-1)], len(said)
     codes, said = pd.factorize(frames[name].to_numpy()[positions], use_na_sentinel=False)
