@@ -186,6 +186,30 @@ def test_a_new_verdict_code_and_the_measured_blur_and_bracket_appear_without_edi
     assert "could be 2.80 m – 3.30 m" in text and 'class="bracket"' in text
 
 
+def test_the_summary_counts_every_verdict_carried_also_beside_a_worse_one(shoot):
+    """A frame too wide open and past diffraction is listed under too wide open only; the
+    summary still says one frame is past diffraction (as check's summary does), with no
+    group to link to and none listed under it."""
+    from sharpzone.analysis.frames import FrameFilter, frames_with_zones
+    from sharpzone.catalog.engine import session_scope
+
+    with session_scope(shoot.catalog_url) as session:
+        check = frames_with_zones(session, FrameFilter(shoot=SHOOT))
+    frames = check.frames.copy()
+    wide = frames["path"].str.endswith("wide-a.jpg").to_numpy()
+    frames["flags"] = [["too-wide-open", "past-diffraction"] if w else flags for w, flags in zip(wide, frames["flags"])]
+    text = render_page(report_from_check(type(check)(frames, check.requirement, check.coc_policy), title="t", jobs=1))
+    summary = text[text.index("<caption>By verdict</caption>"):text.index("<caption>By lens</caption>")]
+    rows = re.findall(r'<tr class="k-[a-z]+"><td>.*?</td></tr>', summary)
+    words = [re.sub(r"<[^>]+>|\s+", " ", row.split('<td class="num">')[0]).strip().lower() for row in rows]
+    cells = {word: re.findall(r'<td class="num">([^<]*)</td>', row) for word, row in zip(words, rows)}
+    wide_open = next(word for word in words if "wide open" in word)
+    diffraction = next(word for word in words if "diffraction" in word)
+    assert cells[wide_open] == ["2", "2"] and cells[diffraction] == ["1", "0"]  # carried, listed under it
+    assert words.index(wide_open) < words.index(diffraction)  # in the page's order, worst first
+    assert 'href="#g-too-wide-open"' in summary and 'href="#g-past-diffraction"' not in summary
+
+
 def test_verdict_order_and_primary_verdict():
     assert primary_verdict([]) == "passed"
     assert primary_verdict(["past-diffraction", "too-wide-open"]) == "too-wide-open"

@@ -19,7 +19,7 @@ from html import escape
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from sharpzone.analysis.report_page import PASSED, primary_verdict, verdict_kind
+from sharpzone.analysis.report_page import PASSED, primary_verdict, verdict_kind, verdict_rank
 from sharpzone.errors import InvalidValue, SharpzoneError
 from sharpzone.report.frames_render import _plans_line, _zone_text
 from sharpzone.report.verdicts import describe_flag, flag_word, format_exposure
@@ -170,13 +170,17 @@ def _summary(data: ReportData) -> str:
     check = data.check
     counts = _verdict_counts(check.frames)
     listed = {verdict: len(positions) for verdict, positions in data.groups}
+    # Every verdict the frames carry, as check's summary counts them: a frame is listed once,
+    # under its worst, so one carried only beside a worse one has no group to link to.
+    carried_only = [flag for flag in counts if flag not in ("frames", "passed") and flag not in listed]
     verdict_rows = []
-    for verdict, _ in data.groups:
+    for verdict in sorted([*listed, *carried_only], key=lambda flag: (verdict_rank(flag), flag)):
         carried = counts.get("passed") if verdict == PASSED else counts.get(verdict, 0)
+        name = _text(flag_word(verdict))
+        label = f'<a href="#g-{_text(verdict)}">{name}</a>' if verdict in listed else name
         verdict_rows.append(
-            f'<tr class="k-{verdict_kind(verdict)}"><td>{_icon(verdict)} <a href="#g-{_text(verdict)}">'
-            f'{_text(flag_word(verdict))}</a></td><td class="num">{carried:,}</td>'
-            f'<td class="num">{listed[verdict]:,}</td></tr>')
+            f'<tr class="k-{verdict_kind(verdict)}"><td>{_icon(verdict)} {label}</td><td class="num">{carried:,}</td>'
+            f'<td class="num">{listed.get(verdict, 0):,}</td></tr>')
     lens_rows = "".join(
         f'<tr><td>{_text(item["lens"])}</td><td class="num">{item["frames"]:,}</td>'
         f'<td class="num">{item["flagged"]:,}</td>'
@@ -188,8 +192,9 @@ def _summary(data: ReportData) -> str:
             '<table><caption>By lens</caption><thead><tr><th>Lens</th><th class="num">Frames</th>'
             '<th class="num">Flagged</th><th class="num">Share flagged</th></tr></thead>'
             f'<tbody>{lens_rows}</tbody></table>'
-            '<p class="note">Share flagged: of the frames that could be judged (passed, flagged or '
-            'uncertain), as in <code>check</code> and <code>stats</code>.</p></div>')
+            '<p class="note">Each frame is listed once, under its worst verdict; "Frames with it" also counts '
+            'the frames listed under a worse one. Share flagged: of the frames that could be judged (passed, '
+            'flagged or uncertain), as in <code>check</code> and <code>stats</code>.</p></div>')
 
 
 def _legend(scale: DistanceScale, ticks: list[float], imperial: bool) -> str:
