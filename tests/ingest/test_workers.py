@@ -220,6 +220,56 @@ def test_a_record_read_in_a_worker_arrives_as_it_was_read(tmp_path, written, sta
     assert arrived[str(folder / "G001.JPG")].focus_source == "user"
 
 
+def test_a_first_ingest_through_its_own_reading_process_files_what_the_thread_files(tmp_path, written):
+    """Files shaped as cameras write them (maker-note brackets written by libexiv2, a raw
+    container, a raw file carrying only an embedded JPEG, a directory that loops, damaged and
+    empty files, a contradictory distance): the frames and problems a first ingest files
+    through the process that drives its readers (``pipeline._EarlyReads``, the catalogue
+    given by its place) are, column for column, those it files with the catalogue open
+    first, whose readers a thread drives."""
+    from sharpzone.catalog.location import sqlite_url
+    from sharpzone.ingest import pipeline
+
+    folder = tmp_path / "camera"
+    written("canon.JPG", makernotes.makernote_jpeg(makernotes.CANON, {
+        "Exif.CanonFi.FocusDistanceUpper": "250", "Exif.CanonFi.FocusDistanceLower": "240"}), folder)
+    written("nikon.JPG", makernotes.makernote_jpeg(makernotes.NIKON, makernotes.nikon_lens_data("0204", 80)), folder)
+    written("contradicts.JPG", makernotes.makernote_jpeg(makernotes.CANON, {
+        "Exif.CanonFi.FocusDistanceUpper": "900", "Exif.CanonFi.FocusDistanceLower": "880"},
+        exif=exif_block(subject_distance=(1500, 1000))), folder)
+    written("raw.CR3", makernotes.cr3(220, 200), folder)
+    written("embedded.NEF", raw_with_embedded_jpeg(jpeg(exif_block(subject_distance=(3000, 1000)))), folder)
+    written("loop.TIF", tiff_with_ifd_loop(), folder)
+    written("broken.JPG", b"\xff\xd8\xff\xe1\x00\x10Exif\x00\x00II*\x00", folder)
+    written("empty.JPG", b"", folder)
+    _card(written, folder, 70, [])  # enough files for two readers
+
+    early = []
+    original = pipeline._EarlyReads.hand_over
+    pipeline._EarlyReads.hand_over = lambda self, plan: (early.append(plan), original(self, plan))[1]
+    try:
+        forked = ingest_paths(str(tmp_path / "forked.sqlite"), [folder], shoot="Card", jobs=2)
+    finally:
+        pipeline._EarlyReads.hand_over = original
+    with open_catalog(sqlite_url(tmp_path / "thread.sqlite")) as catalog:
+        threaded = ingest_paths(catalog, [folder], shoot="Card", jobs=2)
+    assert len(early) == 1
+    assert (forked.added, sorted(forked.failed), forked.warnings, forked.registered) == (
+        threaded.added, sorted(threaded.failed), threaded.warnings, threaded.registered)
+
+    def filed(name):
+        skip = {"id", "shoot_id", "body_id", "lens_id"}
+        with session_scope(sqlite_url(tmp_path / name)) as session:
+            frames = sorted(({key: value for key, value in vars(frame).items()
+                              if not key.startswith("_") and key not in skip} for frame in session.query(Frame)),
+                            key=lambda frame: frame["path"])
+            problems = sorted((problem.path, problem.reason) for problem in session.query(IngestProblem))
+        return frames, problems
+
+    assert filed("forked.sqlite") == filed("thread.sqlite")
+    assert forked.added == 76 and len(forked.failed) == 2
+
+
 def test_the_ingest_reads_in_every_stage_of_read_capture():
     from sharpzone.ingest.capture import STAGES
     from sharpzone.ingest.pipeline import READER

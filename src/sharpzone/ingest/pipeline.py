@@ -757,6 +757,14 @@ class _ReadPlan:
         """The walk has found every file: the total to read is known."""
         self.total_to_read = self.to_read
 
+    def note_walked(self, events: list) -> None:
+        """Events of a walk made elsewhere (``_EarlyReads``), in order; ``None`` is its end."""
+        for event in events:
+            if event is None:
+                self.walk_over()
+            else:
+                self.consider(event)
+
 
 def _walked_ahead(events: Iterable, task_of: Callable[[object], tuple | None], walked: Callable[[], None]
                   ) -> Iterator[tuple]:
@@ -794,20 +802,10 @@ class _EarlyReads:
         self._reads = ForkedReads(functools.partial(_walked_tasks, roots, user_distances),
                                   functools.partial(_pool_for, jobs=jobs, reader=reader, time_limit_s=time_limit_s),
                                   POOL_THRESHOLD, unpacked=unpacked_answer, niceness=READERS_NICENESS)
-        self._plan: _ReadPlan | None = None
 
     def hand_over(self, plan: _ReadPlan) -> Iterator[CaptureRecord | ReadProblem]:
         """The results, in any order, with ``plan`` noting the walk's events as they come."""
-        self._plan = plan
-        return self._reads.results(self._note)
-
-    def _note(self, events: list) -> None:
-        plan = self._plan
-        for event in events:
-            if event is _WALKED:
-                plan.walk_over()
-            else:
-                plan.consider(event)
+        return self._reads.results(plan.note_walked)
 
     def __enter__(self) -> _EarlyReads:
         return self
@@ -816,25 +814,16 @@ class _EarlyReads:
         self._reads.__exit__(*exc_info)
 
 
-class _WalkEnd:
-    """The walk's end, among its events; crosses between processes as itself."""
-
-    def __reduce__(self) -> str:
-        return "_WALKED"
-
-
-_WALKED = _WalkEnd()
-
-
 def _walked_tasks(roots: list[str], user_distances: dict[str, float], note: Callable[[object], None]
                   ) -> Iterator[tuple[str, float | None]]:
-    """In ``_EarlyReads``' process: every event of the walk noted (then its end), and a task
-    (path, user distance) for each file found, handed out as ``_walked_ahead`` hands them."""
+    """In ``_EarlyReads``' process: every event of the walk noted (then ``None``, its end),
+    and a task (path, user distance) for each file found, handed out as ``_walked_ahead``
+    hands them."""
     def task_of(event) -> tuple[str, float | None] | None:
         note(event)
         return (event.path, _user_distance(user_distances, event.path)) if isinstance(event, CandidateFile) else None
 
-    return _walked_ahead(iter_scan(roots, sniff=False), task_of, lambda: note(_WALKED))
+    return _walked_ahead(iter_scan(roots, sniff=False), task_of, lambda: note(None))
 
 
 def _user_distance(user_distances: dict[str, float], path: str) -> float | None:

@@ -31,8 +31,8 @@ from __future__ import annotations
 import collections
 import contextlib
 import dataclasses
-import itertools
 import faulthandler  # imported here, not in a worker: a fork may come while another thread imports
+import itertools
 import multiprocessing
 import operator
 import os
@@ -395,6 +395,23 @@ class ContainedPool:
         yield [self._job.problem(culprit, reason)]
 
 
+def _waiting_lists() -> queue.Queue:
+    """The queue the lists of answers wait in for the caller: ``READ_AHEAD`` answers at most,
+    so memory stays flat however long the caller is away."""
+    return queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
+
+
+def _put_unless(waiting: queue.Queue, item, stop: threading.Event) -> bool:
+    """Put ``item`` in ``waiting`` as soon as there is room; ``False`` if ``stop`` is set first."""
+    while not stop.is_set():
+        try:
+            waiting.put(item, timeout=STOP_CHECK_S)
+            return True
+        except queue.Full:
+            continue
+    return False
+
+
 class BackgroundReads:
     """``pool.read(tasks)`` started at once and driven by a thread of its own: the workers
     read while the caller does other work (opens the catalogue, writes a batch). Iterate for
@@ -404,7 +421,7 @@ class BackgroundReads:
 
     def __init__(self, pool: ContainedPool, tasks: Iterable[Task]) -> None:
         # Answers go across in the lists they came in: one hand-over per list, not per file.
-        self._results: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
+        self._results = _waiting_lists()
         self._stop = threading.Event()
         self._finished = False
         # The workers are forked here, before the thread starts: a fork while another thread
@@ -416,13 +433,7 @@ class BackgroundReads:
         self._thread.start()
 
     def _put(self, item) -> bool:
-        while not self._stop.is_set():
-            try:
-                self._results.put(item, timeout=STOP_CHECK_S)
-                return True
-            except queue.Full:
-                continue
-        return False
+        return _put_unless(self._results, item, self._stop)
 
     def _run(self, pool: ContainedPool, tasks: Iterable[Task]) -> None:
         try:
@@ -543,18 +554,13 @@ def _drive(connection, callers_end, tasks_of, pool_for, head_size: int, niceness
             os.nice(niceness)
     signal.signal(signal.SIGTERM, _raise_stopped)
     gone = threading.Event()  # the caller went away (its end of the pipe is closed)
-    outgoing: queue.Queue = queue.Queue(maxsize=max(1, READ_AHEAD // RESULT_BATCH))
+    outgoing = _waiting_lists()
     sender = threading.Thread(target=_send_all, args=(connection, outgoing, gone), daemon=True)
     notes: list = []
 
     def put(item) -> None:
-        while not gone.is_set():
-            try:
-                outgoing.put(item, timeout=STOP_CHECK_S)
-                return
-            except queue.Full:
-                continue
-        raise _Stopped()
+        if not _put_unless(outgoing, item, gone):
+            raise _Stopped()
 
     def put_with_notes(answers: list) -> None:
         """``answers``, after the notes taken before them (in messages of their own while

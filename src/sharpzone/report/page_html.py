@@ -172,7 +172,7 @@ def _summary(data: ReportData) -> str:
     listed = {verdict: len(positions) for verdict, positions in data.groups}
     # Every verdict the frames carry, as check's summary counts them: a frame is listed once,
     # under its worst, so one carried only beside a worse one has no group to link to.
-    carried_only = [flag for flag in counts if flag not in ("frames", "passed") and flag not in listed]
+    carried_only = [flag for flag in counts if flag not in ("frames", PASSED) and flag not in listed]
     verdict_rows = []
     for verdict in sorted([*listed, *carried_only], key=lambda flag: (verdict_rank(flag), flag)):
         carried = counts.get("passed") if verdict == PASSED else counts.get(verdict, 0)
